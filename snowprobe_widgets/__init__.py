@@ -1,0 +1,12 @@
+"""snowprobe_widgets: radar-search planning and training for avalanche burials.
+
+The model layer (materials, layered media, pulses, traces, scenes, processing) is pure
+numpy/scipy and imports no user-interface library; the widget layer lives in
+``snowprobe_widgets.widgets``.
+"""
+
+from __future__ import annotations
+
+__version__ = "0.1.0"
+
+__all__ = ["__version__"]
