@@ -1,0 +1,560 @@
+"""The survey scenario: the scene, the radar, the survey line and the debris clutter.
+
+A :class:`Scenario` is a frozen, hashable value object validated on construction (its own
+fields and their consistency: every buried thing lies inside the snow and near the line),
+so ``dataclasses.replace`` works at every level and re-checks the result. The physical
+scene objects (:class:`Layer`, :class:`Snowpack`, :class:`Ground`, :class:`Person`,
+:class:`Boulder`, :class:`Branch`, :class:`MetalPlate`) live in
+:mod:`snowprobe_widgets.scene_objects` and are re-exported here.
+
+Coordinates: ``x`` along the survey line (``position_m``), ``y`` across it
+(``offset_m``), ``z`` depth below the snow surface, positive down; SI units throughout.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from ._validate import check_choice, check_range
+from .scene_objects import (
+    Boulder,
+    Branch,
+    DebrisObject,
+    Ground,
+    Layer,
+    MetalPlate,
+    Person,
+    Snowpack,
+)
+
+__all__ = [
+    "Layer",
+    "Snowpack",
+    "Ground",
+    "Person",
+    "Boulder",
+    "Branch",
+    "MetalPlate",
+    "DebrisObject",
+    "Radar",
+    "Survey",
+    "Clutter",
+    "ClutterField",
+    "Scenario",
+]
+
+_MAX_TRACES = 20_000
+_SAMPLES = (64, 8192)
+_MAX_PERSONS = 50
+_MAX_OBJECTS = 1000
+_MAX_SCATTERERS = 100_000
+#: Buried things must lie within this distance of the survey line (along and across), m.
+_LINE_MARGIN_M = 5.0
+#: Half-width of the strip around the line that the clutter fills, m.
+_CLUTTER_HALF_WIDTH_M = 1.0
+#: Thickness range of the clutter's thin random layers, m (invented demo figures).
+_THIN_LAYER_M = (0.01, 0.05)
+_DEPTH_TOL_M = 1e-9
+
+
+def _set(obj: object, name: str, value: Any) -> None:
+    object.__setattr__(obj, name, value)
+
+
+def _check_int(name: str, value: object, low: int, high: int) -> int:
+    """Return ``value`` as an int in ``[low, high]``; integral floats are accepted."""
+    if isinstance(value, (bool, np.bool_)):
+        raise ValueError(f"{name} must be a whole number, got {value!r}")
+    if isinstance(value, (int, np.integer)):
+        n = int(value)
+    elif isinstance(value, (float, np.floating)) and math.isfinite(value) and value == int(value):
+        n = int(value)
+    else:
+        raise ValueError(f"{name} must be a whole number, got {value!r}")
+    if not low <= n <= high:
+        raise ValueError(f"{name} = {n} is outside the allowed range [{low}, {high}]")
+    return n
+
+
+def _check_text(name: str, value: object, max_len: int) -> str:
+    if not isinstance(value, str):
+        raise ValueError(f"{name} must be a string, got {value!r}")
+    if len(value) > max_len:
+        raise ValueError(f"{name} is {len(value)} characters long; at most {max_len} allowed")
+    return value
+
+
+def _frozen(x: Any) -> np.ndarray:
+    a = np.array(x, dtype=float, copy=True)
+    a.setflags(write=False)
+    return a
+
+
+# --------------------------------------------------------------------------- radar
+
+
+@dataclass(frozen=True)
+class Radar:
+    """The radar system: pulse, power, noise, sampling, antenna.
+
+    Parameters
+    ----------
+    pulse : str
+        Pulse-shape key of :func:`snowprobe_widgets.pulses.pulse_names` ("ricker", ...).
+    center_frequency_hz : float
+        Centre frequency, Hz, in [50 MHz, 3 GHz].
+    bandwidth_hz : float or None
+        Bandwidth, Hz, for pulses that take one; ``None`` uses the pulse's natural band.
+    transmit_power_dbm : float
+        Transmitted power, dBm, in [-30, 60].
+    noise_floor_dbm : float
+        RMS receiver noise of one raw (unstacked) trace, dBm, in [-200, 0]; below the
+        transmit power.
+    stacking : int
+        Number of raw traces averaged per recorded trace, in [1, 65536].
+    antenna_gain_dbi : float
+        Antenna gain, dBi, in [-10, 30].
+    dt_s : float
+        Sampling interval, s, in [1 ps, 10 ns]; at most 1/(2 f_high) of the pulse band.
+    time_window_s : float
+        Recording window, s; ``round(time_window_s / dt_s)`` samples, 64 to 8192.
+    antenna_height_m : float
+        Antenna height above the snow surface, m, in [0, 30] (ground-coupled to drone).
+    beamwidth_deg : float
+        Full -3 dB beamwidth in air, deg, in [5, 180].
+    """
+
+    pulse: str = "ricker"
+    center_frequency_hz: float = 800e6
+    bandwidth_hz: float | None = None
+    transmit_power_dbm: float = 20.0
+    noise_floor_dbm: float = -80.0
+    stacking: int = 16
+    antenna_gain_dbi: float = 6.0
+    dt_s: float = 1e-10
+    time_window_s: float = 51.2e-9
+    antenna_height_m: float = 0.5
+    beamwidth_deg: float = 60.0
+
+    def __post_init__(self) -> None:
+        from . import pulses
+
+        if not isinstance(self.pulse, str):
+            raise ValueError(f"pulse must be a pulse name (a string), got {self.pulse!r}")
+        check_choice("pulse", self.pulse, tuple(pulses.pulse_names()))
+        _set(self, "center_frequency_hz", check_range(
+            "center_frequency_hz", self.center_frequency_hz, 50e6, 3e9, unit="Hz"))
+        if self.bandwidth_hz is not None:
+            _set(self, "bandwidth_hz", check_range(
+                "bandwidth_hz", self.bandwidth_hz, 0.0, 6e9, unit="Hz", low_open=True))
+        _set(self, "transmit_power_dbm", check_range(
+            "transmit_power_dbm", self.transmit_power_dbm, -30.0, 60.0, unit="dBm"))
+        _set(self, "noise_floor_dbm", check_range(
+            "noise_floor_dbm", self.noise_floor_dbm, -200.0, min(0.0, self.transmit_power_dbm),
+            unit="dBm", high_open=self.transmit_power_dbm <= 0.0))
+        _set(self, "stacking", _check_int("stacking", self.stacking, 1, 65536))
+        _set(self, "antenna_gain_dbi", check_range(
+            "antenna_gain_dbi", self.antenna_gain_dbi, -10.0, 30.0, unit="dBi"))
+        _set(self, "dt_s", check_range("dt_s", self.dt_s, 1e-12, 1e-8, unit="s"))
+        _set(self, "time_window_s", check_range(
+            "time_window_s", self.time_window_s, 0.0, 1e-5, unit="s", low_open=True))
+        lo, hi = _SAMPLES
+        n = self.n_samples
+        if not lo <= n <= hi:
+            raise ValueError(
+                f"time_window_s = {self.time_window_s:g} s at dt_s = {self.dt_s:g} s gives "
+                f"{n} samples; allowed range [{lo}, {hi}] samples")
+        _set(self, "antenna_height_m", check_range(
+            "antenna_height_m", self.antenna_height_m, 0.0, 30.0, unit="m"))
+        _set(self, "beamwidth_deg",
+             check_range("beamwidth_deg", self.beamwidth_deg, 5.0, 180.0, unit="deg"))
+        f_high = _band_high_hz(self.make_pulse())
+        if self.dt_s > 1.0 / (2.0 * f_high) * (1 + 1e-9):
+            raise ValueError(
+                f"dt_s = {self.dt_s:g} s is too coarse for the pulse: its band reaches "
+                f"{f_high:g} Hz, so the Nyquist limit needs dt_s <= 1/(2 f_high) = "
+                f"{1.0 / (2.0 * f_high):g} s")
+
+    @property
+    def n_samples(self) -> int:
+        """Samples per trace, ``round(time_window_s / dt_s)``."""
+        return int(round(self.time_window_s / self.dt_s))
+
+    @property
+    def time_s(self) -> np.ndarray:
+        """Two-way travel time of each sample, s, shape (n_samples,), from 0."""
+        return np.arange(self.n_samples) * self.dt_s
+
+    @property
+    def system_performance_db(self) -> float:
+        """Transmit power over the stacked noise floor, dB:
+        ``transmit_power_dbm - noise_floor_dbm + 10 log10(stacking)`` (stacking N traces
+        lowers uncorrelated noise power N-fold; common practice)."""
+        return float(self.transmit_power_dbm - self.noise_floor_dbm
+                     + 10.0 * math.log10(self.stacking))
+
+    def make_pulse(self) -> Any:
+        """The transmitted pulse (``pulses.make_pulse(pulse, center_frequency_hz,
+        bandwidth_hz)``)."""
+        from . import pulses
+
+        return pulses.make_pulse(self.pulse, self.center_frequency_hz, self.bandwidth_hz)
+
+
+def _band_high_hz(pulse: Any) -> float:
+    """Upper edge of the pulse's band, Hz, as the pulse object states it."""
+    return float(pulse.band_hz[1])
+
+
+# --------------------------------------------------------------------------- survey
+
+
+@dataclass(frozen=True)
+class Survey:
+    """A straight survey line with evenly spaced traces.
+
+    Parameters
+    ----------
+    start_m, end_m : float
+        Along-line coordinates of the first and last trace, m, in [-10 km, 10 km],
+        ``end_m > start_m``.
+    trace_spacing_m : float
+        Distance between traces, m, in [1 mm, 100 m]; at most 20,000 traces in all.
+    """
+
+    start_m: float = 0.0
+    end_m: float = 10.0
+    trace_spacing_m: float = 0.05
+
+    def __post_init__(self) -> None:
+        _set(self, "start_m", check_range("start_m", self.start_m, -1e4, 1e4, unit="m"))
+        _set(self, "end_m", check_range(
+            "end_m", self.end_m, self.start_m, 1e4, unit="m", low_open=True))
+        _set(self, "trace_spacing_m",
+             check_range("trace_spacing_m", self.trace_spacing_m, 1e-3, 100.0, unit="m"))
+        n = self.n_traces
+        if n > _MAX_TRACES:
+            raise ValueError(
+                f"a {self.length_m:g} m line at trace_spacing_m = {self.trace_spacing_m:g} m "
+                f"has {n} traces; at most {_MAX_TRACES} allowed (shorten the line or widen "
+                "the spacing)")
+
+    @classmethod
+    def from_speed(
+        cls, start_m: float, end_m: float, speed_m_s: float, trace_rate_hz: float
+    ) -> Survey:
+        """A survey from the platform speed and the trace rate: spacing = speed / rate.
+
+        Parameters
+        ----------
+        speed_m_s : float
+            Platform speed along the line, m/s, in (0, 100].
+        trace_rate_hz : float
+            Recorded traces per second, Hz, in (0, 1 MHz].
+        """
+        v = check_range("speed_m_s", speed_m_s, 0.0, 100.0, unit="m/s", low_open=True)
+        r = check_range("trace_rate_hz", trace_rate_hz, 0.0, 1e6, unit="Hz", low_open=True)
+        spacing = v / r
+        if not 1e-3 <= spacing <= 100.0:
+            raise ValueError(
+                f"speed_m_s = {v:g} m/s at trace_rate_hz = {r:g} Hz gives a trace spacing "
+                f"of {spacing:g} m; allowed range [0.001, 100] m")
+        return cls(start_m, end_m, spacing)
+
+    @property
+    def length_m(self) -> float:
+        """Line length, m."""
+        return self.end_m - self.start_m
+
+    @property
+    def n_traces(self) -> int:
+        """Number of traces: every spacing step from ``start_m`` not past ``end_m``
+        (within 1e-9 of a step, so 0..10 m at 0.05 m gives 201)."""
+        return int(math.floor(self.length_m / self.trace_spacing_m + 1e-9)) + 1
+
+    @property
+    def position_m(self) -> np.ndarray:
+        """Along-line position of each trace, m, shape (n_traces,)."""
+        return self.start_m + np.arange(self.n_traces) * self.trace_spacing_m
+
+
+# --------------------------------------------------------------------------- clutter
+
+
+@dataclass(frozen=True, eq=False)
+class ClutterField:
+    """One seeded realisation of the debris clutter (read-only arrays).
+
+    Attributes
+    ----------
+    x_m, y_m, z_m : ndarray, shape (n_scatterers,)
+        Scatterer centres: along-line, across-line, depth below the surface, m.
+    size_m : ndarray, shape (n_scatterers,)
+        Scatterer diameters, m.
+    layer_depth_m, layer_thickness_m : ndarray, shape (n_layers,)
+        Top depth and thickness of each thin random layer, m, sorted by depth.
+    layer_density_change_kg_m3 : ndarray, shape (n_layers,)
+        Density of the thin layer minus that of the snow around it, kg/m3.
+    """
+
+    x_m: np.ndarray
+    y_m: np.ndarray
+    z_m: np.ndarray
+    size_m: np.ndarray
+    layer_depth_m: np.ndarray
+    layer_thickness_m: np.ndarray
+    layer_density_change_kg_m3: np.ndarray
+
+    def __post_init__(self) -> None:
+        for f in ("x_m", "y_m", "z_m", "size_m", "layer_depth_m", "layer_thickness_m",
+                  "layer_density_change_kg_m3"):
+            _set(self, f, _frozen(getattr(self, f)))
+
+    @property
+    def n_scatterers(self) -> int:
+        """Number of small scatterers."""
+        return int(self.x_m.size)
+
+    @property
+    def n_layers(self) -> int:
+        """Number of thin random layers."""
+        return int(self.layer_depth_m.size)
+
+
+@dataclass(frozen=True)
+class Clutter:
+    """Statistics of the debris clutter: small random scatterers and thin random layers.
+
+    Parameters
+    ----------
+    scatterer_density_per_m3 : float
+        Mean number of small scatterers (clods, blocks) per m3 of snow, in [0, 1000].
+    scatterer_size_m : float
+        Mean scatterer diameter, m, in [0.005, 2]; each size is drawn uniformly from
+        0.5 to 1.5 times it.
+    thin_layer_count : int
+        Number of thin random layers, in [0, 500].
+    thin_layer_contrast : float
+        Relative density change of each thin layer against the snow around it, in [0, 1].
+    seed : int
+        Random seed, in [0, 2**32 - 1]; one seed always gives the same clutter.
+    """
+
+    scatterer_density_per_m3: float = 0.0
+    scatterer_size_m: float = 0.1
+    thin_layer_count: int = 0
+    thin_layer_contrast: float = 0.05
+    seed: int = 0
+
+    def __post_init__(self) -> None:
+        _set(self, "scatterer_density_per_m3", check_range(
+            "scatterer_density_per_m3", self.scatterer_density_per_m3, 0.0, 1000.0,
+            unit="1/m3"))
+        _set(self, "scatterer_size_m",
+             check_range("scatterer_size_m", self.scatterer_size_m, 0.005, 2.0, unit="m"))
+        _set(self, "thin_layer_count", _check_int("thin_layer_count", self.thin_layer_count,
+                                                  0, 500))
+        _set(self, "thin_layer_contrast",
+             check_range("thin_layer_contrast", self.thin_layer_contrast, 0.0, 1.0))
+        _set(self, "seed", _check_int("seed", self.seed, 0, 2**32 - 1))
+
+    def expected_scatterers(self, snowpack: Snowpack, survey: Survey) -> float:
+        """Mean number of scatterers in the strip of +-1 m about the line, through the snow."""
+        volume = survey.length_m * 2 * _CLUTTER_HALF_WIDTH_M * snowpack.depth_m
+        return self.scatterer_density_per_m3 * volume
+
+    def realise(self, snowpack: Snowpack, survey: Survey) -> ClutterField:
+        """Draw the clutter for this snowpack and survey line.
+
+        Scatterers: a Poisson number with mean :meth:`expected_scatterers`, centres uniform
+        in x over the line, in y over +-1 m, in z over the snow depth (kept inside the
+        snow where the size allows). Thin layers: ``thin_layer_count`` of them, tops
+        uniform over the depth, thicknesses uniform in 1-5 cm (invented demo figures),
+        density change ``+-thin_layer_contrast`` times the local layer density (random
+        sign), clipped to keep the density within [30, 917] kg/m3. Scatterers and layers
+        draw from independent streams of the seed, so changing one leaves the other alone.
+        """
+        depth = snowpack.depth_m
+        seq_scat, seq_layers = np.random.SeedSequence(self.seed).spawn(2)
+        rng = np.random.default_rng(seq_scat)
+        n = int(rng.poisson(self.expected_scatterers(snowpack, survey)))
+        x = rng.uniform(survey.start_m, survey.end_m, n)
+        y = rng.uniform(-_CLUTTER_HALF_WIDTH_M, _CLUTTER_HALF_WIDTH_M, n)
+        size = self.scatterer_size_m * rng.uniform(0.5, 1.5, n)
+        r = np.minimum(0.5 * size, 0.5 * depth)
+        z = r + rng.uniform(0.0, 1.0, n) * (depth - 2 * r)
+
+        rng = np.random.default_rng(seq_layers)
+        m = self.thin_layer_count
+        top = np.sort(rng.uniform(0.0, depth, m))
+        thick = np.minimum(rng.uniform(*_THIN_LAYER_M, m), depth - top)
+        sign = rng.choice(np.array([-1.0, 1.0]), m)
+        local = np.array([snowpack.layer_at(d).density_kg_m3 for d in top])
+        new = np.clip(local * (1.0 + sign * self.thin_layer_contrast), 30.0, 917.0)
+        return ClutterField(x, y, z, size, top, thick, new - local)
+
+
+# --------------------------------------------------------------------------- scenario
+
+
+@dataclass(frozen=True)
+class Scenario:
+    """A complete survey: snow, ground, what is buried, the radar and the survey line.
+
+    Parameters
+    ----------
+    snowpack : Snowpack
+    ground : Ground
+    persons : sequence of Person
+        Buried people (empty when nobody is buried); at most 50.
+    objects : sequence of Boulder, Branch or MetalPlate
+        Debris and equipment; at most 1000.
+    radar : Radar
+    survey : Survey
+    clutter : Clutter
+    name : str
+        Short name (at most 200 characters).
+    notes : str
+        Free description (at most 20,000 characters).
+
+    Raises
+    ------
+    ValueError
+        On a wrong type, or when a person or object reaches below the snowpack, lies more
+        than 5 m beyond either end of the survey line or more than 5 m to its side, or the
+        clutter would hold more than 100,000 scatterers.
+    """
+
+    snowpack: Snowpack
+    ground: Ground
+    persons: tuple[Person, ...] = ()
+    objects: tuple[DebrisObject, ...] = ()
+    radar: Radar = field(default_factory=Radar)
+    survey: Survey = field(default_factory=Survey)
+    clutter: Clutter = field(default_factory=Clutter)
+    name: str = ""
+    notes: str = ""
+
+    def __post_init__(self) -> None:
+        for fname, cls in (("snowpack", Snowpack), ("ground", Ground), ("radar", Radar),
+                           ("survey", Survey), ("clutter", Clutter)):
+            value = getattr(self, fname)
+            if not isinstance(value, cls):
+                raise ValueError(f"{fname} must be a {cls.__name__}, got {type(value).__name__}")
+        persons = self._tuple_of("persons", self.persons, (Person,), _MAX_PERSONS)
+        objects = self._tuple_of("objects", self.objects, (Boulder, Branch, MetalPlate),
+                                 _MAX_OBJECTS)
+        _set(self, "persons", persons)
+        _set(self, "objects", objects)
+        _set(self, "name", _check_text("name", self.name, 200))
+        _set(self, "notes", _check_text("notes", self.notes, 20_000))
+        snow = self.snowpack.depth_m
+        s = self.survey
+        for where, item in self._labelled_targets():
+            label = getattr(item, "label", "")
+            what = f"{where} ({item.kind} {label!r})" if label else f"{where} ({item.kind})"
+            if item.bottom_depth_m > snow + _DEPTH_TOL_M:
+                raise ValueError(
+                    f"{what} at depth_m = {item.depth_m:g} m reaches down to "
+                    f"{item.bottom_depth_m:g} m, deeper than the {snow:g} m snowpack")
+            lo, hi = s.start_m - _LINE_MARGIN_M, s.end_m + _LINE_MARGIN_M
+            if not lo <= item.position_m <= hi:
+                raise ValueError(
+                    f"{what} position_m = {item.position_m:g} m is outside the survey line "
+                    f"+- {_LINE_MARGIN_M:g} m; allowed range [{lo:g}, {hi:g}] m")
+            if abs(item.offset_m) > _LINE_MARGIN_M:
+                raise ValueError(
+                    f"{what} offset_m = {item.offset_m:g} m is too far from the survey line; "
+                    f"allowed range [-{_LINE_MARGIN_M:g}, {_LINE_MARGIN_M:g}] m")
+        n_scat = self.clutter.expected_scatterers(self.snowpack, self.survey)
+        if n_scat > _MAX_SCATTERERS:
+            raise ValueError(
+                f"clutter scatterer_density_per_m3 = "
+                f"{self.clutter.scatterer_density_per_m3:g} /m3 over this line and snowpack "
+                f"means about {n_scat:.0f} scatterers; at most {_MAX_SCATTERERS} allowed")
+
+    @staticmethod
+    def _tuple_of(name: str, value: Any, classes: tuple[type, ...], max_n: int) -> tuple:
+        if isinstance(value, (str, bytes)) or not hasattr(value, "__iter__"):
+            raise ValueError(f"{name} must be a sequence, got {value!r}")
+        items = tuple(value)
+        if len(items) > max_n:
+            raise ValueError(f"{name} has {len(items)} entries; at most {max_n} allowed")
+        allowed = " or ".join(c.__name__ for c in classes)
+        for i, item in enumerate(items):
+            if not isinstance(item, classes):
+                raise ValueError(f"{name}[{i}] must be a {allowed}, got {type(item).__name__}")
+        return items
+
+    def _labelled_targets(self) -> list[tuple[str, Any]]:
+        return ([(f"persons[{i}]", p) for i, p in enumerate(self.persons)]
+                + [(f"objects[{i}]", o) for i, o in enumerate(self.objects)])
+
+    @property
+    def targets(self) -> tuple[Any, ...]:
+        """Every buried thing: the persons, then the objects."""
+        return self.persons + self.objects
+
+    def clutter_field(self) -> ClutterField:
+        """The seeded clutter of this scenario (``clutter.realise(snowpack, survey)``)."""
+        return self.clutter.realise(self.snowpack, self.survey)
+
+    # ----------------------------------------------------------------- files
+
+    def to_json(self) -> str:
+        """The scenario as a versioned JSON document (see :mod:`scenario_files`)."""
+        from .scenario_files import dumps
+
+        return dumps(self)
+
+    @classmethod
+    def from_json(cls, text: str | bytes) -> Scenario:
+        """Read a scenario from JSON text, validating every field.
+
+        Raises
+        ------
+        ScenarioFileError
+            On malformed, truncated, oversized or unknown content.
+        """
+        from .scenario_files import loads
+
+        return loads(text)
+
+    def save(self, path: str | os.PathLike[str]) -> None:
+        """Write the scenario to ``path`` atomically (temporary file, then rename)."""
+        from .scenario_files import save
+
+        save(self, path)
+
+    @classmethod
+    def load(cls, path: str | os.PathLike[str]) -> Scenario:
+        """Read a scenario file written by :meth:`save` (or by hand), validating it."""
+        from .scenario_files import load
+
+        return load(path)
+
+    # ----------------------------------------------------------------- demos
+
+    @staticmethod
+    def examples() -> tuple[str, ...]:
+        """Names of the shipped demo scenarios (and any added by plugins)."""
+        from .examples import example_names
+
+        return example_names()
+
+    @classmethod
+    def example(cls, name: str) -> Scenario:
+        """Build the demo scenario ``name`` (one of :meth:`examples`)."""
+        from .examples import make_example
+
+        return make_example(name)
+
+    @classmethod
+    def default(cls) -> Scenario:
+        """The default demo: a shallow burial in dry powder."""
+        return cls.example("shallow_dry_powder")
