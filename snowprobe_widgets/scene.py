@@ -162,7 +162,7 @@ class Radar:
             "antenna_gain_dbi", self.antenna_gain_dbi, -10.0, 30.0, unit="dBi"))
         _set(self, "dt_s", check_range("dt_s", self.dt_s, 1e-12, 1e-8, unit="s"))
         _set(self, "time_window_s", check_range(
-            "time_window_s", self.time_window_s, 0.0, 1e-5, unit="s", low_open=True))
+            "time_window_s", self.time_window_s, 0.0, 1e-4, unit="s", low_open=True))
         lo, hi = _SAMPLES
         n = self.n_samples
         if not lo <= n <= hi:
