@@ -207,8 +207,9 @@ class Radar:
 
 
 def _band_high_hz(pulse: Any) -> float:
-    """Upper edge of the pulse's band, Hz, as the pulse object states it."""
-    return float(pulse.band_hz[1])
+    """Upper edge of the pulse's band, Hz: where its amplitude spectrum falls below
+    -60 dB of the peak (a common-practice sampling criterion)."""
+    return float(pulse.band_hz(1e-3)[1])
 
 
 # --------------------------------------------------------------------------- survey
