@@ -1,0 +1,113 @@
+"""Pulse shapes: analytic spectra against the FFT of the sampled waveform, and shape facts."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+
+from snowprobe_widgets import pulses
+from snowprobe_widgets.pulses import make_pulse, pulse_names
+
+SHAPES = ("ricker", "gaussian1", "gaussian2", "modulated_gaussian", "stepped_frequency")
+
+
+def _fft_spectrum(p: pulses.Pulse, dt: float, n: int) -> tuple[np.ndarray, np.ndarray]:
+    # waveform sampled symmetrically about t = 0, then S(f) ~ dt * sum w(t_k) e^{-j2pi f t_k}
+    t = (np.arange(n) - n // 2) * dt
+    w = p.waveform(t)
+    f = np.fft.rfftfreq(n, dt)
+    s = dt * np.fft.rfft(np.fft.ifftshift(w))
+    return f, s
+
+
+def test_registry_lists_the_built_in_shapes() -> None:
+    assert set(SHAPES) <= set(pulse_names())
+
+
+@pytest.mark.parametrize("shape", SHAPES)
+def test_analytic_spectrum_matches_fft_of_waveform(shape: str) -> None:
+    # Fourier pair check: the stated S(f) must be the transform of the stated w(t)
+    # (convention w(t) = int S(f) e^{+j 2 pi f t} df, module docstring).
+    p = make_pulse(shape, 500e6)
+    f, s = _fft_spectrum(p, dt=5e-12, n=2**15)
+    ref = p.spectrum(f)
+    tol = 2e-3 if shape == "stepped_frequency" else 1e-9  # stepped: waveform is a quadrature
+    assert np.max(np.abs(s - ref)) <= tol * np.max(np.abs(ref))
+
+
+@pytest.mark.parametrize("shape", SHAPES)
+def test_waveform_peak_is_one(shape: str) -> None:
+    p = make_pulse(shape, 800e6)
+    t = np.linspace(-10e-9, 10e-9, 40001)
+    assert np.max(np.abs(p.waveform(t))) == pytest.approx(1.0, abs=1e-4)
+
+
+def test_ricker_formula_and_peak_frequency() -> None:
+    # Ricker (1953): r(t) = (1 - 2 pi^2 fp^2 t^2) exp(-pi^2 fp^2 t^2); amplitude spectrum
+    # proportional to f^2 exp(-f^2/fp^2), which peaks at f = fp.
+    fp = 1e9
+    p = make_pulse("ricker", fp)
+    t = np.array([0.0, 0.3e-9, -0.7e-9])
+    a = (math.pi * fp * t) ** 2
+    np.testing.assert_allclose(p.waveform(t), (1 - 2 * a) * np.exp(-a), rtol=0, atol=1e-15)
+    f = np.linspace(1e6, 4e9, 40000)
+    assert f[np.argmax(np.abs(p.spectrum(f)))] == pytest.approx(fp, rel=1e-3)
+
+
+@pytest.mark.parametrize("shape", ("gaussian1", "gaussian2"))
+def test_gaussian_derivative_spectrum_peaks_at_centre(shape: str) -> None:
+    fc = 700e6
+    p = make_pulse(shape, fc)
+    f = np.linspace(1e6, 4e9, 40000)
+    assert f[np.argmax(np.abs(p.spectrum(f)))] == pytest.approx(fc, rel=1e-3)
+
+
+def test_gaussian2_is_ricker_with_same_peak() -> None:
+    # the Ricker wavelet is the normalised second Gaussian derivative (Ricker 1953)
+    t = np.linspace(-3e-9, 3e-9, 101)
+    np.testing.assert_allclose(make_pulse("gaussian2", 1e9).waveform(t),
+                               make_pulse("ricker", 1e9).waveform(t), atol=1e-12)
+
+
+def test_modulated_gaussian_bandwidth_is_minus_6_db_width() -> None:
+    p = make_pulse("modulated_gaussian", 1e9, 400e6)
+    f = np.linspace(0.5e9, 1.5e9, 200001)
+    s = np.abs(p.spectrum(f))
+    above = f[s >= 0.5 * s.max()]
+    assert above[-1] - above[0] == pytest.approx(400e6, rel=1e-3)
+
+
+def test_stepped_frequency_band_and_ambiguity() -> None:
+    p = make_pulse("stepped_frequency", 1e9, 1e9, n_steps=201, window="hann")
+    assert p.band_edges_hz == pytest.approx((0.5e9, 1.5e9))
+    assert p.step_hz == pytest.approx(5e6)
+    # a stepped sweep with step df is unambiguous over 1/df (common practice)
+    assert p.unambiguous_time_s == pytest.approx(200e-9)
+    assert np.all(p.spectrum(np.array([0.4e9, 1.6e9])) == 0)
+
+
+def test_band_covers_the_spectrum() -> None:
+    p = make_pulse("ricker", 1e9)
+    lo, hi = p.band_hz(1e-3)
+    s_peak = np.abs(p.spectrum(1e9))
+    assert np.abs(p.spectrum(hi * 1.01)) < 1e-3 * s_peak
+    assert np.abs(p.spectrum(hi * 0.99)) > 1e-3 * s_peak
+    assert lo < 0.1e9
+
+
+@pytest.mark.parametrize(
+    ("call", "field"),
+    [
+        (lambda: make_pulse("ricker", -1e9), "center_frequency_hz"),
+        (lambda: make_pulse("ricker", 0.0), "center_frequency_hz"),
+        (lambda: make_pulse("modulated_gaussian", 1e9, -5.0), "bandwidth_hz"),
+        (lambda: make_pulse("stepped_frequency", 1e9, 1e9, n_steps=2), "n_steps"),
+        (lambda: make_pulse("stepped_frequency", 1e9, window="triangle"), "window"),
+        (lambda: make_pulse("square_wave", 1e9), "square_wave"),
+    ],
+)
+def test_bad_inputs_name_the_field(call, field: str) -> None:
+    with pytest.raises(ValueError, match=field):
+        call()
