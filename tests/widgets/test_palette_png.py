@@ -30,6 +30,7 @@ class PngError(Exception):
 
 def decode_palette_png(png: bytes) -> tuple[np.ndarray, np.ndarray]:
     """Decode an 8-bit, non-interlaced, colour-type-3 PNG into (index image, palette)."""
+    png = bytes(png)  # ipywidgets hands back a memoryview
     if png[:8] != b"\x89PNG\r\n\x1a\n":
         raise PngError("bad signature")
     pos, chunks = 8, []
