@@ -20,13 +20,14 @@ Scheme
   wavelength in any medium at the upper band edge of the pulse, -60 dB) and a quarter of the
   thinnest layer; time step at Courant number S = c dt / dz = 1, the 1-D "magic time step"
   that is dispersion-free in air and stable everywhere (all media are slower than c).
-- Source: a soft (additive) E source at the antenna node. Top boundary: first-order Mur,
-  exact in air at S = 1. Bottom: a perfect conductor when the ground is metal, otherwise the
+- Source: a total-field / scattered-field boundary at the antenna node launches the pulse
+  downward (Taflove & Hagness 2005, ch. 5; exact in air at S = 1), so the field recorded
+  just above it is the reflected wave alone. Top boundary: first-order Mur, exact in air
+  at S = 1. Bottom: a perfect conductor when the ground is metal, otherwise the
   ground extends deep enough that its far end cannot echo back inside the window, closed by
   a first-order Mur condition at the ground velocity.
-- Output: reflected field = (total run) - (incident-only run), normalised by the incident
-  wave so that the transmitted pulse is exactly the pulse waveform at the antenna, then
-  interpolated onto the caller's time axis.
+- Output: the reflected field at the antenna for a transmitted wave equal to the pulse
+  waveform there, interpolated onto the caller's time axis.
 """
 
 from __future__ import annotations
@@ -175,7 +176,13 @@ def plan_grid(
 
 
 def _run(eps_r: np.ndarray, sigma: np.ndarray, pec: bool, grid: FdtdGrid,
-         source: np.ndarray, progress: Callable[[float], None] | None) -> np.ndarray:
+         incident: Callable[[np.ndarray], np.ndarray],
+         progress: Callable[[float], None] | None) -> np.ndarray:
+    """Leapfrog with a total-field / scattered-field boundary at the antenna node.
+
+    ``incident(t)`` is the downward wave at the antenna node at time t. Returns the
+    scattered (reflected) field at the antenna at times ``arange(n_steps) * dt``.
+    """
     dt, s = grid.dt_s, grid.courant
     loss = sigma * dt / (2 * EPS0_F_M * eps_r)
     ca = (1 - loss) / (1 + loss)
@@ -183,25 +190,29 @@ def _run(eps_r: np.ndarray, sigma: np.ndarray, pec: bool, grid: FdtdGrid,
     ca_in, cb_in = ca[1:-1], cb[1:-1]
     e = np.zeros(eps_r.size)
     h = np.zeros(eps_r.size - 1)
-    k = grid.source_index
+    kb = grid.source_index
     v_bot = 1.0 / math.sqrt(eps_r[-1])
     mur_bot = (s * v_bot - 1) / (s * v_bot + 1)
-    rec = np.empty(grid.n_steps)
-    every = max(grid.n_steps // 50, 1)
-    for n in range(grid.n_steps):
+    n_steps = grid.n_steps
+    inc_now = incident(np.arange(n_steps) * dt)        # e_inc at node kb, time n dt
+    inc_next = incident((np.arange(n_steps) + 1) * dt)  # -h_inc at kb - 1/2, time (n + 1/2) dt
+    rec = np.empty(n_steps)
+    every = max(n_steps // 50, 1)
+    for n in range(n_steps):
         h += s * (e[1:] - e[:-1])
+        h[kb - 1] -= s * inc_now[n]  # the scattered-field side sees no incident wave
         e_top_old, e1_old = e[0], e[1]
         e_bot_old, e_bm1_old = e[-1], e[-2]
         e[1:-1] = ca_in * e[1:-1] + cb_in * (h[1:] - h[:-1])
-        e[k] += source[n]
+        e[kb] += s * inc_next[n]  # the total-field side gets the incident wave
         e[0] = e1_old + (s - 1) / (s + 1) * (e[1] - e_top_old)  # Mur, exact at S = 1 in air
         if pec:
             e[-1] = 0.0
         else:
             e[-1] = e_bm1_old + mur_bot * (e[-2] - e_bot_old)
-        rec[n] = e[k]
+        rec[n] = e[kb - 1]  # at (n + 1) dt one cell above the antenna = antenna at n dt
         if progress is not None and n % every == 0:
-            progress(n / grid.n_steps)
+            progress(n / n_steps)
     if progress is not None:
         progress(1.0)
     return rec
@@ -253,15 +264,7 @@ def fdtd_trace(
                                         window_s=window, cells_per_wavelength=cpw)
     t0 = 4.0 / pulse.center_frequency_hz  # source delay so it starts from rest
     t = np.arange(grid.n_steps) * grid.dt_s
-    source = pulse.waveform(t - t0)
-    total = _run(eps_r, sigma, pec, grid, source, progress)
-    # incident wave alone: a short all-air grid with the same source node and boundaries
-    air_cells = 2 * _PAD_CELLS + 1
-    air_grid = dataclasses.replace(grid, n_cells=air_cells)
-    inc = _run(np.ones(air_cells), np.zeros(air_cells), False, air_grid, source, None)
-    # scale so that the incident wave at the antenna equals the pulse waveform
-    scale = float(source @ inc) / float(source @ source)
-    reflected = (total - inc) / scale
+    reflected = _run(eps_r, sigma, pec, grid, lambda tt: pulse.waveform(tt - t0), progress)
     t_out = np.arange(n_samples) * dt_out
     amp = np.interp(t_out + t0, t, reflected, left=0.0, right=0.0)
     echoes = tuple(_echo_times(materials, d, h, pulse.center_frequency_hz))

@@ -23,10 +23,11 @@ Modes
     reverberation (|r_ground r_surface r_ground| < 0.05) is also dropped. Compare with
     ``"plane"`` mode for the multiples.
 
-FFT: the spectrum is evaluated on an rfft grid of length N (a fast size) with
+FFT: the spectrum is evaluated on an rfft grid of length N (a fast size). In plane mode
 N dt >= 4 x (the last primary echo time + pulse length, or the window if longer), so the
-time-domain response has decayed before it could wrap onto the window (the plane-mode
-multiples decay at least by the ground reflection each round trip).
+time-domain response has decayed before it could wrap onto the window (the multiples decay
+at least by the ground reflection each round trip). In point mode the response ends with
+the last primary echo, and N dt covers that span plus two pulse lengths.
 """
 
 from __future__ import annotations
@@ -37,7 +38,7 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.fft
 
-from ._validate import check_choice, check_range
+from ._validate import check_choice, check_frequency, check_range
 from .constants import C0_M_S
 from .layered import stack_coefficients
 from .materials import Material
@@ -122,24 +123,38 @@ def column_response(
 
 
 def fft_grid(
-    dt_s: float, n_samples: int, last_echo_s: float, pulse: Pulse
+    dt_s: float, n_samples: int, last_echo_s: float, pulse: Pulse, mode: str = "plane"
 ) -> tuple[int, np.ndarray]:
     """FFT length and its rfft frequencies for a window of ``n_samples`` at ``dt_s``.
 
-    The length covers four times the longer of the window and the last primary echo plus
-    the pulse duration (see the module docstring), rounded up to a fast size.
+    ``"plane"`` mode (all multiples, a response that decays but never ends): four times the
+    longer of the window and the last primary echo plus the pulse length. ``"point"`` mode
+    (primaries only, a response that ends with the last echo): that span plus two pulse
+    lengths, enough that nothing wraps. Rounded up to a fast size.
     """
     pulse_len = 6.0 / pulse.center_frequency_hz
     span = max(n_samples * dt_s, last_echo_s + pulse_len)
-    n_fft = scipy.fft.next_fast_len(int(np.ceil(4 * span / dt_s)), real=True)
+    total = 4 * span if mode == "plane" else span + 2 * pulse_len
+    n_fft = scipy.fft.next_fast_len(int(np.ceil(total / dt_s)), real=True)
     return n_fft, np.fft.rfftfreq(n_fft, dt_s)
 
 
 def evaluate_column(materials: Sequence[Material], freq_hz: np.ndarray) -> np.ndarray:
-    """Permittivities of ``materials`` (layers then ground) on ``freq_hz``, shape (n, n_freq)."""
-    out = np.empty((len(materials), freq_hz.size), complex)
+    """Permittivities of ``materials`` (layers then ground) on ``freq_hz``, shape (n, n_freq).
+
+    ``freq_hz`` is validated once against every material's range; the kernels are then
+    called directly.
+    """
+    f = np.asarray(freq_hz, dtype=float)
+    out = np.empty((len(materials), f.size), complex)
+    f_lo, f_hi = (float(f.min()), float(f.max())) if f.size else (1.0, 1.0)
     for i, m in enumerate(materials):
-        out[i] = 1.0 if m.perfect_conductor else m.permittivity(freq_hz)
+        if m.perfect_conductor:
+            out[i] = 1.0
+            continue
+        if not (f_lo >= m.freq_min_hz and f_hi <= m.freq_max_hz and f_lo > 0):
+            check_frequency(f, m.freq_min_hz, m.freq_max_hz)  # raises with the message
+        out[i] = m.kernel(f, *m.params)
     return out
 
 
@@ -206,7 +221,7 @@ def synthesize_trace(
     f_lo, f_hi = pulse.band_hz()
     dt = check_range("dt_s", dt_s, 1e-13, 1.0 / (2 * f_hi), unit="s")
     echoes = _echo_times(materials, d, h, pulse.center_frequency_hz)
-    n_fft, f = fft_grid(dt, n_samples, echoes[-1][1], pulse)
+    n_fft, f = fft_grid(dt, n_samples, echoes[-1][1], pulse, mode)
     band = (f >= max(f_lo, 1e6)) & (f <= f_hi)
     fb = f[band]
     eps = evaluate_column(materials, fb)
