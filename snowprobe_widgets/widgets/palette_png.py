@@ -117,12 +117,11 @@ def scale_to_index(
             np.clip(u, 0.0, N_LEVELS - 1, out=u)
     else:
         u = np.where(a < lo, 0.0, np.where(a > hi, N_LEVELS - 1.0, 128.0))
-    bad = ~np.isfinite(a)
+    finite = np.isfinite(a)
+    if not finite.all():
+        u[~finite] = fill
     # astype truncates, which after the +0.5 above is rounding half up
-    out = np.nan_to_num(u, nan=0.0).astype(np.uint8)
-    if bad.any():
-        out[bad] = fill
-    return out
+    return u.astype(np.uint8)
 
 
 def _chunk(kind: bytes, payload: bytes) -> bytes:

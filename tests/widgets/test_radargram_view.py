@@ -16,6 +16,7 @@ from snowprobe_widgets.widgets.radargram_view import (
     POSITION_LABEL,
     STATUS_CLASS,
     TIME_LABEL,
+    _percentiles,
     colour_range,
 )
 
@@ -81,6 +82,8 @@ def test_bad_constructor_arguments_are_refused() -> None:
         RadargramView(colour_map_name="rainbow")
     with pytest.raises(ValueError, match="clip_percent"):
         RadargramView(clip_percent=20.0)
+    with pytest.raises(ValueError, match="png_compress_level"):
+        RadargramView(png_compress_level=12)
 
 
 # --------------------------------------------------------------------------- updating
@@ -173,6 +176,15 @@ def test_colour_range_rules() -> None:
     spike[3] = -7.0
     assert colour_range(spike, 99.0, "diverging") == (-7.0, 7.0)
     assert colour_range(np.full(4, 3.0), 99.0, "sequential") == (3.0, 6.0)
+
+
+@pytest.mark.parametrize("n", [1, 2, 5, 1000, 131_072])
+def test_percentiles_match_numpy_linear_method(n: int) -> None:
+    values = np.random.default_rng(n).normal(size=n)
+    qs = (0.0, 1.0, 37.3, 50.0, 99.0, 99.9, 100.0)
+    got = _percentiles(values.copy(), qs)
+    # same linear interpolation as numpy's default; tolerance: a few ulps of rounding
+    np.testing.assert_allclose(got, np.percentile(values, qs), rtol=1e-12, atol=1e-15)
 
 
 # --------------------------------------------------------------------------- markers
