@@ -1,0 +1,244 @@
+"""An ordered, serialisable list of processing steps."""
+
+from __future__ import annotations
+
+import inspect
+import json
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass
+from typing import Any
+
+from ..radargram import ProcessingRecord, Radargram
+from ._common import STEPS
+
+__all__ = ["ProcessingStep", "ProcessingChain", "CHAIN_FORMAT", "CHAIN_VERSION"]
+
+#: Value of the ``"format"`` field of a serialised chain.
+CHAIN_FORMAT = "snowprobe_widgets.processing_chain"
+#: Version of the serialised layout.
+CHAIN_VERSION = 1
+
+_JSON_SCALARS = (str, int, float, bool, type(None))
+
+
+def _step_parameters(name: str) -> tuple[tuple[str, ...], bool]:
+    """Keyword names a registered step accepts, and whether it takes ``**kwargs``."""
+    func = STEPS.get(name)
+    try:
+        sig = inspect.signature(func)
+    except (TypeError, ValueError):
+        return (), True
+    params = list(sig.parameters.values())[1:]  # the first one is the radargram
+    names = tuple(p.name for p in params
+                  if p.kind in (p.POSITIONAL_OR_KEYWORD, p.KEYWORD_ONLY))
+    return names, any(p.kind is p.VAR_KEYWORD for p in params)
+
+
+def _check_params(name: str, params: Iterable[tuple[str, Any]]) -> tuple[tuple[str, Any], ...]:
+    allowed, open_ended = _step_parameters(name)
+    out = []
+    for key, value in params:
+        if not isinstance(key, str):
+            raise ValueError(f"step {name!r}: parameter names must be strings, got {key!r}")
+        if not open_ended and key not in allowed:
+            raise ValueError(
+                f"step {name!r} has no parameter {key!r}; allowed: {', '.join(allowed)}"
+            )
+        if not isinstance(value, _JSON_SCALARS):
+            raise ValueError(
+                f"step {name!r}: parameter {key} = {value!r} must be a number, string, "
+                "bool or None"
+            )
+        out.append((key, value))
+    keys = [k for k, _ in out]
+    if len(set(keys)) != len(keys):
+        raise ValueError(f"step {name!r}: a parameter is given twice in {keys}")
+    return tuple(out)
+
+
+@dataclass(frozen=True)
+class ProcessingStep:
+    """One entry of a :class:`ProcessingChain`.
+
+    Attributes
+    ----------
+    name : str
+        Key in :data:`STEPS`.
+    params : tuple of (str, object)
+        Keyword arguments of the step (numbers, strings, bools or None); a mapping is
+        accepted and turned into pairs.
+    enabled : bool
+        Disabled steps stay in the chain but are skipped by :meth:`ProcessingChain.apply`.
+    """
+
+    name: str
+    params: tuple[tuple[str, Any], ...] = ()
+    enabled: bool = True
+
+    def __post_init__(self) -> None:
+        if not isinstance(self.name, str) or self.name not in STEPS:
+            known = ", ".join(repr(n) for n in STEPS.names())
+            raise ValueError(f"unknown processing step {self.name!r}; known: {known}")
+        params = self.params.items() if isinstance(self.params, Mapping) else self.params
+        object.__setattr__(self, "params", _check_params(self.name, params))
+        if not isinstance(self.enabled, bool):
+            raise ValueError(f"enabled must be true or false, got {self.enabled!r}")
+
+    def apply(self, rg: Radargram) -> Radargram:
+        """Run this step on ``rg`` (regardless of ``enabled``)."""
+        return STEPS.get(self.name)(rg, **dict(self.params))
+
+    def to_dict(self) -> dict[str, Any]:
+        """``{"name": ..., "params": {...}, "enabled": ...}``."""
+        return {"name": self.name, "params": dict(self.params), "enabled": self.enabled}
+
+    @classmethod
+    def from_dict(cls, d: Mapping[str, Any]) -> ProcessingStep:
+        """Inverse of :meth:`to_dict`; refuses unknown fields."""
+        if not isinstance(d, Mapping):
+            raise ValueError(f"a step must be a mapping, got {type(d).__name__}")
+        extra = set(d) - {"name", "params", "enabled"}
+        if extra:
+            raise ValueError(f"unknown step field(s) {sorted(extra)}; allowed: name, params, "
+                             "enabled")
+        if "name" not in d:
+            raise ValueError("a step needs a 'name'")
+        params = d.get("params", {})
+        if not isinstance(params, Mapping):
+            raise ValueError(f"step {d['name']!r}: params must be a mapping, got {params!r}")
+        return cls(d["name"], tuple(params.items()), d.get("enabled", True))
+
+
+def _default_steps(fc: float) -> tuple[ProcessingStep, ...]:
+    return (
+        ProcessingStep("time_zero", (("target_time_s", 0.0), ("threshold", 0.5)),
+                       enabled=False),
+        ProcessingStep("dewow", (("window_s", 4.0 / fc),)),
+        ProcessingStep("background_removal", (("method", "mean"),)),
+        ProcessingStep("gain", (("kind", "spreading"), ("power", 1.0),
+                                ("max_gain_db", 40.0))),
+        ProcessingStep("bandpass", (("low_hz", 0.25 * fc), ("high_hz", 2.5 * fc),
+                                    ("order", 4))),
+    )
+
+
+@dataclass(frozen=True)
+class ProcessingChain:
+    """Processing steps applied in order.
+
+    Attributes
+    ----------
+    steps : tuple of ProcessingStep
+    """
+
+    steps: tuple[ProcessingStep, ...] = ()
+
+    def __post_init__(self) -> None:
+        steps = tuple(self.steps)
+        for s in steps:
+            if not isinstance(s, ProcessingStep):
+                raise ValueError(f"steps must be ProcessingStep objects, got {s!r}")
+        object.__setattr__(self, "steps", steps)
+
+    # ---------------------------------------------------------------- running
+    def apply(self, rg: Radargram) -> Radargram:
+        """Run the enabled steps in order; each appends its record to the history."""
+        for step in self.steps:
+            if step.enabled:
+                rg = step.apply(rg)
+        return rg
+
+    # ---------------------------------------------------------------- building
+    @classmethod
+    def default(cls, center_frequency_hz: float = 800e6) -> ProcessingChain:
+        """A starting chain for simulated radargrams of an antenna at ``center_frequency_hz``.
+
+        time-zero (disabled; enable it when the antenna is held above the snow), dewow over
+        four periods, mean background removal, spreading gain ``t**1`` capped at 40 dB and a
+        band-pass from fc/4 to 2.5 fc (order 4). The choices are common practice, not
+        taken from a source; the band needs a sampling interval below 1 / (5 fc).
+        """
+        from .._validate import check_range
+
+        fc = check_range("center_frequency_hz", center_frequency_hz, 10e6, 10e9, unit="Hz")
+        return cls(_default_steps(fc))
+
+    @classmethod
+    def from_history(cls, history: Iterable[ProcessingRecord]) -> ProcessingChain:
+        """The chain that replays a radargram's history."""
+        return cls(tuple(ProcessingStep(r.step, r.params) for r in history))
+
+    def names(self) -> tuple[str, ...]:
+        """Step names in order."""
+        return tuple(s.name for s in self.steps)
+
+    def _require(self, name: str) -> None:
+        if name not in self.names():
+            raise ValueError(f"the chain has no step {name!r}; it has: "
+                             f"{', '.join(self.names()) or 'no steps'}")
+
+    def with_step(self, name: str, **params: Any) -> ProcessingChain:
+        """A copy with step ``name`` and ``params`` appended at the end."""
+        return ProcessingChain(self.steps + (ProcessingStep(name, tuple(params.items())),))
+
+    def without(self, name: str) -> ProcessingChain:
+        """A copy without any step called ``name``."""
+        self._require(name)
+        return ProcessingChain(tuple(s for s in self.steps if s.name != name))
+
+    def replace_params(self, name: str, **params: Any) -> ProcessingChain:
+        """A copy where every step called ``name`` has ``params`` set (others kept)."""
+        self._require(name)
+        out = []
+        for s in self.steps:
+            if s.name == name:
+                merged = dict(s.params)
+                merged.update(params)
+                s = ProcessingStep(s.name, tuple(merged.items()), s.enabled)
+            out.append(s)
+        return ProcessingChain(tuple(out))
+
+    def with_enabled(self, name: str, enabled: bool = True) -> ProcessingChain:
+        """A copy where every step called ``name`` is switched on or off."""
+        self._require(name)
+        return ProcessingChain(tuple(
+            ProcessingStep(s.name, s.params, enabled) if s.name == name else s
+            for s in self.steps))
+
+    # ---------------------------------------------------------------- files
+    def to_dict(self) -> dict[str, Any]:
+        """A JSON-ready mapping with format tag, version and the steps."""
+        return {"format": CHAIN_FORMAT, "version": CHAIN_VERSION,
+                "steps": [s.to_dict() for s in self.steps]}
+
+    @classmethod
+    def from_dict(cls, d: Mapping[str, Any]) -> ProcessingChain:
+        """Inverse of :meth:`to_dict`; refuses unknown fields, steps and parameters."""
+        if not isinstance(d, Mapping):
+            raise ValueError(f"a processing chain must be a mapping, got {type(d).__name__}")
+        extra = set(d) - {"format", "version", "steps"}
+        if extra:
+            raise ValueError(f"unknown processing chain field(s) {sorted(extra)}; allowed: "
+                             "format, version, steps")
+        if d.get("format") != CHAIN_FORMAT:
+            raise ValueError(f"format = {d.get('format')!r} is not {CHAIN_FORMAT!r}")
+        if d.get("version") != CHAIN_VERSION:
+            raise ValueError(f"version = {d.get('version')!r} is not supported; "
+                             f"allowed: {CHAIN_VERSION}")
+        steps = d.get("steps", [])
+        if not isinstance(steps, list):
+            raise ValueError(f"steps must be a list, got {type(steps).__name__}")
+        return cls(tuple(ProcessingStep.from_dict(s) for s in steps))
+
+    def to_json(self, indent: int | None = 2) -> str:
+        """:meth:`to_dict` as JSON text."""
+        return json.dumps(self.to_dict(), indent=indent)
+
+    @classmethod
+    def from_json(cls, text: str) -> ProcessingChain:
+        """Inverse of :meth:`to_json`."""
+        try:
+            d = json.loads(text)
+        except json.JSONDecodeError as exc:
+            raise ValueError(f"processing chain is not valid JSON: {exc}") from None
+        return cls.from_dict(d)

@@ -1,0 +1,208 @@
+"""Trace-by-trace and section-wide filters: time-zero, dewow, background removal,
+band-pass and envelope.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from scipy import ndimage, signal
+
+from .._validate import check_choice, check_range
+from ..radargram import Radargram
+from ._common import (
+    STEPS,
+    check_bool,
+    check_int,
+    record,
+    sample_interval_s,
+    shift_traces,
+    window_samples,
+)
+
+__all__ = ["time_zero", "dewow", "background_removal", "bandpass", "envelope",
+           "pick_first_arrival_s"]
+
+BACKGROUND_METHODS = ("mean", "median")
+
+
+def _envelope(data: np.ndarray) -> np.ndarray:
+    return np.abs(signal.hilbert(data, axis=0))
+
+
+def pick_first_arrival_s(rg: Radargram, threshold: float = 0.5,
+                         per_trace: bool = True) -> np.ndarray:
+    """Time where the envelope first reaches ``threshold`` times its peak, per trace.
+
+    Parameters
+    ----------
+    rg : Radargram
+        Section to pick.
+    threshold : float
+        Fraction of the envelope peak that defines the arrival, in (0, 1].
+    per_trace : bool
+        Pick every trace on its own envelope (true) or pick once on the envelope averaged
+        over all traces and repeat that time (false).
+
+    Returns
+    -------
+    ndarray, shape (n_traces,)
+        Picked times, s, interpolated linearly between samples. Traces without any signal
+        (all zero) get NaN.
+
+    Notes
+    -----
+    Threshold picking of the leading edge of the envelope is common practice for first
+    arrivals; the pick lies before the envelope peak by about half the pulse length.
+    """
+    thr = check_range("threshold", threshold, 0.0, 1.0, low_open=True)
+    per_trace = check_bool("per_trace", per_trace)
+    env = _envelope(rg.data)
+    if not per_trace:
+        env = env.mean(axis=1, keepdims=True)
+    peak = env.max(axis=0)
+    level = thr * peak
+    above = env >= level[None, :]
+    k = np.argmax(above, axis=0)
+    cols = np.arange(env.shape[1])
+    e1 = env[k, cols]
+    e0 = env[np.maximum(k - 1, 0), cols]
+    rise = e1 - e0
+    frac = np.where((k > 0) & (rise > 0), (level - e0) / np.where(rise > 0, rise, 1.0), 1.0)
+    t = rg.time_s
+    t_pick = t[np.maximum(k - 1, 0)] + np.where(k > 0, frac, 0.0) * sample_interval_s(rg)
+    t_pick = np.where(peak > 0.0, t_pick, np.nan)
+    if not per_trace:
+        t_pick = np.full(rg.position_m.size, t_pick[0])
+    return t_pick
+
+
+@STEPS.register("time_zero")
+def time_zero(rg: Radargram, target_time_s: float = 0.0, threshold: float = 0.5,
+              pick_time_s: float | None = None, per_trace: bool = True) -> Radargram:
+    """Shift traces so that the first strong arrival (or a given time) lands at ``target_time_s``.
+
+    Parameters
+    ----------
+    rg : Radargram
+        Input section.
+    target_time_s : float
+        Where the arrival is moved to, s, inside the time axis.
+    threshold : float
+        Envelope fraction used by :func:`pick_first_arrival_s` when ``pick_time_s`` is None.
+    pick_time_s : float or None
+        Use this arrival time for every trace instead of picking.
+    per_trace : bool
+        Pick and shift each trace on its own (aligns a wavy surface echo) or shift all
+        traces by one common amount.
+
+    Returns
+    -------
+    Radargram
+        Same axes; samples shifted in from outside the record are zero. Traces with no
+        signal are left in place.
+    """
+    dt = sample_interval_s(rg)
+    t = rg.time_s
+    target = check_range("target_time_s", target_time_s, float(t[0]), float(t[-1]), unit="s")
+    thr = check_range("threshold", threshold, 0.0, 1.0, low_open=True)
+    per_trace = check_bool("per_trace", per_trace)
+    if pick_time_s is None:
+        picks = pick_first_arrival_s(rg, thr, per_trace)
+    else:
+        p = check_range("pick_time_s", pick_time_s, float(t[0]), float(t[-1]), unit="s")
+        picks = np.full(rg.position_m.size, p)
+        pick_time_s = p
+    shift = np.where(np.isfinite(picks), (target - picks) / dt, 0.0)
+    out = shift_traces(rg.data, shift)
+    rec = record("time_zero", target_time_s=target, threshold=thr, pick_time_s=pick_time_s,
+                 per_trace=per_trace)
+    return rg.with_data(out, rec)
+
+
+@STEPS.register("dewow")
+def dewow(rg: Radargram, window_s: float = 5e-9) -> Radargram:
+    """Subtract a running mean along each trace (removes DC and the slow "wow").
+
+    Parameters
+    ----------
+    rg : Radargram
+        Input section.
+    window_s : float
+        Length of the running-mean window, s, between two samples and the record length.
+        Several pulse periods is usual (5 ns suits 400 MHz to 1.6 GHz antennas; common
+        practice). The window is rounded to an odd number of samples (at least 3); the
+        trace is mirrored at its ends.
+    """
+    n = window_samples("window_s", window_s, rg)
+    mean = ndimage.uniform_filter1d(rg.data, size=n, axis=0, mode="reflect")
+    return rg.with_data(rg.data - mean, record("dewow", window_s=float(window_s)))
+
+
+@STEPS.register("background_removal")
+def background_removal(rg: Radargram, method: str = "mean",
+                       window_traces: int | None = None) -> Radargram:
+    """Subtract the mean or median trace (removes flat bands: antenna ringing, flat layers).
+
+    Parameters
+    ----------
+    rg : Radargram
+        Input section.
+    method : {"mean", "median"}
+        Statistic of the background trace; the median ignores a few odd traces.
+    window_traces : int or None
+        None: one background trace for the whole section. Otherwise an odd number of
+        traces (3 to n_traces) of a moving window centred on each trace, which follows a
+        slowly changing background (ends are mirrored).
+    """
+    method = check_choice("method", method, BACKGROUND_METHODS)
+    data = rg.data
+    nx = data.shape[1]
+    if window_traces is None:
+        if method == "mean":
+            bg = data.mean(axis=1, keepdims=True)
+        else:
+            bg = np.median(data, axis=1, keepdims=True)
+    else:
+        w = check_int("window_traces", window_traces, 3, max(nx, 3))
+        if w % 2 == 0:
+            raise ValueError(f"window_traces = {w} must be odd (a window centred on the trace)")
+        window_traces = w
+        if method == "mean":
+            bg = ndimage.uniform_filter1d(data, size=w, axis=1, mode="reflect")
+        else:
+            bg = ndimage.median_filter(data, size=(1, w), mode="reflect")
+    rec = record("background_removal", method=method, window_traces=window_traces)
+    return rg.with_data(data - bg, rec)
+
+
+@STEPS.register("bandpass")
+def bandpass(rg: Radargram, low_hz: float, high_hz: float, order: int = 4) -> Radargram:
+    """Zero-phase Butterworth band-pass (forward and backward second-order sections).
+
+    Parameters
+    ----------
+    rg : Radargram
+        Input section.
+    low_hz, high_hz : float
+        Band edges (-3 dB of the one-way filter, so -6 dB after the two passes), Hz, with
+        ``0 < low_hz < high_hz < Nyquist = 1 / (2 dt)``.
+    order : int
+        Butterworth order of the one-way filter, 1 to 10.
+    """
+    dt = sample_interval_s(rg)
+    nyq = 0.5 / dt
+    lo = check_range("low_hz", low_hz, 0.0, nyq, unit="Hz", low_open=True, high_open=True)
+    hi = check_range("high_hz", high_hz, lo, nyq, unit="Hz", low_open=True, high_open=True)
+    n = check_int("order", order, 1, 10)
+    sos = signal.butter(n, [lo, hi], btype="bandpass", fs=1.0 / dt, output="sos")
+    nt = rg.time_s.size
+    padlen = min(3 * (2 * len(sos) + 1), nt - 1)
+    out = signal.sosfiltfilt(sos, rg.data.T, axis=-1, padlen=padlen).T
+    return rg.with_data(out, record("bandpass", low_hz=lo, high_hz=hi, order=n))
+
+
+@STEPS.register("envelope")
+def envelope(rg: Radargram) -> Radargram:
+    """Instantaneous amplitude: magnitude of the analytic signal along each trace."""
+    sample_interval_s(rg)
+    return rg.with_data(_envelope(rg.data), record("envelope"))

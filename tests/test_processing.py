@@ -1,0 +1,503 @@
+"""Tests of snowprobe_widgets.processing on synthetic radargrams built here.
+
+The synthetic sections are zero-offset: a point diffractor at (x0, t0) gives the hyperbola
+t(x) = sqrt(t0**2 + (2 (x - x0) / v)**2) (exploding reflector; Yilmaz 2001, *Seismic Data
+Analysis*, ch. 4), drawn with a Ricker wavelet (Ricker 1953), plus a flat layer echo.
+"""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pytest
+from scipy.signal import hilbert
+
+from snowprobe_widgets import processing as P
+from snowprobe_widgets.constants import C0_M_S
+from snowprobe_widgets.radargram import ProcessingRecord, Radargram
+
+FC_HZ = 500e6
+DT_S = 0.1e-9
+NT = 512
+NX = 201
+DX_M = 0.03
+X0_M = 3.0  # trace 100
+T0_S = 20e-9  # sample 200
+V_M_S = 0.23e9  # dry snow
+LAYER_T_S = 8e-9
+
+
+def ricker(t: np.ndarray, fc: float = FC_HZ) -> np.ndarray:
+    a = (np.pi * fc * t) ** 2
+    return (1.0 - 2.0 * a) * np.exp(-a)
+
+
+def axes(nt: int = NT, nx: int = NX) -> tuple[np.ndarray, np.ndarray]:
+    return np.arange(nt) * DT_S, np.arange(nx) * DX_M
+
+
+def hyperbola(x0: float = X0_M, t0: float = T0_S, v: float = V_M_S, amp: float = 1.0,
+              nt: int = NT, nx: int = NX) -> np.ndarray:
+    t, x = axes(nt, nx)
+    th = np.sqrt(t0**2 + (2.0 * (x - x0) / v) ** 2)
+    return amp * (t0 / th)[None, :] * ricker(t[:, None] - th[None, :])
+
+
+def layer(t_layer: float = LAYER_T_S, amp: np.ndarray | float = 1.0) -> np.ndarray:
+    t, x = axes()
+    return ricker(t - t_layer)[:, None] * np.broadcast_to(amp, x.shape)[None, :]
+
+
+def rg_of(data: np.ndarray) -> Radargram:
+    t, x = axes(*data.shape)
+    return Radargram(data, t, x)
+
+
+def energy_db(a: np.ndarray, b: np.ndarray) -> float:
+    """Energy of ``a`` relative to ``b``, dB."""
+    return 10.0 * np.log10(np.sum(a**2) / np.sum(b**2))
+
+
+def env_peak(data: np.ndarray) -> tuple[int, int]:
+    env = np.abs(hilbert(data, axis=0))
+    i, j = np.unravel_index(int(np.argmax(env)), env.shape)
+    return int(i), int(j)
+
+
+# ------------------------------------------------------------------ migration
+@pytest.mark.parametrize("method", ["fk", "kirchhoff"])
+def test_migration_focuses_point_diffractor(method):
+    # Stolt 1978, Geophysics 43(1) "Migration by Fourier transform" (fk) and diffraction
+    # summation (Yilmaz 2001, section 4.1): at the true velocity the hyperbola collapses
+    # to its apex. Tolerance: one trace and one sample (the grid).
+    rg = rg_of(hyperbola() + layer())
+    out = P.migrate(rg, V_M_S, method=method)
+    i, j = env_peak(out.data - layer())  # the flat layer maps onto itself
+    assert abs(rg.position_m[j] - X0_M) <= DX_M + 1e-12
+    assert abs(rg.time_s[i] - T0_S) <= DT_S + 1e-15
+    # focusing: the energy away from the apex drops (flank at 1.5 m from the apex)
+    t_flank = np.sqrt(T0_S**2 + (2 * 1.5 / V_M_S) ** 2)
+    k, f = int(round(t_flank / DT_S)), int(round((X0_M + 1.5) / DX_M))
+    before = np.abs(hilbert(rg.data, axis=0))[k, f]
+    after = np.abs(hilbert(out.data, axis=0))[k, f]
+    assert after < 0.1 * before
+
+
+def test_migration_wrong_velocity_does_not_focus_as_well():
+    # Same references: the focus is sharpest at the true velocity (this is what makes the
+    # focusing test able to fail for a wrong exploding-reflector factor v/2).
+    rg = rg_of(hyperbola())
+    peaks = {v: np.abs(hilbert(P.migrate(rg, v).data, axis=0)).max()
+             for v in (0.7 * V_M_S, V_M_S, 1.25 * V_M_S)}
+    assert peaks[V_M_S] > 1.5 * peaks[0.7 * V_M_S]
+    assert peaks[V_M_S] > 1.5 * peaks[1.25 * V_M_S]
+
+
+def test_migration_methods_agree_on_amplitude():
+    # Consistency of the two methods (both solve the same constant-velocity problem); the
+    # Kirchhoff weights are from memory, so only a loose 30 % agreement is asked.
+    rg = rg_of(hyperbola())
+    a = np.abs(hilbert(P.migrate(rg, V_M_S, method="fk").data, axis=0)).max()
+    b = np.abs(hilbert(P.migrate(rg, V_M_S, method="kirchhoff").data, axis=0)).max()
+    assert 0.7 < b / a < 1.3
+
+
+def test_migration_respects_a_later_first_sample():
+    # Stolt 1978: a time axis starting at t_first > 0 must give the same focus as the same
+    # samples on an axis from 0 (phase shift handled explicitly).
+    t, x = axes()
+    full = hyperbola()
+    cut = Radargram(full[50:], t[50:], x)
+    out = P.migrate(cut, V_M_S)
+    i, j = env_peak(out.data)
+    assert abs(cut.time_s[i] - T0_S) <= DT_S + 1e-15
+    assert abs(x[j] - X0_M) <= DX_M + 1e-12
+
+
+def test_kirchhoff_aperture_limits_the_sum():
+    # Common practice: a small aperture leaves the flanks partly unmigrated, so the focus is
+    # weaker than with the full aperture.
+    rg = rg_of(hyperbola())
+    full = np.abs(P.migrate(rg, V_M_S, method="kirchhoff").data).max()
+    small = np.abs(P.migrate(rg, V_M_S, method="kirchhoff", aperture_m=0.15).data).max()
+    assert small < 0.8 * full
+
+
+# ------------------------------------------------------------------ velocity analysis
+@pytest.mark.parametrize("v_true", [0.18e9, 0.23e9, 0.27e9])
+def test_velocity_analysis_recovers_velocity(v_true):
+    # Semblance (Taner & Koehler 1969, Geophysics 34(6)) along zero-offset hyperbolas,
+    # with noise and a flat layer present and an apex pick 0.6 ns off. Tolerance 3 %.
+    rng = np.random.default_rng(7)
+    data = hyperbola(v=v_true) + layer() + 0.05 * rng.standard_normal((NT, NX))
+    rg = P.background_removal(rg_of(data))
+    est = P.velocity_analysis(rg, X0_M, T0_S + 0.6e-9)
+    assert abs(est.velocity_m_s / v_true - 1.0) < 0.03
+    assert abs(est.apex_time_s - T0_S) < 2 * DT_S  # noise moves the envelope peak ~1 sample
+    assert 0.5 < est.coherence <= 1.0
+    assert est.coherence_curve.shape == est.velocities_m_s.shape
+    assert not est.velocities_m_s.flags.writeable
+
+
+def test_velocity_analysis_peak_is_sharp():
+    # Taner & Koehler 1969: semblance falls off the true velocity; 20 % off it is clearly lower.
+    rg = rg_of(hyperbola())
+    est = P.velocity_analysis(rg, X0_M, T0_S, velocities_m_s=[0.8 * V_M_S, V_M_S, 1.2 * V_M_S])
+    lo, mid, hi = est.coherence_curve
+    assert mid > 0.9 and lo < 0.6 * mid and hi < 0.6 * mid
+
+
+def test_semblance_limits():
+    # Taner & Koehler 1969: identical traces give 1, traces cancelling in pairs give 0.
+    a = np.tile(np.sin(np.linspace(0, 3, 9)), (4, 1))
+    ok = np.ones(4, dtype=bool)
+    assert P.semblance(a, ok) == pytest.approx(1.0)
+    b = a * np.array([1, -1, 1, -1])[:, None]
+    assert P.semblance(b, ok) == pytest.approx(0.0, abs=1e-15)
+    assert P.semblance(np.zeros((4, 9)), ok) == 0.0
+
+
+# ------------------------------------------------------------------ background removal
+def test_background_mean_removes_flat_layer_keeps_hyperbola():
+    # Common practice: subtracting the mean trace removes horizontal bands. The layer has a
+    # 1 % amplitude ripple along the line, so suppression is finite (about 43 dB); the
+    # hyperbola's flanks span the section, so the mean trace holds little of its energy.
+    t, x = axes()
+    ripple = 1.0 + 0.01 * np.sin(2 * np.pi * x / 1.7)
+    flat = layer(amp=ripple)
+    hyp = hyperbola()
+    out_total = P.background_removal(rg_of(flat + hyp)).data
+    # the step is linear, so its output splits into the two parts exactly
+    out_flat = P.background_removal(rg_of(flat)).data
+    out_hyp = P.background_removal(rg_of(hyp)).data
+    np.testing.assert_allclose(out_total, out_flat + out_hyp, atol=1e-12)
+    assert energy_db(out_flat, flat) <= -30.0
+    assert abs(energy_db(out_hyp, hyp)) <= 3.0
+
+
+def test_background_moving_window_follows_changing_layer():
+    # Common practice: a moving-window background follows a layer whose strength changes
+    # along the line, which one mean trace cannot.
+    t, x = axes()
+    amp = np.linspace(0.5, 1.5, x.size)
+    flat = layer(amp=amp)
+    whole = P.background_removal(rg_of(flat)).data
+    moving = P.background_removal(rg_of(flat), window_traces=21).data
+    inner = slice(15, -15)  # the mirrored ends are not linear
+    assert energy_db(moving[:, inner], flat[:, inner]) < energy_db(whole[:, inner],
+                                                                   flat[:, inner]) - 20.0
+
+
+def test_background_median_ignores_odd_traces():
+    # The median of the traces is unmoved by a few strong odd traces (common practice).
+    flat = layer()
+    odd = flat.copy()
+    odd[:, [10, 60, 130]] += 50.0 * ricker(axes()[0] - 30e-9)[:, None]
+    med = P.background_removal(rg_of(odd), method="median").data
+    mean = P.background_removal(rg_of(odd), method="mean").data
+    normal = np.setdiff1d(np.arange(NX), [10, 60, 130])
+    assert np.abs(med[:, normal]).max() < 1e-12
+    assert np.abs(mean[:, normal]).max() > 0.1
+    med_w = P.background_removal(rg_of(odd), method="median", window_traces=11).data
+    assert np.abs(med_w[:, normal]).max() < 1e-12
+
+
+# ------------------------------------------------------------------ dewow, bandpass, gain
+def test_dewow_removes_offset_and_wow_keeps_pulse():
+    # Common practice: a running mean over several periods holds the DC and slow drift, not
+    # the pulse. Offset 0.5 plus a 2 MHz wow; pulse at 500 MHz.
+    t, x = axes(nx=3)
+    pulse = ricker(t - 25e-9)[:, None] * np.ones(3)
+    wow = 0.5 + 0.3 * np.sin(2 * np.pi * 2e6 * t)[:, None]
+    out = P.dewow(rg_of(pulse + wow), window_s=5e-9).data
+    # the step is linear: look at what it does to each part
+    out_wow = P.dewow(rg_of(wow), window_s=5e-9).data
+    out_pulse = P.dewow(rg_of(pulse), window_s=5e-9).data
+    np.testing.assert_allclose(out, out_wow + out_pulse, atol=1e-12)
+    inner = slice(50, -50)  # the mirrored ends do not follow a sloping drift
+    assert energy_db(out_wow[inner], wow[inner]) < -60.0
+    assert abs(energy_db(out_pulse, pulse)) < 1.0
+
+
+def test_bandpass_attenuates_out_of_band_tone():
+    # Butterworth response |H| = 1 / sqrt(1 + W**(2n)) with the band-pass transform
+    # W = (f**2 - f0**2) / (f B) (Butterworth 1930); run forward and backward it is squared
+    # and zero-phase. 100 MHz is at W = 5.9 -> -123 dB; 700 MHz is at W = 0.27 -> ~0 dB.
+    t, x = axes(nt=2048, nx=2)
+    low = np.sin(2 * np.pi * 100e6 * t)[:, None] * np.ones(2)
+    mid = np.sin(2 * np.pi * 700e6 * t)[:, None] * np.ones(2)
+    rg = Radargram(low + mid, t, x)
+    out = P.bandpass(rg, 400e6, 1200e6, order=4).data
+    inner = slice(300, -300)  # away from the filter's start-up at the ends
+    assert energy_db(out[inner] - mid[inner], low[inner]) < -60.0
+    assert abs(energy_db(out[inner], mid[inner])) < 0.1
+
+
+def test_bandpass_is_zero_phase():
+    # Forward-backward filtering has zero phase (Gustafsson 1996, IEEE Trans. Signal
+    # Processing 44(4)): a Ricker pulse keeps its peak sample.
+    t, x = axes(nx=1)
+    d = ricker(t - 25e-9)[:, None]
+    out = P.bandpass(Radargram(d, t, x), 200e6, 1200e6).data
+    assert int(np.argmax(out)) == 250
+
+
+def test_exponential_and_spreading_gain_follow_their_formulas():
+    # Exponential gain undoes 10**(-a v t / 20) (a in dB per metre of two-way path);
+    # spreading gain t**p (Yilmaz 2001 section 1.4, from memory). Checked on constant data.
+    t, x = axes(nx=2)
+    ones = Radargram(np.ones((NT, 2)), t, x)
+    out = P.gain(ones, "exponential", attenuation_db_m=0.5, velocity_m_s=0.2e9).data[:, 0]
+    expect = 10.0 ** (0.5 * 0.2e9 * t / 20.0)
+    np.testing.assert_allclose(out, expect, rtol=1e-12)
+    out = P.gain(ones, "spreading", power=2.0, max_gain_db=200.0).data[:, 0]
+    np.testing.assert_allclose(out[1:], (t[1:] / DT_S) ** 2, rtol=1e-12)
+    capped = P.gain(ones, "spreading", power=2.0, max_gain_db=40.0).data[:, 0]
+    assert capped.max() == pytest.approx(100.0)
+    late = P.gain(ones, "exponential", start_s=10e-9).data[:, 0]
+    assert np.all(late[t <= 10e-9] == 1.0) and late[-1] > 1.0
+
+
+def test_agc_equalises_amplitude_and_keeps_zero_data_finite():
+    # Common practice: AGC divides by the running RMS, so a 40 dB weaker echo comes out at
+    # about the same level. Zero data must stay zero (no 0/0).
+    t, x = axes(nx=1)
+    d = (ricker(t - 10e-9) + 0.01 * ricker(t - 35e-9))[:, None]
+    out = P.gain(Radargram(d, t, x), "agc", window_s=4e-9).data[:, 0]
+    a = np.abs(out[:220]).max()
+    b = np.abs(out[300:]).max()
+    assert abs(20 * np.log10(a / b)) < 3.0
+    zero = P.gain(Radargram(np.zeros((NT, 3)), *axes(nx=3)), "agc")
+    assert np.all(zero.data == 0.0)
+
+
+def test_envelope_of_cosine_burst():
+    # Hilbert transform of a narrow-band burst: the analytic-signal magnitude is the
+    # Gaussian window (Bedrosian 1963 product theorem). 40 periods under the window.
+    t = np.arange(2048) * DT_S
+    tc, sig = 100e-9, 20e-9
+    win = np.exp(-0.5 * ((t - tc) / sig) ** 2)
+    burst = win * np.cos(2 * np.pi * 1e9 * (t - tc))
+    out = P.envelope(Radargram(burst[:, None], t, [0.0])).data[:, 0]
+    core = np.abs(t - tc) < 2 * sig
+    np.testing.assert_allclose(out[core], win[core], atol=2e-3)
+
+
+# ------------------------------------------------------------------ time-zero
+def _jittered():
+    rng = np.random.default_rng(3)
+    t, x = axes(nx=40)
+    ts = 5e-9 + rng.uniform(-1e-9, 1e-9, x.size)
+    d = ricker(t[:, None] - ts[None, :]) + 0.5 * ricker(t[:, None] - ts[None, :] - 12e-9)
+    return Radargram(d, t, x), ts
+
+
+def test_time_zero_aligns_surface_echo():
+    # Common practice: threshold pick on the envelope's leading edge, then shift.
+    rg, ts = _jittered()
+    picks = P.pick_first_arrival_s(rg, 0.5)
+    offset = picks - ts  # the pick leads the peak by a fixed amount for one wavelet
+    assert np.ptp(offset) < 0.05e-9
+    out = P.time_zero(rg, target_time_s=2e-9)
+    new_peaks = out.time_s[np.argmax(out.data, axis=0)]
+    assert np.ptp(new_peaks) <= DT_S + 1e-15
+    np.testing.assert_allclose(P.pick_first_arrival_s(out, 0.5), 2e-9, atol=0.05e-9)
+    deep = out.time_s[200 + np.argmax(np.abs(out.data[200:]), axis=0)]
+    assert np.ptp(deep) <= DT_S + 1e-15  # the deeper echo moved with its trace
+
+
+def test_time_zero_common_shift_and_given_pick():
+    rg, ts = _jittered()
+    out = P.time_zero(rg, target_time_s=1e-9, pick_time_s=4e-9)
+    # every trace moved 3 ns earlier: exact for a whole number of samples
+    np.testing.assert_allclose(out.data[:-30], rg.data[30:], atol=1e-12)
+    assert np.all(out.data[-30:] == 0.0)
+    common = P.time_zero(rg, per_trace=False)
+    shifts = (np.argmax(rg.data, axis=0) - np.argmax(common.data, axis=0))
+    assert np.ptp(shifts) <= 1
+
+
+# ------------------------------------------------------------------ depth
+def test_depth_axis_single_and_layered():
+    # depth = v t / 2 below the surface; the air gap is crossed at c0 (definition).
+    t = np.array([0.0, 10e-9, 20e-9])
+    np.testing.assert_allclose(P.depth_axis_m(t, 0.2e9), [0.0, 1.0, 2.0])
+    h = 0.3
+    ts = 2 * h / C0_M_S
+    z = P.depth_axis_m([0.0, ts, ts + 10e-9], 0.2e9, antenna_height_m=h)
+    np.testing.assert_allclose(z, [-h, 0.0, 1.0], atol=1e-12)
+    # 1 m of 0.2 m/ns (10 ns two-way) over 0.25 m/ns
+    z = P.depth_axis_m([5e-9, 10e-9, 18e-9], [0.2e9, 0.25e9], layer_thickness_m=[1.0])
+    np.testing.assert_allclose(z, [0.5, 1.0, 2.0])
+
+
+def test_time_to_depth_resamples_echo_to_its_depth():
+    t, x = axes(nx=2)
+    d = ricker(t - 20e-9, 300e6)[:, None] * np.ones(2)
+    rg = Radargram(d, t, x)
+    depth, dd = P.time_to_depth(rg, 0.23e9)
+    assert dd.shape == (depth.size, 2)
+    np.testing.assert_allclose(np.diff(depth), 0.5 * 0.23e9 * DT_S, rtol=1e-9)
+    assert depth[np.argmax(dd[:, 0])] == pytest.approx(0.5 * 0.23e9 * 20e-9, abs=0.012)
+    with pytest.raises(ValueError, match="layer_thickness_m"):
+        P.time_to_depth(rg, [0.2e9, 0.25e9])
+
+
+# ------------------------------------------------------------------ every step
+STEP_CALLS = [
+    ("time_zero", {}),
+    ("dewow", {"window_s": 3e-9}),
+    ("background_removal", {"method": "median", "window_traces": 5}),
+    ("gain", {"kind": "agc", "window_s": 3e-9}),
+    ("bandpass", {"low_hz": 200e6, "high_hz": 1e9}),
+    ("migrate", {"velocity_m_s": V_M_S, "method": "kirchhoff", "aperture_m": 0.5}),
+    ("envelope", {}),
+]
+
+
+def test_every_registered_step_is_covered():
+    assert set(P.STEPS.names()) >= {n for n, _ in STEP_CALLS}
+    assert {n for n, _ in STEP_CALLS} >= set(P.STEPS.names())
+
+
+@pytest.mark.parametrize("name,params", STEP_CALLS)
+def test_step_keeps_axes_and_appends_history(name, params):
+    rg0 = rg_of(hyperbola(nx=30) + 0.1)
+    rg = rg0.with_data(rg0.data, ProcessingRecord("earlier"))
+    out = P.STEPS.get(name)(rg, **params)
+    assert out.data.shape == rg.data.shape
+    assert np.array_equal(out.time_s, rg.time_s)
+    assert np.array_equal(out.position_m, rg.position_m)
+    assert out.history[:-1] == rg.history
+    assert out.history[-1].step == name
+    recorded = dict(out.history[-1].params)
+    for k, v in params.items():
+        assert recorded[k] == v
+    assert np.all(np.isfinite(out.data))
+    assert not np.array_equal(out.data, rg.data)
+    # replaying the record gives the same result
+    again = P.ProcessingChain.from_history(out.history[-1:]).apply(rg)
+    np.testing.assert_array_equal(again.data, out.data)
+
+
+@pytest.mark.parametrize("name,params", STEP_CALLS)
+def test_step_on_zero_data_gives_no_nan(name, params):
+    t, x = axes(nt=128, nx=30)
+    out = P.STEPS.get(name)(Radargram(np.zeros((128, 30)), t, x), **params)
+    assert np.all(out.data == 0.0)
+
+
+# ------------------------------------------------------------------ chain
+def test_default_chain_runs_and_round_trips_json():
+    chain = P.ProcessingChain.default()
+    rg = rg_of(hyperbola() + layer())
+    out = chain.apply(rg)
+    enabled = [s.name for s in chain.steps if s.enabled]
+    assert [r.step for r in out.history] == enabled
+    assert "time_zero" in chain.names() and "time_zero" not in enabled
+    text = chain.to_json()
+    json.loads(text)
+    back = P.ProcessingChain.from_json(text)
+    assert back == chain
+    np.testing.assert_array_equal(back.apply(rg).data, out.data)
+    assert P.ProcessingChain.from_dict(chain.to_dict()) == chain
+
+
+def test_chain_editing():
+    chain = P.ProcessingChain.default()
+    c2 = chain.with_step("migrate", velocity_m_s=V_M_S)
+    assert c2.names()[-1] == "migrate" and chain.names()[-1] != "migrate"
+    c3 = c2.without("bandpass")
+    assert "bandpass" not in c3.names()
+    c4 = c3.replace_params("dewow", window_s=8e-9)
+    dw = [s for s in c4.steps if s.name == "dewow"][0]
+    assert dict(dw.params)["window_s"] == 8e-9
+    c5 = c4.with_enabled("time_zero", True)
+    assert all(s.enabled for s in c5.steps)
+    with pytest.raises(ValueError, match="no step 'envelope'"):
+        chain.without("envelope")
+    with pytest.raises(ValueError, match="unknown processing step 'sharpen'"):
+        chain.with_step("sharpen")
+    with pytest.raises(ValueError, match="no parameter 'windw_s'"):
+        chain.replace_params("dewow", windw_s=1e-9)
+
+
+@pytest.mark.parametrize("doc,match", [
+    ({"format": "snowprobe_widgets.processing_chain", "version": 1,
+      "steps": [{"name": "sharpen", "params": {}}]}, "unknown processing step 'sharpen'"),
+    ({"format": "snowprobe_widgets.processing_chain", "version": 1,
+      "steps": [{"name": "dewow", "params": {"width": 1}}]}, "no parameter 'width'"),
+    ({"format": "snowprobe_widgets.processing_chain", "version": 1,
+      "steps": [{"name": "dewow", "colour": "red"}]}, r"unknown step field\(s\) \['colour'\]"),
+    ({"format": "snowprobe_widgets.processing_chain", "version": 1, "steps": [],
+      "author": "x"}, r"unknown processing chain field\(s\) \['author'\]"),
+    ({"format": "other", "version": 1, "steps": []}, "format"),
+    ({"format": "snowprobe_widgets.processing_chain", "version": 9, "steps": []}, "version"),
+    ({"format": "snowprobe_widgets.processing_chain", "version": 1,
+      "steps": [{"name": "dewow", "params": {"window_s": [1, 2]}}]}, "window_s"),
+])
+def test_chain_refuses_bad_documents(doc, match):
+    with pytest.raises(ValueError, match=match):
+        P.ProcessingChain.from_dict(doc)
+    with pytest.raises(ValueError, match=match):
+        P.ProcessingChain.from_json(json.dumps(doc))
+
+
+def test_chain_refuses_bad_json_text():
+    with pytest.raises(ValueError, match="not valid JSON"):
+        P.ProcessingChain.from_json("{steps: ")
+
+
+# ------------------------------------------------------------------ bad inputs
+def _bad_calls():
+    rg = rg_of(hyperbola(nx=30))
+    return [
+        ("window_s", lambda: P.dewow(rg, window_s=-1e-9)),
+        ("window_s", lambda: P.dewow(rg, window_s=1.0)),
+        ("window_traces", lambda: P.background_removal(rg, window_traces=4)),
+        ("window_traces", lambda: P.background_removal(rg, window_traces=2.5)),
+        ("window_traces", lambda: P.background_removal(rg, window_traces=31)),
+        ("method", lambda: P.background_removal(rg, method="mode")),
+        ("high_hz", lambda: P.bandpass(rg, 100e6, 6e9)),
+        ("low_hz", lambda: P.bandpass(rg, -1.0, 1e9)),
+        ("high_hz", lambda: P.bandpass(rg, 800e6, 700e6)),
+        ("order", lambda: P.bandpass(rg, 100e6, 1e9, order=0)),
+        ("velocity_m_s", lambda: P.migrate(rg, 0.5e9)),
+        ("velocity_m_s", lambda: P.migrate(rg, 0.01e9, method="kirchhoff")),
+        ("method", lambda: P.migrate(rg, V_M_S, method="phase")),
+        ("aperture_m", lambda: P.migrate(rg, V_M_S, method="fk", aperture_m=1.0)),
+        ("aperture_m", lambda: P.migrate(rg, V_M_S, method="kirchhoff", aperture_m=-1.0)),
+        ("kind", lambda: P.gain(rg, kind="log")),
+        ("window_s", lambda: P.gain(rg, kind="agc", window_s=0.0)),
+        ("window_s", lambda: P.gain(rg, kind="exponential", window_s=1e-9)),
+        ("attenuation_db_m", lambda: P.gain(rg, kind="exponential", attenuation_db_m=-1)),
+        ("velocity_m_s", lambda: P.gain(rg, kind="exponential", velocity_m_s=4e8)),
+        ("power", lambda: P.gain(rg, kind="spreading", power=9.0)),
+        ("max_gain_db", lambda: P.gain(rg, kind="spreading", max_gain_db=-3.0)),
+        ("threshold", lambda: P.time_zero(rg, threshold=0.0)),
+        ("target_time_s", lambda: P.time_zero(rg, target_time_s=1.0)),
+        ("pick_time_s", lambda: P.time_zero(rg, pick_time_s=-1e-9)),
+        ("velocities_m_s", lambda: P.velocity_analysis(rg, 0.45, T0_S, [0.1e9, 0.2e9, 0.4e9])),
+        ("position_m", lambda: P.velocity_analysis(rg, 5.0, T0_S)),
+        ("time_s", lambda: P.velocity_analysis(rg, 0.45, 1.0)),
+        ("velocity_m_s", lambda: P.depth_axis_m([0.0, 1e-9], 0.0)),
+        ("antenna_height_m", lambda: P.depth_axis_m([0.0, 1e-9], 0.2e9, antenna_height_m=-1)),
+        ("depth_step_m", lambda: P.time_to_depth(rg, 0.2e9, depth_step_m=0.0)),
+    ]
+
+
+@pytest.mark.parametrize("i", range(len(_bad_calls())))
+def test_bad_inputs_name_the_field(i):
+    field, call = _bad_calls()[i]
+    with pytest.raises(ValueError, match=field):
+        call()
+
+
+def test_range_errors_give_value_and_range():
+    rg = rg_of(hyperbola(nx=30))
+    with pytest.raises(ValueError, match=r"velocity_m_s = 5e\+08 m/s is outside the allowed "
+                                         r"range \[3e\+07, 2\.99792e\+08\] m/s"):
+        P.migrate(rg, 0.5e9)
+    with pytest.raises(ValueError, match=r"high_hz = 6e\+09 Hz is outside .*5e\+09\) Hz"):
+        P.bandpass(rg, 100e6, 6e9)
