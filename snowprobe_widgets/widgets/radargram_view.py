@@ -178,7 +178,7 @@ class RadargramView(widgets.VBox):
             x=np.zeros(0), y=np.zeros(0), names=[], display_names=True, scales=scales,
             marker="cross", colors=["#e6c619"], stroke="black", default_size=90)
         self._pick_mark = bqplot.Lines(
-            x=[0.0, 0.0], y=[0.0, 1.0], scales=scales, colors=["#f5f5f5"],
+            x=[0.0, 0.0], y=[0.0, 1.0], scales=scales, colors=["#e0119d"],
             stroke_width=1.5, line_style="dashed", visible=False)
 
         self._depth_axis = bqplot.Axis(
