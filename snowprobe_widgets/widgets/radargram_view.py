@@ -137,8 +137,9 @@ class RadargramView(widgets.VBox):
     Notes
     -----
     Assigning ``view.radargram = rg`` redraws the picture, the axes ranges and the truth
-    markers in place. Clicking the picture sets :attr:`picked_position_m` (snapped to the
-    nearest trace) and :attr:`picked_trace_index`; other views observe those traits.
+    markers in place (assigning ``None`` keeps the last picture). Clicking the picture
+    sets :attr:`picked_position_m` (snapped to the nearest trace) and
+    :attr:`picked_trace_index`; other views observe those traits.
     """
 
     radargram = traitlets.Instance(Radargram, allow_none=True,
@@ -168,7 +169,7 @@ class RadargramView(widgets.VBox):
         scales = {"x": self._x_scale, "y": self._t_scale}
 
         self._image_mark = bqplot.Image(
-            image=self._blank_image(), scales=scales, x=[0.0, 1.0], y=[1.0, 0.0])
+            image=self._blank_image(colour_map_name), scales=scales, x=[0.0, 1.0], y=[1.0, 0.0])
         self._image_mark.on_element_click(self._on_image_click)
         self._truth_mark = bqplot.Scatter(
             x=np.zeros(0), y=np.zeros(0), names=[], display_names=True, scales=scales,
@@ -323,9 +324,8 @@ class RadargramView(widgets.VBox):
             self.picked_position_m = picked
 
     # ------------------------------------------------------------------ drawing
-    def _blank_image(self) -> widgets.Image:
-        pal = colour_map(self.colour_dropdown.value if hasattr(self, "colour_dropdown")
-                         else "frost_ember")
+    def _blank_image(self, name: str) -> widgets.Image:
+        pal = colour_map(name)
         png = encode_palette_png(np.full((1, 1), 128, dtype=np.uint8), pal)
         return widgets.Image(value=png, format="png", layout=self._image_layout)
 
