@@ -95,24 +95,44 @@ def test_migration_wrong_velocity_does_not_focus_as_well():
 
 
 def test_migration_methods_agree_on_amplitude():
-    # Consistency of the two methods (both solve the same constant-velocity problem); the
-    # Kirchhoff weights are from memory, so only a loose 30 % agreement is asked.
+    # Consistency of the two methods on the point diffractor (both solve the same
+    # constant-velocity problem); measured ratio 0.99, 10 % allowed.
     rg = rg_of(hyperbola())
     a = np.abs(hilbert(P.migrate(rg, V_M_S, method="fk").data, axis=0)).max()
     b = np.abs(hilbert(P.migrate(rg, V_M_S, method="kirchhoff").data, axis=0)).max()
-    assert 0.7 < b / a < 1.3
+    assert 0.9 < b / a < 1.1
+
+
+@pytest.mark.parametrize("method", ["fk", "kirchhoff"])
+def test_migration_of_dipping_reflector(method):
+    # Migrator's equation tan(a_migrated) = sin(a_unmigrated) for zero-offset data
+    # (Yilmaz 2001, section 4.1, from memory): a time dip p steepens to
+    # tan(asin(v p / 2)) / (v / 2). Stolt's Jacobian w_tau / w keeps the amplitude of a
+    # plane reflector (Stolt 1978); without it the event would come out 1 / cos(30 deg) =
+    # 15 % too strong. Measured: amplitude within 1.3 %, so 5 % is allowed; slope 3 %.
+    t, x = axes()
+    v_half = 0.5 * V_M_S
+    sin_a = 0.5  # 30 degrees
+    d = ricker(t[:, None] - (5e-9 + sin_a / v_half * x)[None, :])
+    out = P.migrate(rg_of(d), V_M_S, method=method).data
+    cols = slice(20, 100)  # migration moves the event up-dip (towards x = 0)
+    e_in = np.abs(hilbert(d, axis=0))[:, cols].max(axis=0)
+    env = np.abs(hilbert(out, axis=0))[:, cols]
+    assert env.max(axis=0).mean() == pytest.approx(e_in.mean(), rel=0.05)
+    slope = np.polyfit(x[cols], t[np.argmax(env, axis=0)], 1)[0]
+    assert slope == pytest.approx(np.tan(np.arcsin(sin_a)) / v_half, rel=0.03)
 
 
 def test_migration_respects_a_later_first_sample():
-    # Stolt 1978: a time axis starting at t_first > 0 must give the same focus as the same
-    # samples on an axis from 0 (phase shift handled explicitly).
+    # Stolt 1978: migration depends on absolute time, so a section whose axis starts at
+    # 5 ns must migrate like the full section from 0 (the first 5 ns hold no signal here).
+    # 10 % allows for the different padding and frequency grid of the shorter record
+    # (measured 3 %).
     t, x = axes()
-    full = hyperbola()
-    cut = Radargram(full[50:], t[50:], x)
-    out = P.migrate(cut, V_M_S)
-    i, j = env_peak(out.data)
-    assert abs(cut.time_s[i] - T0_S) <= DT_S + 1e-15
-    assert abs(x[j] - X0_M) <= DX_M + 1e-12
+    full = P.migrate(rg_of(hyperbola()), V_M_S).data[50:]
+    cut = Radargram(hyperbola()[50:], t[50:], x)
+    out = P.migrate(cut, V_M_S).data
+    assert np.linalg.norm(out - full) < 0.1 * np.linalg.norm(full)
 
 
 def test_kirchhoff_aperture_limits_the_sum():
