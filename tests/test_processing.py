@@ -464,6 +464,15 @@ def test_chain_refuses_bad_documents(doc, match):
         P.ProcessingChain.from_json(json.dumps(doc))
 
 
+def test_step_refuses_non_finite_and_odd_values():
+    with pytest.raises(ValueError, match="window_s = nan is not a finite number"):
+        P.ProcessingStep("dewow", (("window_s", float("nan")),))
+    with pytest.raises(ValueError, match="enabled must be true or false"):
+        P.ProcessingStep("dewow", (), enabled="yes")
+    step = P.ProcessingStep("dewow", {"window_s": 3e-9})  # a mapping is accepted
+    assert step.params == (("window_s", 3e-9),)
+
+
 def test_chain_refuses_bad_json_text():
     with pytest.raises(ValueError, match="not valid JSON"):
         P.ProcessingChain.from_json("{steps: ")

@@ -106,9 +106,9 @@ def sample_rows(data: np.ndarray, index: np.ndarray) -> np.ndarray:
     nt, nx = data.shape
     inside = (index >= 0.0) & (index <= nt - 1)
     idx = np.clip(index, 0.0, nt - 1)
-    i0 = np.minimum(np.floor(idx).astype(np.intp), max(nt - 2, 0))
+    i0 = np.minimum(idx.astype(np.intp), max(nt - 2, 0))  # idx >= 0: truncation = floor
     frac = idx - i0
-    cols = np.broadcast_to(np.arange(nx), i0.shape)
-    i1 = np.minimum(i0 + 1, nt - 1)
-    out = data[i0, cols] * (1.0 - frac) + data[i1, cols] * frac
+    flat = np.ascontiguousarray(data).ravel()
+    k0 = i0 * nx + np.arange(nx)
+    out = flat[k0] * (1.0 - frac) + flat[np.minimum(k0 + nx, flat.size - 1)] * frac
     return np.where(inside, out, 0.0)

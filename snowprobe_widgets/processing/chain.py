@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import inspect
 import json
+import math
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from typing import Any
@@ -49,6 +50,8 @@ def _check_params(name: str, params: Iterable[tuple[str, Any]]) -> tuple[tuple[s
                 f"step {name!r}: parameter {key} = {value!r} must be a number, string, "
                 "bool or None"
             )
+        if isinstance(value, float) and not math.isfinite(value):
+            raise ValueError(f"step {name!r}: parameter {key} = {value!r} is not a finite number")
         out.append((key, value))
     keys = [k for k, _ in out]
     if len(set(keys)) != len(keys):

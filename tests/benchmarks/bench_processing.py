@@ -1,0 +1,81 @@
+"""Speed of the processing layer on a 200-trace x 512-sample radargram.
+
+Run by hand: ``python tests/benchmarks/bench_processing.py``. Prints the median time of
+each step and of the default chain, with ratios to two baselines measured in the same
+run: a plain numpy copy of the data and the mean background removal step.
+"""
+
+from __future__ import annotations
+
+import statistics
+import time
+
+import numpy as np
+
+from snowprobe_widgets import processing as P
+from snowprobe_widgets.radargram import Radargram
+
+NT, NX = 512, 200
+DT_S, DX_M = 0.1e-9, 0.03
+FC_HZ = 800e6
+
+
+def synthetic() -> Radargram:
+    """Two diffractors, a flat layer, a DC offset and noise (invented test section)."""
+    t = np.arange(NT) * DT_S
+    x = np.arange(NX) * DX_M
+
+    def ricker(u: np.ndarray) -> np.ndarray:
+        a = (np.pi * FC_HZ * u) ** 2
+        return (1 - 2 * a) * np.exp(-a)
+
+    d = 0.2 + ricker(t - 6e-9)[:, None] * np.ones(NX)
+    for x0, t0 in ((2.0, 18e-9), (4.1, 30e-9)):
+        th = np.sqrt(t0**2 + (2 * (x - x0) / 0.23e9) ** 2)
+        d = d + (t0 / th)[None, :] * ricker(t[:, None] - th[None, :])
+    d += 0.02 * np.random.default_rng(1).standard_normal(d.shape)
+    return Radargram(d, t, x)
+
+
+def median_s(fn, repeat: int) -> float:
+    fn()  # warm-up
+    times = []
+    for _ in range(repeat):
+        t0 = time.perf_counter()
+        fn()
+        times.append(time.perf_counter() - t0)
+    return statistics.median(times)
+
+
+def main() -> None:
+    rg = synthetic()
+    chain = P.ProcessingChain.default(FC_HZ)
+    t_end = time.perf_counter() + 1.0  # warm up (CPU clock, caches, FFT plans) for 1 s
+    while time.perf_counter() < t_end:
+        chain.apply(rg)
+        P.background_removal(rg)
+    base_copy = median_s(lambda: np.array(rg.data, copy=True), 200)
+    base_mean = median_s(lambda: P.background_removal(rg), 100)
+    rows = [("numpy copy (baseline)", base_copy), ("background_removal mean (baseline)",
+                                                   base_mean)]
+    for step in chain.steps:
+        rows.append((f"  step {step.name} {dict(step.params)}", median_s(
+            lambda s=step: s.apply(rg), 50)))
+    rows.append(("default chain (enabled steps)", median_s(lambda: chain.apply(rg), 50)))
+    rows.append(("migrate fk", median_s(lambda: P.migrate(rg, 0.23e9), 10)))
+    rows.append(("migrate kirchhoff (full aperture)",
+                 median_s(lambda: P.migrate(rg, 0.23e9, method="kirchhoff"), 5)))
+    rows.append(("velocity_analysis (221 velocities)",
+                 median_s(lambda: P.velocity_analysis(rg, 2.0, 18e-9), 10)))
+    rows.append(("envelope", median_s(lambda: P.envelope(rg), 50)))
+    rows.append(("time_to_depth", median_s(lambda: P.time_to_depth(rg, 0.23e9), 50)))
+    rows.append(("background_removal mean (baseline, again at the end)",
+                 median_s(lambda: P.background_removal(rg), 100)))
+    print(f"radargram {NX} traces x {NT} samples; medians")
+    print(f"{'what':<72} {'ms':>9} {'x copy':>9} {'x mean-rm':>10}")
+    for name, s in rows:
+        print(f"{name:<72} {1e3 * s:9.3f} {s / base_copy:9.1f} {s / base_mean:10.2f}")
+
+
+if __name__ == "__main__":
+    main()
