@@ -82,7 +82,8 @@ def _refine_apex_s(trace: np.ndarray, t: np.ndarray, t0: float, search: float) -
 def velocity_analysis(rg: Radargram, position_m: float, time_s: float,
                       velocities_m_s: object = None, *, window_s: float = 1.5e-9,
                       search_s: float = 1e-9,
-                      half_aperture_m: float | None = None) -> VelocityEstimate:
+                      half_aperture_m: float | None = None,
+                      radius_m: float = 0.0) -> VelocityEstimate:
     """Scan velocity by semblance along zero-offset diffraction hyperbolas.
 
     The apex time is first moved to the envelope peak of the trace nearest ``x0`` within
@@ -107,6 +108,13 @@ def velocity_analysis(rg: Radargram, position_m: float, time_s: float,
         Half-width of the apex-time refinement, s (0: use the pick as it is).
     half_aperture_m : float or None
         Use traces within this distance of ``x0``, m (default: all traces).
+    radius_m : float
+        Radius of curvature of the target's top, m, in [0, 5]. 0 is a point diffractor;
+        a larger radius uses the flatter curve of a cylinder whose top is at ``t0``,
+        ``t(x) = (2 / v) (sqrt((x - x0)**2 + (v t0 / 2 + R)**2) - R)``
+        (hyperbola fitting with target radius, Shihab & Al-Nuaimy 2005, Journal of
+        Intelligent and Robotic Systems; formula from memory). Fitting a point hyperbola
+        to a body-sized target overestimates the velocity.
 
     Returns
     -------
@@ -144,7 +152,9 @@ def velocity_analysis(rg: Radargram, position_m: float, time_s: float,
     nt = t.size
     if search > 0.0:
         t0 = _refine_apex_s(rg.data[:, int(np.argmin(np.abs(x - x0)))], t, t0, search)
-    tt = np.sqrt(t0**2 + (2.0 * h[None, :] / vel[:, None]) ** 2)  # (nv, nh)
+    radius = check_range("radius_m", radius_m, 0.0, 5.0, unit="m")
+    vv = vel[:, None]
+    tt = 2.0 / vv * (np.sqrt(h[None, :] ** 2 + (0.5 * vv * t0 + radius) ** 2) - radius)
     idx = (tt[:, :, None] + k[None, None, :] - t[0]) / dt  # (nv, nh, nk)
     valid = ((idx >= 0.0) & (idx <= nt - 1)).all(axis=-1)
     idc = np.clip(idx, 0.0, nt - 1)
