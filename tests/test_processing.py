@@ -344,6 +344,17 @@ def test_time_zero_aligns_surface_echo():
     assert np.ptp(deep) <= DT_S + 1e-15  # the deeper echo moved with its trace
 
 
+def test_time_pick_ignores_strong_deeper_echo_on_a_few_traces():
+    # A body echo three times the surface echo under 5 of 40 traces must not capture the
+    # pick (common practice: the surface echo comes first). A plain per-trace threshold
+    # would pick the body on those traces.
+    rg, ts = _jittered()
+    d = np.array(rg.data)
+    d[:, 10:15] += 3.0 * ricker(rg.time_s - 15e-9)[:, None]
+    picks = P.pick_first_arrival_s(rg.with_data(d), 0.5)
+    assert np.ptp(picks - ts) < 0.05e-9
+
+
 def test_time_zero_common_shift_and_given_pick():
     rg, ts = _jittered()
     out = P.time_zero(rg, target_time_s=1e-9, pick_time_s=4e-9)

@@ -31,7 +31,11 @@ def _envelope(data: np.ndarray) -> np.ndarray:
 
 def pick_first_arrival_s(rg: Radargram, threshold: float = 0.5,
                          per_trace: bool = True) -> np.ndarray:
-    """Time where the envelope first reaches ``threshold`` times its peak, per trace.
+    """Time where the envelope first reaches ``threshold`` times its peak level, per trace.
+
+    The level of a trace is ``threshold * min(trace peak, median of the trace peaks)``, so
+    that a strong echo below the surface on a few traces (a buried body right under the
+    antenna) does not capture the pick from the surface echo before it.
 
     Parameters
     ----------
@@ -60,7 +64,7 @@ def pick_first_arrival_s(rg: Radargram, threshold: float = 0.5,
     if not per_trace:
         env = env.mean(axis=1, keepdims=True)
     peak = env.max(axis=0)
-    level = thr * peak
+    level = thr * np.minimum(peak, np.median(peak))
     above = env >= level[None, :]
     k = np.argmax(above, axis=0)
     cols = np.arange(env.shape[1])
