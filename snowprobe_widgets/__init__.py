@@ -10,3 +10,10 @@ from __future__ import annotations
 __version__ = "0.1.0"
 
 __all__ = ["__version__"]
+
+
+def simulate(scenario, **options):  # noqa: ANN001, ANN201 - thin re-export
+    """Synthesise the radargram of a scenario: see :func:`snowprobe_widgets.synthesis.simulate`."""
+    from .synthesis import simulate as _simulate
+
+    return _simulate(scenario, **options)

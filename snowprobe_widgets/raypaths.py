@@ -68,11 +68,6 @@ class RayResult:
     reached: np.ndarray
 
 
-def _layer_paths(z: np.ndarray, thickness_m: np.ndarray) -> np.ndarray:
-    tops = np.concatenate([[0.0], np.cumsum(thickness_m)[:-1]])
-    return np.clip(z[..., None] - tops, 0.0, thickness_m)
-
-
 def solve_rays(
     horizontal_m: np.ndarray,
     depth_m: np.ndarray,
@@ -103,38 +98,58 @@ def solve_rays(
     X, z = np.broadcast_arrays(np.asarray(horizontal_m, float), np.asarray(depth_m, float))
     thick = np.asarray(thickness_m, float).copy()
     thick[-1] = max(thick[-1], float(np.max(z)) - float(thick[:-1].sum()) + 1.0)
-    n = np.asarray(index, float)
-    D = _layer_paths(z, thick)  # (..., n_layers)
+    n = [float(v) for v in np.asarray(index, float)]
+    alpha = [float(v) for v in np.asarray(alpha_np_m, float)]
+    tops = np.concatenate([[0.0], np.cumsum(thick)[:-1]])
+    # the part of each layer above z; layers wholly below every point are dropped
+    D = [np.clip(z - top, 0.0, d) for top, d in zip(tops, thick, strict=True)
+         if top < float(np.max(z)) or top == 0.0]
+    n = n[:len(D)]
+    alpha = alpha[:len(D)]
     h = float(antenna_height_m)
     # Newton in u = tan(theta0) from the paraxial start
-    u = X / (h + (D / n).sum(axis=-1) + 1e-300)
+    u = X / (h + sum(d / nj for d, nj in zip(D, n, strict=True)) + 1e-300)
     for _ in range(iterations):
-        s = u / np.sqrt(1.0 + u * u)
-        root = np.sqrt(n * n - s[..., None] ** 2)
-        f = h * u + (D * s[..., None] / root).sum(axis=-1) - X
-        dfds = (D * n * n / root**3).sum(axis=-1)
+        s2 = u * u / (1.0 + u * u)
+        s = np.sqrt(s2)
+        f = h * u - X
+        dfds = np.zeros_like(u)
+        for d, nj in zip(D, n, strict=True):
+            inv_root = 1.0 / np.sqrt(nj * nj - s2)
+            f += d * s * inv_root
+            dfds += d * (nj * nj) * inv_root**3
         dfdu = h + dfds * (1.0 + u * u) ** -1.5
-        step = f / np.where(dfdu > 0, dfdu, 1.0)
-        u = np.maximum(u - step, 0.0)
-        if np.all(np.abs(f) < 1e-10):
+        u = np.maximum(u - f / np.where(dfdu > 0, dfdu, 1.0), 0.0)
+        if np.max(np.abs(f)) < 1e-9:  # 1 nm: far below any grid or sample spacing
             break
-    s = u / np.sqrt(1.0 + u * u)
     c0 = 1.0 / np.sqrt(1.0 + u * u)
-    cj = np.sqrt(1.0 - (s[..., None] / n) ** 2)
-    resid = h * u + (D * s[..., None] / (n * cj)).sum(axis=-1) - X
+    s = u * c0
+    resid = h * u - X
+    time = h / c0
+    att = np.zeros_like(u)
+    r_perp = h / c0
+    r_par_sum = h / c0**3
+    trans = np.ones_like(u)
+    ncos_above = c0
+    s_local = s.copy()
+    for j, (d, nj, aj) in enumerate(zip(D, n, alpha, strict=True)):
+        cj = np.sqrt(1.0 - (s / nj) ** 2)
+        resid = resid + d * s / (nj * cj)
+        path = d / cj
+        time = time + path * nj
+        att = att + aj * path
+        r_perp = r_perp + d / (nj * cj)
+        r_par_sum = r_par_sum + d / (nj * cj**3)
+        ncos = nj * cj
+        r = (ncos_above - ncos) / (ncos_above + ncos)
+        entered = (d > 0) if j > 0 else np.ones(u.shape, bool)
+        trans = np.where(entered, trans * (1.0 - r * r), trans)
+        s_local = np.where(entered, s / nj, s_local)
+        ncos_above = np.where(entered, ncos, ncos_above)
     reached = np.abs(resid) < 1e-6
-    path = D / cj
-    time = 2.0 * (h / c0 + (path * n).sum(axis=-1)) / C0_M_S
-    att = np.exp(-2.0 * (alpha_np_m * path).sum(axis=-1))
-    r_perp = h / c0 + (D / (n * cj)).sum(axis=-1)
-    r_par = c0**2 * (h / c0**3 + (D / (n * cj**3)).sum(axis=-1))
-    # TE interfaces: air -> layer 1, then layer j -> j + 1 where the ray enters j + 1
-    ncos = np.concatenate([c0[..., None], n * cj], axis=-1)  # (..., n_layers + 1)
-    r = (ncos[..., :-1] - ncos[..., 1:]) / (ncos[..., :-1] + ncos[..., 1:])
-    entered = np.concatenate([np.ones(D.shape[:-1] + (1,), bool), D[..., 1:] > 0], axis=-1)
-    trans = np.prod(np.where(entered, 1.0 - r * r, 1.0), axis=-1)
-    last = np.maximum(np.count_nonzero(D > 0, axis=-1) - 1, 0)
-    s_local = s / n[last]
+    time = 2.0 * time / C0_M_S
+    att = np.exp(-2.0 * att)
+    r_par = c0**2 * r_par_sum
     return RayResult(time, trans, att, np.maximum(r_par * r_perp, 1e-12), s, s_local, reached)
 
 
@@ -167,8 +182,8 @@ class RayTable:
         index: np.ndarray,
         alpha_np_m: np.ndarray,
         beam: np.ndarray | None = None,
-        dx_m: float = 0.02,
-        dz_m: float = 0.01,
+        dx_m: float = 0.03,
+        dz_m: float = 0.015,
     ) -> RayTable:
         """Tabulate X in [0, x_max_m] and z in ``z_range_m``.
 
@@ -189,6 +204,27 @@ class RayTable:
         return cls(0.0, dx_m, z_lo, dz_m, res.time_s, gain, res.sin_theta0,
                    res.sin_theta_local)
 
+    def along_x(self, z_m: np.ndarray) -> AlongX:
+        """The table interpolated (linearly in z) at fixed depths ``z_m`` (one per facet):
+        1-D tables over X for fast per-(trace, facet) look-up with :meth:`AlongX.lookup`."""
+        nx, nz = self.time_s.shape
+        fz = np.clip((np.asarray(z_m, float) - self.z0_m) / self.dz_m, 0.0, nz - 1.000001)
+        iz = fz.astype(np.intp)
+        wz = fz - iz
+        tabs = []
+        for tab in (self.time_s, self.gain, self.sin_theta_local):
+            v = tab[:, iz].T * (1 - wz)[:, None] + tab[:, iz + 1].T * wz[:, None]
+            tabs.append(np.ascontiguousarray(v))
+        return AlongX(self.dx_m, nx, *tabs)
+
+    def _stacked(self) -> np.ndarray:
+        cached = self.__dict__.get("_stack")
+        if cached is None:
+            cached = np.stack([self.time_s.ravel(), self.gain.ravel(),
+                               self.sin_theta0.ravel(), self.sin_theta_local.ravel()], axis=-1)
+            object.__setattr__(self, "_stack", cached)
+        return cached
+
     def lookup(self, x_m: np.ndarray, z_m: np.ndarray) -> tuple[np.ndarray, ...]:
         """Bilinear values (time_s, gain, sin_theta0, sin_theta_local) at (x_m, z_m).
 
@@ -201,13 +237,41 @@ class RayTable:
         iz = fz.astype(np.intp)
         wx = fx - ix
         wz = fz - iz
-        out = []
-        for tab in (self.time_s, self.gain, self.sin_theta0, self.sin_theta_local):
-            flat = tab.ravel()
-            i00 = ix * nz + iz
-            v00 = flat[i00]
-            v01 = flat[i00 + 1]
-            v10 = flat[i00 + nz]
-            v11 = flat[i00 + nz + 1]
-            out.append((v00 * (1 - wz) + v01 * wz) * (1 - wx) + (v10 * (1 - wz) + v11 * wz) * wx)
+        stack = self._stacked()
+        i00 = ix * nz + iz
+        w00 = ((1 - wx) * (1 - wz))[..., None]
+        w01 = ((1 - wx) * wz)[..., None]
+        w10 = (wx * (1 - wz))[..., None]
+        w11 = (wx * wz)[..., None]
+        v = (stack[i00] * w00 + stack[i00 + 1] * w01 + stack[i00 + nz] * w10
+             + stack[i00 + nz + 1] * w11)
+        out = [v[..., i] for i in range(v.shape[-1])]
         return tuple(out)
+
+
+@dataclass(frozen=True, eq=False)
+class AlongX:
+    """Per-point 1-D ray tables over horizontal distance (see :meth:`RayTable.along_x`).
+
+    ``time_s``, ``gain`` and ``sin_theta_local`` have shape (n_points, n_x), X from 0 in
+    steps of ``dx_m``.
+    """
+
+    dx_m: float
+    n_x: int
+    time_s: np.ndarray
+    gain: np.ndarray
+    sin_theta_local: np.ndarray
+
+    def lookup(self, x_m: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Linear values (time_s, gain, sin_theta_local) at ``x_m``, shape (..., n_points)."""
+        fx = np.clip(x_m / self.dx_m, 0.0, self.n_x - 1.000001)
+        ix = fx.astype(np.intp)
+        w = fx - ix
+        flat = ix + np.arange(self.time_s.shape[0]) * self.n_x
+        out = []
+        for tab in (self.time_s, self.gain, self.sin_theta_local):
+            t = tab.ravel()
+            a = t.take(flat)
+            out.append(a + (t.take(flat + 1) - a) * w)
+        return out[0], out[1], out[2]

@@ -124,7 +124,9 @@ class Radar:
     time_window_s : float
         Recording window, s; ``round(time_window_s / dt_s)`` samples, 64 to 8192.
     antenna_height_m : float
-        Antenna height above the snow surface, m, in [0, 30] (ground-coupled to drone).
+        Antenna height above the snow surface, m, in [0.05, 30] (sled-borne to drone). The
+        point-antenna model needs the antenna off the surface: a ground-coupled antenna
+        (height 0) is outside it and refused.
     beamwidth_deg : float
         Full -3 dB beamwidth in air, deg, in [5, 180].
     """
@@ -170,7 +172,7 @@ class Radar:
                 f"time_window_s = {self.time_window_s:g} s at dt_s = {self.dt_s:g} s gives "
                 f"{n} samples; allowed range [{lo}, {hi}] samples")
         _set(self, "antenna_height_m", check_range(
-            "antenna_height_m", self.antenna_height_m, 0.0, 30.0, unit="m"))
+            "antenna_height_m", self.antenna_height_m, 0.05, 30.0, unit="m"))
         _set(self, "beamwidth_deg",
              check_range("beamwidth_deg", self.beamwidth_deg, 5.0, 180.0, unit="deg"))
         f_high = _band_high_hz(self.make_pulse())

@@ -56,10 +56,10 @@ import scipy.fft
 from . import materials as mat
 from .constants import C0_M_S
 from .facets import FacetMesh, cylinder_mesh, ellipsoid_mesh, plate_mesh
-from .layered import reflection
+from .layered import reflection, stack_coefficients
 from .radar_equation import antenna_factor, beam_weight, noise_rms
 from .radargram import Radargram, TruthMarker
-from .raypaths import RayTable, solve_rays
+from .raypaths import AlongX, RayTable, solve_rays
 from .trace import column_response, evaluate_column
 
 __all__ = ["COMPONENTS", "simulate", "object_mesh", "ColumnOptics", "column_optics"]
@@ -68,6 +68,7 @@ __all__ = ["COMPONENTS", "simulate", "object_mesh", "ColumnOptics", "column_opti
 COMPONENTS: tuple[str, ...] = ("layers", "objects", "clutter", "noise")
 
 _ANGLES_DEG = np.linspace(0.0, 89.0, 90)
+_N_COS = 257
 #: Density added to the local snow for a clutter block (invented demo figure: hard
 #: debris clods are denser than the snow around them).
 CLUTTER_BLOCK_EXTRA_DENSITY_KG_M3 = 250.0
@@ -150,8 +151,12 @@ def _reflection_model(obj: Any, snow_eps: complex, fc: float,
         thick = ()
         stack_fc = [eps_in, complex(m.permittivity(fc))]
         stack_f = [eps_in, m.permittivity(freq_hz)]
-    r_angle = np.array([abs(complex(reflection(fc, stack_fc, thick, angle_deg=a)))
-                        for a in _ANGLES_DEG])
+    # all angles at once through the layered kernel (the public function takes one angle)
+    na = _ANGLES_DEG.size
+    eps_a = np.array([np.full(na, e, complex) for e in stack_fc])
+    sin2 = eps_in * np.sin(np.radians(_ANGLES_DEG)) ** 2
+    k0 = np.full(na, 2 * math.pi * fc / C0_M_S)
+    r_angle = np.abs(stack_coefficients(k0, eps_a, np.asarray(thick, float), sin2, "TE")[0])
     r_angle = r_angle / max(r_angle[0], 1e-30)
     return r_angle, np.asarray(reflection(freq_hz, stack_f, thick), complex)
 
@@ -179,8 +184,14 @@ def _vertical_dispersion(optics: ColumnOptics, depth_m: float, fc: float,
 @dataclass
 class _Target:
     mesh: FacetMesh
-    table: RayTable
+    table: AlongX
     r_angle: np.ndarray
+
+    def __post_init__(self) -> None:
+        # |r| ratio on a uniform grid of cos(angle) in [0, 1] for index arithmetic look-up
+        cos_grid = np.linspace(0.0, 1.0, _N_COS)
+        ang = np.degrees(np.arccos(cos_grid))
+        self.r_cos = np.interp(ang, _ANGLES_DEG, self.r_angle)
     spectrum: np.ndarray  # per-band-frequency factor (reflection, dispersion, PO, pulse)
 
 
@@ -291,48 +302,47 @@ def _prepare_targets(scenario: Any, pulse: Any, grid: _Grid, optics: ColumnOptic
         r_angle, r_f = _reflection_model(obj, complex(snow_m.permittivity(fc)), fc, fb)
         disp = _vertical_dispersion(optics, obj.depth_m, fc, fb)
         spec = r_f * disp
-        out.append(_Target(mesh, table, r_angle, spec))
+        out.append(_Target(mesh, table.along_x(mesh.centre_m[:, 2]), r_angle, spec))
     return out
 
 
-def _accumulate(bins: np.ndarray, row: np.ndarray, delay_s: np.ndarray, amp: np.ndarray,
-                grid: _Grid) -> None:
-    """Add amplitudes at delays into ``bins`` (rows x n_bin) by linear interpolation."""
-    keep = (delay_s < grid.t_max_s) & (amp != 0)
-    if not np.any(keep):
-        return
+def _binned(n_rows: int, row: np.ndarray, delay_s: np.ndarray, amp: np.ndarray,
+            grid: _Grid) -> np.ndarray:
+    """Amplitudes at delays on the bin grid by linear interpolation, (n_rows, n_bin)."""
+    size = n_rows * grid.n_bin
+    keep = delay_s < grid.t_max_s
     pos = delay_s[keep] / grid.dt_bin_s
     i0 = pos.astype(np.intp)
     w1 = pos - i0
     a = amp[keep]
     flat = row[keep] * grid.n_bin + i0
-    size = bins.size
-    bins_flat = bins.reshape(-1)
-    bins_flat += np.bincount(flat, weights=a * (1 - w1), minlength=size)[:size]
-    bins_flat += np.bincount(flat + 1, weights=a * w1, minlength=size)[:size]
+    both = np.bincount(np.concatenate([flat, flat + 1]),
+                       weights=np.concatenate([a - a * w1, a * w1]), minlength=size)
+    return both[:size].reshape(n_rows, grid.n_bin)
 
 
 def _target_bins(t: _Target, x_chunk: np.ndarray, grid: _Grid) -> np.ndarray:
+    """Facet amplitudes of one target binned at their delays, shape (n_chunk, n_bin)."""
     c = t.mesh.centre_m
     nrm = t.mesh.normal
     dx = c[None, :, 0] - x_chunk[:, None]
-    dy = np.broadcast_to(c[None, :, 1], dx.shape)
+    dy = c[None, :, 1]
     X = np.hypot(dx, dy)
-    z = np.broadcast_to(c[None, :, 2], dx.shape)
-    tau, gain, _s0, s_loc = t.table.lookup(X, z)
-    cos_loc_v = np.sqrt(np.clip(1.0 - s_loc * s_loc, 0.0, 1.0))
-    inv = 1.0 / np.maximum(X, 1e-9)
-    # ray direction at the facet: horizontal (dx, dy)/X * sin, vertical cos (z down)
-    cos_loc = -(s_loc * (nrm[None, :, 0] * dx + nrm[None, :, 1] * dy) * inv
-                + cos_loc_v * nrm[None, :, 2])
-    lit = cos_loc > 0
-    ang = np.degrees(np.arccos(np.clip(cos_loc, 0.0, 1.0)))
-    r_rel = np.interp(ang, _ANGLES_DEG, t.r_angle)
-    amp = np.where(lit, r_rel * cos_loc * t.mesh.area_m2[None, :] * gain, 0.0)
-    bins = np.zeros((x_chunk.size, grid.n_bin))
-    rows = np.broadcast_to(np.arange(x_chunk.size)[:, None], dx.shape)
-    _accumulate(bins, rows.ravel(), tau.ravel(), amp.ravel(), grid)
-    return bins
+    tau, gain, s_loc = t.table.lookup(X)
+    # ray direction at the facet: horizontal (dx, dy)/X * sin, vertical cos (z down);
+    # cos_loc = -(direction . normal)
+    horiz = (nrm[None, :, 0] * dx + nrm[None, :, 1] * dy) / np.maximum(X, 1e-9)
+    cos_loc = -(s_loc * horiz + np.sqrt(np.maximum(1.0 - s_loc * s_loc, 0.0))
+                * nrm[None, :, 2])
+    lit = (cos_loc > 0) & (tau < grid.t_max_s)
+    rows = np.nonzero(lit)
+    cl = cos_loc[lit]
+    fc_ = np.minimum(cl, 1.0) * (_N_COS - 1.000001)
+    ic = fc_.astype(np.intp)
+    r0 = t.r_cos.take(ic)
+    r_rel = r0 + (t.r_cos.take(ic + 1) - r0) * (fc_ - ic)
+    amp = r_rel * cl * t.mesh.area_m2[rows[1]] * gain[lit]
+    return _binned(x_chunk.size, rows[0], tau[lit], amp, grid)
 
 
 def _clutter_parts(scenario: Any, optics: ColumnOptics, pulse: Any, grid: _Grid
@@ -346,23 +356,27 @@ def _clutter_parts(scenario: Any, optics: ColumnOptics, pulse: Any, grid: _Grid
     field = scenario.clutter_field()
     fc = pulse.center_frequency_hz
     x, y, z, size = field.x_m, field.y_m, field.z_m, field.size_m
-    amp = np.zeros(x.size)
-    rayleigh = np.zeros(x.size, bool)
-    for i in range(x.size):
-        layer = scenario.snowpack.layer_at(float(np.clip(z[i], 0, scenario.snowpack.depth_m)))
+    snowpack = scenario.snowpack
+    per_layer = []  # (amplitude factor sqrt(pi)/sqrt(4 pi) / n, K, r, k) per snow layer
+    for layer in snowpack.layers:
         rho_b = min(layer.density_kg_m3 + CLUTTER_BLOCK_EXTRA_DENSITY_KG_M3,
                     917.0 * (1 - layer.lwc_percent / 100.0))
         e_s = complex(mat.snow(layer.density_kg_m3, layer.lwc_percent).permittivity(fc)).real
         e_b = complex(mat.snow(rho_b, layer.lwc_percent).permittivity(fc)).real
         n_s = math.sqrt(e_s)
-        a = size[i] / 2
-        k = 2 * math.pi * fc * n_s / C0_M_S
-        K = (e_b - e_s) / (e_b + 2 * e_s)
-        r = (n_s - math.sqrt(e_b)) / (n_s + math.sqrt(e_b))
-        sig_r = 4 * math.pi * k**4 * a**6 * K**2
-        sig_o = math.pi * a * a * r * r
-        rayleigh[i] = sig_r < sig_o
-        amp[i] = -math.sqrt(min(sig_r, sig_o) / (4 * math.pi)) / n_s
+        per_layer.append((n_s, (e_b - e_s) / (e_b + 2 * e_s),
+                          (n_s - math.sqrt(e_b)) / (n_s + math.sqrt(e_b))))
+    idx = np.minimum(np.searchsorted(snowpack.interfaces_m, z, side="left"),
+                     len(snowpack.layers) - 1)
+    n_s = np.array([p[0] for p in per_layer])[idx]
+    K = np.array([p[1] for p in per_layer])[idx]
+    r = np.array([p[2] for p in per_layer])[idx]
+    a = size / 2
+    k = 2 * math.pi * fc * n_s / C0_M_S
+    sig_r = 4 * math.pi * k**4 * a**6 * K**2
+    sig_o = math.pi * a * a * r * r
+    rayleigh = sig_r < sig_o
+    amp = -np.sqrt(np.minimum(sig_r, sig_o) / (4 * math.pi)) / n_s
     return x, y, z, amp, rayleigh
 
 
@@ -438,10 +452,9 @@ def simulate(scenario: Any, *, components: Iterable[str] = COMPONENTS,
             for mask, shape in ((cray, rayleigh_shape), (~cray, None)):
                 if not np.any(mask):
                     continue
-                bins = np.zeros((xs.size, grid.n_bin))
                 amp = (camp[None, :] * g)[:, mask]
-                _accumulate(bins, rows[:, mask].ravel(), res.time_s[:, mask].ravel(),
-                            amp.ravel(), grid)
+                bins = _binned(xs.size, rows[:, mask].ravel(), res.time_s[:, mask].ravel(),
+                               amp.ravel(), grid)
                 # point scatterer: E = amp * T2 att / R^2 (no PO prefactor: divide it out)
                 s = scipy.fft.rfft(bins, axis=1)[:, grid.band]
                 s = s / (1j * fb / C0_M_S)

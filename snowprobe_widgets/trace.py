@@ -190,7 +190,8 @@ def synthesize_trace(
     thickness_m : sequence of float
         The n layer thicknesses, m (> 0).
     antenna_height_m : float
-        Antenna height above the surface, m, in [0, 20].
+        Antenna height above the surface, m, in [0.01, 20] (the point antenna's surface
+        echo grows as 1 / (2 h)).
     pulse : Pulse
         Transmitted pulse.
     dt_s : float
@@ -206,7 +207,7 @@ def synthesize_trace(
         On ``time_s = arange(n_samples) * dt_s``.
     """
     check_choice("mode", mode, ("point", "plane"))
-    h = check_range("antenna_height_m", antenna_height_m, 0.0, 20.0, unit="m")
+    h = check_range("antenna_height_m", antenna_height_m, 0.01, 20.0, unit="m")
     n_samples = int(check_range("n_samples", n_samples, 16, 65536))
     d = np.asarray(thickness_m, dtype=float).reshape(-1)
     if len(materials) != d.size + 1:

@@ -119,7 +119,7 @@ def radars(draw):
     return Radar(pulse, fc, bw, transmit_power_dbm=draw(_num(-30.0, 60.0)),
                  noise_floor_dbm=draw(_num(-200.0, -31.0)), stacking=draw(st.integers(1, 65536)),
                  antenna_gain_dbi=draw(_num(-10.0, 30.0)), dt_s=dt, time_window_s=n * dt,
-                 antenna_height_m=draw(_num(0.0, 30.0)), beamwidth_deg=draw(_num(5.0, 180.0)))
+                 antenna_height_m=draw(_num(0.05, 30.0)), beamwidth_deg=draw(_num(5.0, 180.0)))
 
 
 @st.composite
