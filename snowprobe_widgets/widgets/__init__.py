@@ -6,6 +6,7 @@ never imports this package.
 
 from __future__ import annotations
 
+from snowprobe_widgets.widgets.materials_lab import MaterialsExplorer
 from snowprobe_widgets.widgets.palette_png import (
     COLOUR_MAP_KINDS,
     COLOUR_MAPS,
@@ -18,6 +19,7 @@ from snowprobe_widgets.widgets.radargram_view import RadargramView
 __all__ = [
     "COLOUR_MAPS",
     "COLOUR_MAP_KINDS",
+    "MaterialsExplorer",
     "RadargramView",
     "colour_map",
     "encode_palette_png",
