@@ -17,3 +17,10 @@ def simulate(scenario, **options):  # noqa: ANN001, ANN201 - thin re-export
     from .synthesis import simulate as _simulate
 
     return _simulate(scenario, **options)
+
+
+def link_budget(scenario, target=None, **options):  # noqa: ANN001, ANN201 - thin re-export
+    """The link budget of a burial: see :func:`snowprobe_widgets.budget.link_budget`."""
+    from .budget import link_budget as _link_budget
+
+    return _link_budget(scenario, target, **options)

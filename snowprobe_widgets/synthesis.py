@@ -62,7 +62,8 @@ from .radargram import Radargram, TruthMarker
 from .raypaths import AlongX, RayTable, solve_rays
 from .trace import column_response, evaluate_column
 
-__all__ = ["COMPONENTS", "simulate", "object_mesh", "ColumnOptics", "column_optics"]
+__all__ = ["COMPONENTS", "simulate", "object_mesh", "ColumnOptics", "column_optics",
+           "target_reflection", "vertical_dispersion"]
 
 #: What a radargram can be made of; ``simulate(..., components=...)`` picks a subset.
 COMPONENTS: tuple[str, ...] = ("layers", "objects", "clutter", "noise")
@@ -132,7 +133,7 @@ def object_mesh(obj: Any, facet_size_m: float) -> FacetMesh:
     raise ValueError(f"object kind {kind!r} is not one of person, boulder, branch, metal")
 
 
-def _reflection_model(obj: Any, snow_eps: complex, fc: float,
+def target_reflection(obj: Any, snow_eps: complex, fc: float,
                       freq_hz: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """(|r(fc, angle)| / |r(fc, 0)| on _ANGLES_DEG, r(f, 0) on freq_hz) for one object.
 
@@ -161,7 +162,7 @@ def _reflection_model(obj: Any, snow_eps: complex, fc: float,
     return r_angle, np.asarray(reflection(freq_hz, stack_f, thick), complex)
 
 
-def _vertical_dispersion(optics: ColumnOptics, depth_m: float, fc: float,
+def vertical_dispersion(optics: ColumnOptics, depth_m: float, fc: float,
                          freq_hz: np.ndarray) -> np.ndarray:
     """Two-way dispersion and frequency-dependent attenuation relative to the fc values.
 
@@ -299,8 +300,8 @@ def _prepare_targets(scenario: Any, pulse: Any, grid: _Grid, optics: ColumnOptic
             x_max, (z_lo, z_hi), antenna_height_m=h, thickness_m=optics.thickness_m,
             index=optics.index, alpha_np_m=optics.alpha_np_m,
             beam=lambda th: beam_weight(th, radar.beamwidth_deg))
-        r_angle, r_f = _reflection_model(obj, complex(snow_m.permittivity(fc)), fc, fb)
-        disp = _vertical_dispersion(optics, obj.depth_m, fc, fb)
+        r_angle, r_f = target_reflection(obj, complex(snow_m.permittivity(fc)), fc, fb)
+        disp = vertical_dispersion(optics, obj.depth_m, fc, fb)
         spec = r_f * disp
         out.append(_Target(mesh, table.along_x(mesh.centre_m[:, 2]), r_angle, spec))
     return out

@@ -1,0 +1,495 @@
+"""Link budget: will the radar see this burial, before anyone simulates a radargram?
+
+``link_budget(scenario) -> LinkBudget`` follows the structure of the GPR radar range
+equation as a sum of decibel terms (Annan, GPR Workshop Notes 2001, ch. 6, after Annan &
+Cosway 1992; Daniels, *Ground Penetrating Radar*, 2nd ed. 2004, ch. 2): system
+performance, antenna terms, two-way spreading, surface transmission, attenuation in each
+layer and target reflectivity. In the package's normalisation
+(:mod:`snowprobe_widgets.radar_equation`) the echo of a buried reflector straight below
+the antenna is
+
+    A = (G lambda_c / 4 pi) * T2 * exp(-2 sum alpha_j d_j) * r * C / (2 R_e),
+    R_e = h + sum d_j / n_j,
+
+the planar-reflector form of the range equation (image theory; REFERENCES 7.8: with h = 0
+it is exactly P_r/P_t = G^2 lambda_m^2 |r|^2 e^{-4 alpha R} / ((4 pi)^2 (2R)^2)). C is the
+curvature factor of the target's top surface, 1 / sqrt((1 + n R_e / rho_1)(1 + n R_e /
+rho_2)) with principal radii rho_1, rho_2 (the mirror equation in reduced distances;
+Gaussian optics, e.g. Hecht, *Optics*, ch. 5; derivation ours): 1 for a flat reflector,
+the point-target law for a small sphere. The echo's peak is then evaluated over the pulse
+band, with dispersion and the frequency response of the target's reflection (the
+clothing / skin / fat / muscle stack of a person), so that the budget predicts the peak
+that :func:`snowprobe_widgets.simulate` puts in the radargram; the difference between
+that peak and the centre-frequency product is one row ("spectral shaping").
+
+Other results: range resolution ``v / (2 B)`` (bandwidth form, REFERENCES 7.6), first
+Fresnel zone ``sqrt(lambda_m d / 2 + lambda_m^2 / 16)`` at the target depth (REFERENCES
+7.7), trace spacing by the quarter-wavelength rule ``lambda_m / 4`` (Annan; REFERENCES
+7.9) and the time window ``1.3 x`` the two-way time to the ground (Annan; REFERENCES 7.9).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+import scipy.fft
+
+from ._validate import check_range
+from .constants import C0_M_S
+from .radar_equation import antenna_factor, beam_weight, db20, noise_rms
+from .synthesis import (
+    CLUTTER_BLOCK_EXTRA_DENSITY_KG_M3,
+    ColumnOptics,
+    column_optics,
+    target_reflection,
+)
+
+__all__ = [
+    "BudgetRow",
+    "LinkBudget",
+    "link_budget",
+    "range_resolution_m",
+    "fresnel_radius_m",
+    "quarter_wave_spacing_m",
+    "time_window_s",
+]
+
+#: Echo-to-clutter ratio reported when the scenario has no clutter scatterers, dB.
+NO_CLUTTER_DB = 120.0
+#: Search limit of the deepest detectable burial, m.
+MAX_SEARCH_DEPTH_M = 10.0
+
+
+# --------------------------------------------------------------------------- formulas
+def range_resolution_m(bandwidth_hz: float, permittivity: float) -> float:
+    """Vertical resolution c0 / (2 B sqrt(eps')) (bandwidth form; REFERENCES 7.6), m."""
+    b = check_range("bandwidth_hz", bandwidth_hz, 0.0, 1e11, unit="Hz", low_open=True)
+    e = check_range("permittivity", permittivity, 1.0, 100.0)
+    return C0_M_S / (2.0 * b * math.sqrt(e))
+
+
+def fresnel_radius_m(wavelength_m: float, depth_m: float) -> float:
+    """First Fresnel zone sqrt(lambda d / 2 + lambda^2 / 16) (REFERENCES 7.7), m."""
+    lam = check_range("wavelength_m", wavelength_m, 0.0, 1e3, unit="m", low_open=True)
+    d = check_range("depth_m", depth_m, 0.0, 1e3, unit="m")
+    return math.sqrt(lam * d / 2.0 + lam * lam / 16.0)
+
+
+def quarter_wave_spacing_m(center_frequency_hz: float, permittivity: float) -> float:
+    """Trace spacing lambda_m / 4 = c0 / (4 f_c sqrt(eps')) (Annan; REFERENCES 7.9), m."""
+    f = check_range("center_frequency_hz", center_frequency_hz, 0.0, 1e11, unit="Hz",
+                    low_open=True)
+    e = check_range("permittivity", permittivity, 1.0, 100.0)
+    return C0_M_S / (4.0 * f * math.sqrt(e))
+
+
+def time_window_s(two_way_time_s: float, margin: float = 1.3) -> float:
+    """Recording window: ``margin`` times the deepest two-way time (Annan: 1.3), s."""
+    t = check_range("two_way_time_s", two_way_time_s, 0.0, 1.0, unit="s")
+    return margin * t
+
+
+# --------------------------------------------------------------------------- objects
+@dataclass(frozen=True)
+class BudgetRow:
+    """One line of the budget.
+
+    Attributes
+    ----------
+    term : str
+        What it is ("two-way spreading").
+    value : float
+        Its value in ``unit`` (finite).
+    unit : str
+        "dB" for budget terms and ratios, "dBm" for powers, else "m" or "ns".
+    explanation : str
+        One line in plain words.
+    """
+
+    term: str
+    value: float
+    unit: str
+    explanation: str
+
+    @property
+    def value_db(self) -> float:
+        """The value (in ``unit``: dB for the budget terms)."""
+        return self.value
+
+
+@dataclass(frozen=True)
+class LinkBudget:
+    """The link budget of one target.
+
+    Attributes
+    ----------
+    rows : tuple of BudgetRow
+        Budget terms (their dB values add up to ``echo_to_noise_db``), then the clutter
+        level and the results.
+    echo_to_noise_db, echo_to_clutter_db : float
+        Peak echo over the rms receiver noise after stacking / over the rms clutter, dB.
+    max_detectable_depth_m : float
+        Deepest burial (same target, same snow, the bottom layer extended) whose
+        echo-to-noise ratio reaches ``threshold_db``; at most MAX_SEARCH_DEPTH_M.
+    range_resolution_m, footprint_radius_m, trace_spacing_m : float
+        In the snow at the target: resolution, first Fresnel zone, quarter-wave spacing.
+    time_window_s : float
+        Window the survey needs: 1.3 x the two-way time to the ground.
+    target_depth_m : float
+    threshold_db : float
+    target_label : str
+    verdict : str
+        Plain-language summary with numbers.
+    """
+
+    rows: tuple[BudgetRow, ...]
+    echo_to_noise_db: float
+    echo_to_clutter_db: float
+    max_detectable_depth_m: float
+    range_resolution_m: float
+    footprint_radius_m: float
+    trace_spacing_m: float
+    time_window_s: float
+    target_depth_m: float
+    threshold_db: float
+    target_label: str
+    verdict: str
+
+    def row(self, term: str) -> BudgetRow:
+        """The row named ``term``."""
+        for r in self.rows:
+            if r.term == term:
+                return r
+        raise KeyError(f"no row {term!r}; rows: {', '.join(r.term for r in self.rows)}")
+
+
+# --------------------------------------------------------------------------- physics
+def _extended(optics: ColumnOptics, depth_m: float) -> ColumnOptics:
+    thick = optics.thickness_m.copy()
+    thick[-1] += max(0.0, depth_m - float(thick.sum()) + 0.5)
+    return dataclasses.replace(optics, thickness_m=thick)
+
+
+def _above(optics: ColumnOptics, depth_m: float) -> np.ndarray:
+    tops = np.concatenate([[0.0], np.cumsum(optics.thickness_m)[:-1]])
+    return np.clip(depth_m - tops, 0.0, optics.thickness_m)
+
+
+def _layer_of(optics: ColumnOptics, depth_m: float) -> int:
+    bottoms = np.cumsum(optics.thickness_m)
+    return int(min(np.searchsorted(bottoms, depth_m, side="left"), bottoms.size - 1))
+
+
+def _two_way_transmission(optics: ColumnOptics, depth_m: float) -> float:
+    D = _above(optics, depth_m)
+    n_above = 1.0
+    t2 = 1.0
+    for j, (d, n) in enumerate(zip(D, optics.index, strict=True)):
+        if j > 0 and d <= 0:
+            break
+        r = (n_above - n) / (n_above + n)
+        t2 *= 1.0 - r * r
+        n_above = n
+    return t2
+
+
+def _radii_m(target: Any) -> tuple[float, float]:
+    """Principal radii of curvature of the target's top, m (inf: flat direction)."""
+    kind = target.kind
+    if kind == "person":
+        a, b, c = target.body_length_m / 2, target.body_width_m / 2, target.body_thickness_m / 2
+        return a * a / c, b * b / c
+    if kind == "boulder":
+        return target.diameter_m / 2, target.diameter_m / 2
+    if kind == "branch":
+        return math.inf, target.diameter_m / 2
+    return math.inf, math.inf
+
+
+def _strip_factor(width_m: float, wavelength0_m: float, r_e_m: float) -> float:
+    """Echo of a strip of ``width_m`` over that of an infinite plane, in one direction.
+
+    Stationary phase across the strip: |integral of exp(-j pi x^2 / F^2) dx over the
+    width| / F with F^2 = lambda_0 R_e / 2, i.e. sqrt(2) |C(u) - j S(u)| with
+    u = (w / 2) sqrt(2) / F (Fresnel integrals; Born & Wolf 1999 sec. 8.7).
+    """
+    from scipy.special import fresnel
+
+    F = math.sqrt(wavelength0_m * r_e_m / 2.0)
+    s_u, c_u = fresnel(width_m / 2.0 * math.sqrt(2.0) / F)
+    return float(math.sqrt(2.0) * abs(complex(c_u, -s_u)))
+
+
+def _plate_factor(target: Any, wavelength_m: float, r_e_m: float, n: float) -> float:
+    """A metal plate narrower than the first Fresnel zone returns less than a flat
+    interface: the product of the two strip factors of its length and width."""
+    if target.kind != "metal":
+        return 1.0
+    lam0 = wavelength_m * n
+    length = target.length_m * math.cos(math.radians(target.tilt_deg))
+    return _strip_factor(length, lam0, r_e_m) * _strip_factor(target.width_m, lam0, r_e_m)
+
+
+@dataclass(frozen=True)
+class _Echo:
+    peak: float  # received amplitude re sqrt(P_t)
+    t2: float
+    spreading: float  # 1 / (2 R_e)
+    attenuation_db: tuple[float, ...]  # per layer, negative
+    reflectivity: float  # |r(fc)| * C (* plate factor)
+    antenna: float
+    r_e_m: float
+
+
+class _EchoModel:
+    """Everything of a target's echo that does not depend on its depth, computed once."""
+
+    def __init__(self, scenario: Any, optics: ColumnOptics, target: Any,
+                 max_depth_m: float) -> None:
+        radar = scenario.radar
+        self.target = target
+        self.fc = fc = radar.center_frequency_hz
+        self.h = radar.antenna_height_m
+        self.opt = _extended(optics, max_depth_m + 0.5)
+        self.af = antenna_factor(radar.antenna_gain_dbi, fc)
+        pulse = radar.make_pulse()
+        dt = radar.dt_s
+        self.dt = dt
+        self.n_fft = scipy.fft.next_fast_len(int(math.ceil(40.0 / fc / dt)) * 2, real=True)
+        f = np.fft.rfftfreq(self.n_fft, dt)
+        lo, hi = pulse.band_hz(1e-6)
+        self.band = (f >= max(lo, 1e6)) & (f <= min(hi, 0.5 / dt))
+        self.n_f = f.size
+        fb = f[self.band]
+        self.k0 = 2 * math.pi * fb / C0_M_S
+        self.pulse_spec = pulse.spectrum(fb)
+        self.n_layers_f = []
+        self.r_f = []
+        self.r_fc = []
+        for m, n_fc in zip(self.opt.materials, self.opt.index, strict=True):
+            nf = np.sqrt(m.permittivity(fb).astype(complex))
+            self.n_layers_f.append(np.where(nf.imag > 0, -nf, nf) - n_fc)
+            eps = complex(m.permittivity(fc))
+            _, r = target_reflection(target, eps, fc, np.append(fb, fc))
+            self.r_f.append(r[:-1])
+            self.r_fc.append(abs(complex(r[-1])))
+        self.radii = _radii_m(target)
+
+    def echo(self, depth_m: float) -> _Echo:
+        opt = self.opt
+        D = _above(opt, depth_m)
+        r_e = self.h + float(np.sum(D / opt.index))
+        t2 = _two_way_transmission(opt, depth_m)
+        att_db = tuple(float(-2 * a * d * 20 / math.log(10))
+                       for a, d in zip(opt.alpha_np_m, D, strict=True))
+        j = _layer_of(opt, depth_m)
+        n_loc = float(opt.index[j])
+        rho1, rho2 = self.radii
+        curv = 1.0 / math.sqrt((1 + n_loc * r_e / rho1) * (1 + n_loc * r_e / rho2))
+        curv *= _plate_factor(self.target, C0_M_S / (self.fc * n_loc), r_e, n_loc)
+        # dispersion and frequency-dependent loss relative to the centre-frequency values
+        phase = np.zeros(self.k0.size, complex)
+        for dn, d in zip(self.n_layers_f, D, strict=True):
+            if d > 0:
+                phase += dn * d
+        disp = np.exp(-2j * self.k0 * phase) * math.exp(2 * float(np.dot(opt.alpha_np_m, D)))
+        amp_fc = self.af * t2 * 10 ** (sum(att_db) / 20) * curv / (2 * r_e)
+        spec = np.zeros(self.n_f, complex)
+        spec[self.band] = self.pulse_spec * self.r_f[j] * disp
+        wave = scipy.fft.irfft(spec / self.dt, n=self.n_fft)
+        peak = amp_fc * float(np.max(np.abs(wave)))
+        return _Echo(peak, t2, 1 / (2 * r_e), att_db, self.r_fc[j] * curv, self.af, r_e)
+
+
+def _clutter_rms(scenario: Any, optics: ColumnOptics, depth_m: float) -> float:
+    """RMS amplitude of the volume clutter arriving with the target's echo.
+
+    Expected number of scatterers in the resolution shell under the beam (density x
+    beam footprint area x range resolution in the snow), each a point target of
+    sigma = min(Rayleigh, optical) with the scenario's size distribution (uniform in
+    0.5-1.5 x the mean size), added incoherently (common practice for volume clutter).
+    The thin random layers are horizontal: background removal takes them out, so they
+    are not counted here.
+    """
+    cl = scenario.clutter
+    if cl.scatterer_density_per_m3 <= 0:
+        return 0.0
+    radar = scenario.radar
+    fc = radar.center_frequency_hz
+    h = radar.antenna_height_m
+    opt = _extended(optics, depth_m + 0.5)
+    j = _layer_of(opt, depth_m)
+    n = float(opt.index[j])
+    layer = scenario.snowpack.layers[min(j, len(scenario.snowpack.layers) - 1)]
+    from . import materials as mat
+
+    rho_b = min(layer.density_kg_m3 + CLUTTER_BLOCK_EXTRA_DENSITY_KG_M3,
+                917.0 * (1 - layer.lwc_percent / 100.0))
+    e_s = complex(mat.snow(layer.density_kg_m3, layer.lwc_percent).permittivity(fc)).real
+    e_b = complex(mat.snow(rho_b, layer.lwc_percent).permittivity(fc)).real
+    k = 2 * math.pi * fc * n / C0_M_S
+    K = (e_b - e_s) / (e_b + 2 * e_s)
+    r = (math.sqrt(e_s) - math.sqrt(e_b)) / (math.sqrt(e_s) + math.sqrt(e_b))
+    a = 0.5 * cl.scatterer_size_m * np.linspace(0.5, 1.5, 101)
+    sigma = np.minimum(4 * math.pi * k**4 * a**6 * K**2, math.pi * a * a * r * r)
+    amp2 = float(np.mean(sigma)) / (4 * math.pi) / n**2
+    half_bw = math.radians(radar.beamwidth_deg) / 2
+    s_snow = math.sin(half_bw) / n
+    radius = h * math.tan(half_bw) + depth_m * s_snow / math.sqrt(1 - s_snow**2)
+    pulse = radar.make_pulse()
+    shell = C0_M_S / (2 * pulse.bandwidth_hz * n)
+    count = cl.scatterer_density_per_m3 * math.pi * radius**2 * shell
+    # incoherent sum of wavelets: the mean square at one instant is (scatterers per unit
+    # two-way time) x a^2 x integral w^2 dt; the shell holds 1/B of two-way time
+    tt = np.linspace(-4.0, 4.0, 4001) / fc
+    energy = float(np.sum(pulse.waveform(tt) ** 2) * (tt[1] - tt[0])) * pulse.bandwidth_hz
+    D = _above(opt, depth_m)
+    r_e = h + float(np.sum(D / opt.index))
+    att = math.exp(-2 * float(np.dot(opt.alpha_np_m, D)))
+    # across the footprint the beam weight falls to 1/2 (two-way amplitude at the -3 dB
+    # edge); its mean square over a uniform disc is about 0.6 (numerically)
+    w = beam_weight(np.linspace(0, half_bw, 50), radar.beamwidth_deg)
+    w2 = float(np.mean(w * w * np.linspace(0, 1, 50)) * 2)
+    af = antenna_factor(radar.antenna_gain_dbi, fc)
+    return (af * _two_way_transmission(opt, depth_m) * att
+            * math.sqrt(count * amp2 * w2 * energy) / r_e**2)
+
+
+def _label(target: Any, scenario: Any) -> str:
+    if target.kind == "person":
+        i = scenario.persons.index(target) + 1 if target in scenario.persons else 1
+        return target.label or f"person {i}"
+    return getattr(target, "label", "") or target.kind
+
+
+def link_budget(scenario: Any, target: Any = None, *, threshold_db: float = 10.0) -> LinkBudget:
+    """The link budget of ``target`` (default: the scenario's first buried person).
+
+    Parameters
+    ----------
+    scenario : Scenario
+    target : Person, Boulder, Branch or MetalPlate, optional
+        Any buried thing, in the scenario or not (placed in the scenario's snowpack).
+    threshold_db : float
+        Echo-to-noise ratio a search team needs to call the echo, dB, in [0, 60]
+        (default 10 dB, common practice for a visible hyperbola on a raw display).
+
+    Raises
+    ------
+    ValueError
+        If no target is given and nobody is buried, or the threshold is out of range.
+    """
+    thr = check_range("threshold_db", threshold_db, 0.0, 60.0, unit="dB")
+    if target is None:
+        if not scenario.persons:
+            raise ValueError(
+                "the scenario has no buried person: a link budget needs a target "
+                "(pass target=... for a debris object)")
+        target = scenario.persons[0]
+    if target.depth_m > scenario.snowpack.depth_m:
+        raise ValueError(
+            f"depth_m = {target.depth_m:g} m of the target is below the "
+            f"{scenario.snowpack.depth_m:g} m snowpack; allowed range "
+            f"[0, {scenario.snowpack.depth_m:g}] m")
+    radar = scenario.radar
+    optics = column_optics(scenario)
+    depth = float(target.depth_m)
+    model = _EchoModel(scenario, optics, target, MAX_SEARCH_DEPTH_M)
+    echo = model.echo(depth)
+    rms = noise_rms(radar.transmit_power_dbm, radar.noise_floor_dbm, radar.stacking)
+    enr = float(db20(echo.peak / rms))
+    clutter = _clutter_rms(scenario, optics, depth)
+    ecr = NO_CLUTTER_DB if clutter <= 0 else min(float(db20(echo.peak / clutter)),
+                                                  NO_CLUTTER_DB)
+    # deepest detectable burial: scan depth with the same target
+    depths = np.linspace(0.05, MAX_SEARCH_DEPTH_M, 100)
+    enr_z = np.array([float(db20(model.echo(float(z)).peak / rms)) for z in depths])
+    ok = np.nonzero(enr_z >= thr)[0]
+    if ok.size == 0:
+        max_depth = 0.0
+    elif ok[-1] == depths.size - 1:
+        max_depth = MAX_SEARCH_DEPTH_M
+    else:
+        i = ok[-1]
+        z0, z1, e0, e1 = depths[i], depths[i + 1], enr_z[i], enr_z[i + 1]
+        max_depth = float(z0 + (thr - e0) * (z1 - z0) / (e1 - e0)) if e1 != e0 else float(z0)
+    fc = radar.center_frequency_hz
+    j = _layer_of(optics, depth)
+    eps_loc = float(optics.index[j] ** 2)
+    lam_m = C0_M_S / (fc * optics.index[j])
+    pulse = radar.make_pulse()
+    res = range_resolution_m(pulse.bandwidth_hz, eps_loc)
+    fres = fresnel_radius_m(lam_m, depth)
+    spacing = min(quarter_wave_spacing_m(fc, float(n * n)) for n in optics.index)
+    t_ground = 2 * radar.antenna_height_m / C0_M_S + 2 * float(
+        np.dot(optics.thickness_m, optics.index)) / C0_M_S
+    window = time_window_s(t_ground)
+    label = _label(target, scenario)
+
+    noise_dbm = radar.noise_floor_dbm - 10 * math.log10(radar.stacking)
+    rows: list[BudgetRow] = [
+        BudgetRow("transmit power", radar.transmit_power_dbm, "dBm",
+                  "power the radar sends"),
+        BudgetRow("receiver noise after stacking", -noise_dbm, "dBm",
+                  f"noise floor {radar.noise_floor_dbm:g} dBm lowered by stacking "
+                  f"{radar.stacking} traces (counted with a minus sign)"),
+        BudgetRow("antenna gain and aperture", float(db20(echo.antenna)), "dB",
+                  f"G lambda/(4 pi) at {fc / 1e6:g} MHz with {radar.antenna_gain_dbi:g} dBi"),
+        BudgetRow("two-way spreading", float(db20(echo.spreading)), "dB",
+                  f"the wave spreads over 2 x {echo.r_e_m:.2f} m (air-equivalent path)"),
+        BudgetRow("surface and layer transmission", float(db20(echo.t2)), "dB",
+                  "part of the wave reflected away at the surface and layer interfaces, "
+                  "both ways"),
+    ]
+    D = _above(_extended(optics, depth + 0.5), depth)
+    for i, (att, d) in enumerate(zip(echo.attenuation_db, D, strict=True)):
+        if d <= 0:
+            continue
+        if i < len(scenario.snowpack.layers):
+            lay = scenario.snowpack.layers[i]
+            what = (f"{d:.2f} m of {lay.density_kg_m3:g} kg/m3 snow, "
+                    f"{lay.lwc_percent:g} % water")
+        else:
+            what = f"{d:.2f} m below the snowpack (extended)"
+        rows.append(BudgetRow(f"attenuation in layer {i + 1}", att, "dB",
+                              f"two-way loss in {what}"))
+    rows.append(BudgetRow("target reflectivity", float(db20(echo.reflectivity)), "dB",
+                          f"{label}: reflection of its surface at {fc / 1e6:g} MHz and the "
+                          "curvature of its top"))
+    subtotal = sum(r.value for r in rows)
+    rows.append(BudgetRow("spectral shaping", enr - subtotal, "dB",
+                          "pulse peak after dispersion and the target's frequency response "
+                          "across the band"))
+    rows.append(BudgetRow("clutter level", float(db20(clutter / rms)) if clutter > 0
+                          else -NO_CLUTTER_DB, "dB",
+                          "rms echo of debris blocks in the resolution cell, relative to the "
+                          "noise" if clutter > 0 else "no clutter scatterers in this scenario"))
+    rows += [
+        BudgetRow("echo-to-noise ratio", enr, "dB", "peak echo over rms receiver noise"),
+        BudgetRow("echo-to-clutter ratio", ecr, "dB", "peak echo over rms debris clutter"),
+        BudgetRow("deepest detectable burial", max_depth, "m",
+                  f"same target and snow, echo {thr:g} dB above noise"),
+        BudgetRow("range resolution", res, "m", "two echoes closer than this merge"),
+        BudgetRow("footprint radius", fres, "m", f"first Fresnel zone at {depth:.2f} m"),
+        BudgetRow("trace spacing needed", spacing, "m",
+                  "quarter wavelength in the densest layer"),
+        BudgetRow("time window needed", window * 1e9, "ns",
+                  "1.3 x the two-way time to the ground"),
+    ]
+    if enr >= thr and ecr >= 6.0:
+        call = "likely visible"
+    elif enr >= thr:
+        call = "above the noise but may be hidden in debris clutter"
+    else:
+        call = "unlikely to be visible"
+    ecr_text = ("no debris clutter" if clutter <= 0 else
+                f"{abs(ecr):.0f} dB {'above' if ecr >= 0 else 'below'} clutter")
+    verdict = (f"{label} at {depth:.1f} m: echo {abs(enr):.0f} dB "
+               f"{'above' if enr >= 0 else 'below'} noise, {ecr_text}: {call}. "
+               f"Deepest detectable at this setting: about {max_depth:.1f} m.")
+    return LinkBudget(tuple(rows), enr, ecr, max_depth, res, fres, spacing, window, depth,
+                      thr, label, verdict)
