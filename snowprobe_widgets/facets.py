@@ -69,6 +69,14 @@ class FacetMesh:
         return float(self.area_m2.sum())
 
 
+#: Fewest facets around a cylinder's lit arc. A thin branch gets only a few facets around
+#: at the common facet size, and its echo then differs by 7-10 % from a converged facet
+#: sum; with at least this many it is within about 1 % (measured on the branches of the
+#: debris demo against an 8x finer arc). Along the axis and on plates the common size is
+#: already within 1 % (measured: the ski of the ice-crust demo, 0.9 %).
+MIN_ARC_FACETS = 24
+
+
 def _rotation_z(heading_deg: float) -> np.ndarray:
     a = math.radians(heading_deg)
     c, s = math.cos(a), math.sin(a)
@@ -141,7 +149,7 @@ def cylinder_mesh(
     The end caps are left out (small next to the side for a branch).
     """
     n_len = max(int(math.ceil(length_m / facet_size_m)), 2)
-    n_arc = max(int(math.ceil(math.pi * radius_m * 1.2 / facet_size_m)), 4)
+    n_arc = max(int(math.ceil(math.pi * radius_m * 1.2 / facet_size_m)), MIN_ARC_FACETS)
     s = (np.arange(n_len) + 0.5) / n_len * length_m - length_m / 2
     phi = -math.pi / 2 - 0.6 * math.pi + (np.arange(n_arc) + 0.5) / n_arc * 1.2 * math.pi
     ss, pp = np.meshgrid(s, phi, indexing="ij")
