@@ -2,10 +2,14 @@
 
 This is the only package that imports ipywidgets or bqplot; the model layer below it
 never imports this package.
+
+Apps: :class:`ScenarioExplorer` (everything around one scenario) and
+:class:`MaterialsExplorer`; their pieces (control panels, views) are importable too.
 """
 
 from __future__ import annotations
 
+from snowprobe_widgets.widgets.explorer import CachedSimulation, ScenarioExplorer
 from snowprobe_widgets.widgets.materials_lab import MaterialsExplorer
 from snowprobe_widgets.widgets.palette_png import (
     COLOUR_MAP_KINDS,
@@ -14,13 +18,32 @@ from snowprobe_widgets.widgets.palette_png import (
     encode_palette_png,
     scale_to_index,
 )
+from snowprobe_widgets.widgets.panels import (
+    DebrisPanel,
+    PersonPanel,
+    RadarPanel,
+    SnowpackEditor,
+)
+from snowprobe_widgets.widgets.processing_panel import ProcessingPanel
 from snowprobe_widgets.widgets.radargram_view import RadargramView
+from snowprobe_widgets.widgets.views import BudgetView, CrossSectionView, SpectrumView, TraceView
 
 __all__ = [
     "COLOUR_MAPS",
     "COLOUR_MAP_KINDS",
+    "BudgetView",
+    "CachedSimulation",
+    "CrossSectionView",
+    "DebrisPanel",
     "MaterialsExplorer",
+    "PersonPanel",
+    "ProcessingPanel",
+    "RadarPanel",
     "RadargramView",
+    "ScenarioExplorer",
+    "SnowpackEditor",
+    "SpectrumView",
+    "TraceView",
     "colour_map",
     "encode_palette_png",
     "scale_to_index",

@@ -1,0 +1,581 @@
+"""ScenarioExplorer: every control and view around one scenario, in one widget.
+
+Data flow, one direction: controls -> new Scenario (validated by its constructors) ->
+simulate -> processing chain -> views. Each stage is recomputed only when its inputs
+change:
+
+* the radargram is the sum of three separately cached simulations (layered column with
+  its thin clutter layers and clutter scatterers; persons and debris objects; receiver
+  noise), each keyed by the scenario parts it reads, so moving a person re-simulates the
+  objects only. ``simulate`` is linear in these parts, so the sum equals a full
+  simulation to rounding (tests/widgets/test_explorer.py checks it);
+* a processing change re-runs the chain on the cached raw section, never the simulation;
+* colour changes stay inside the radargram view (no reprocessing);
+* the link budget and the materials lab recompute only when their tab is shown.
+
+Heavy sliders send their value when released, so the last position always wins.
+"""
+
+from __future__ import annotations
+
+import html
+import math
+import pathlib
+from typing import Any
+
+import ipywidgets as widgets
+import numpy as np
+
+from snowprobe_widgets.fdtd import fdtd_trace, frozen_at
+from snowprobe_widgets.processing import ProcessingChain
+from snowprobe_widgets.radargram import Radargram
+from snowprobe_widgets.scene import Scenario
+from snowprobe_widgets.synthesis import simulate
+from snowprobe_widgets.trace import synthesize_trace
+from snowprobe_widgets.widgets import exports
+from snowprobe_widgets.widgets._common import (
+    caution_box,
+    float_slider,
+    guarded,
+    message_line,
+    message_text,
+    show_message,
+)
+from snowprobe_widgets.widgets.materials_lab import MaterialsExplorer
+from snowprobe_widgets.widgets.panels import (
+    DebrisPanel,
+    PersonPanel,
+    RadarPanel,
+    SnowpackEditor,
+    build_scenario,
+)
+from snowprobe_widgets.widgets.processing_panel import STEP_TITLES, ProcessingPanel
+from snowprobe_widgets.widgets.radargram_view import RadargramView
+from snowprobe_widgets.widgets.views import (
+    BudgetView,
+    CrossSectionView,
+    SpectrumView,
+    TraceView,
+    budget_table_html,
+)
+
+#: CSS classes of the file controls (browser tests rely on them).
+SAVE_CLASS, OPEN_CLASS, PATH_CLASS = "sp-save", "sp-open", "sp-file-path"
+
+_C0_M_S = 299_792_458.0
+_NS = 1e-9
+
+
+def _column_key(s: Scenario) -> tuple:
+    return (s.snowpack, s.ground, s.radar, s.survey, s.clutter)
+
+
+def _objects_key(s: Scenario) -> tuple:
+    return (s.snowpack, s.ground, s.radar, s.survey, s.persons, s.objects)
+
+
+def _noise_key(s: Scenario) -> tuple:
+    return (s.radar, s.survey, s.clutter.seed)
+
+
+class CachedSimulation:
+    """``simulate`` split in three cached parts whose sum is the full radargram.
+
+    Attributes
+    ----------
+    runs : dict of str to int
+        How many times each part was simulated (for tests and the status line).
+    """
+
+    PARTS: dict[str, tuple[tuple[str, ...], Any]] = {
+        "column": (("layers", "clutter"), _column_key),
+        "objects": (("objects",), _objects_key),
+        "noise": (("noise",), _noise_key),
+    }
+
+    def __init__(self) -> None:
+        self._last: dict[str, tuple[tuple, Radargram]] = {}
+        self.runs = {name: 0 for name in self.PARTS}
+
+    def __call__(self, scenario: Scenario) -> Radargram:
+        """The radargram of ``scenario`` (raises ValueError as ``simulate`` does)."""
+        parts = {}
+        for name, (components, key_of) in self.PARTS.items():
+            key = key_of(scenario)
+            hit = self._last.get(name)
+            if hit is not None and hit[0] == key:
+                parts[name] = hit[1]
+                continue
+            rg = simulate(scenario, components=components)
+            self._last[name] = (key, rg)
+            self.runs[name] += 1
+            parts[name] = rg
+        data = parts["column"].data + parts["objects"].data + parts["noise"].data
+        o = parts["objects"]
+        return Radargram(data, o.time_s, o.position_m, scenario=scenario, truth=o.truth)
+
+
+def _column_media(s: Scenario) -> tuple[list, np.ndarray]:
+    return list(s.snowpack.materials()) + [s.ground.material()], s.snowpack.thicknesses_m
+
+
+def normalised_correlation(a: np.ndarray, b: np.ndarray) -> float:
+    """Zero-lag normalised cross-correlation of two equally sampled traces (1: same shape)."""
+    a, b = np.asarray(a, float), np.asarray(b, float)
+    den = math.sqrt(float(a @ a) * float(b @ b))
+    return float(a @ b) / den if den > 0 else 0.0
+
+
+class ScenarioExplorer(widgets.VBox):
+    """Plan a radar search around one scenario: controls, views, files and exports.
+
+    Parameters
+    ----------
+    scenario : Scenario, optional
+        Starting scenario (default :meth:`Scenario.default`).
+
+    Notes
+    -----
+    Assign :attr:`scenario` to show another scenario everywhere (the processing chain is
+    reset to ``ProcessingChain.default`` at its centre frequency). Parts, all public:
+    ``person``, ``snowpack``, ``debris``, ``radar`` (control panels), ``processing``,
+    ``section``, ``radargram_view``, ``trace_view``, ``spectrum_view``, ``budget_view``,
+    ``materials``.
+    """
+
+    def __init__(self, scenario: Scenario | None = None, **kwargs: Any) -> None:
+        scenario = Scenario.default() if scenario is None else scenario
+        self._scenario: Scenario | None = None
+        self._raw: Radargram | None = None
+        self._shown: Radargram | None = None
+        self._chain: ProcessingChain | None = None
+        self._echoes: tuple[tuple, list] | None = None
+        self._stale = {"budget": True, "materials": True}
+        self.simulation = CachedSimulation()
+        self.updates = 0
+
+        # controls
+        self.person = PersonPanel()
+        self.snowpack = SnowpackEditor()
+        self.debris = DebrisPanel()
+        self.radar = RadarPanel()
+        self.processing = ProcessingPanel(scenario.radar.center_frequency_hz)
+        self._panels = [self.snowpack, self.person, self.debris, self.radar]
+        for p in self._panels:
+            p.on_change(self._on_controls)
+        self.processing.on_change(self._on_processing)
+        self.message = message_line()
+        self.controls = widgets.Tab(
+            children=[self.person, self.snowpack, self.debris, self.radar, self.processing],
+            titles=["Person", "Snow & ground", "Debris", "Radar", "Processing"],
+            layout=widgets.Layout(width="460px"))
+
+        # views
+        self.section = CrossSectionView()
+        self.radargram_view = RadargramView(show_truth=False)
+        self.show_processed = widgets.ToggleButtons(
+            options=["processed", "raw"], value="processed", description="section")
+        self.mark_detections = widgets.Checkbox(value=False, indent=False,
+                                                description="mark automatic detections")
+        self.detection_threshold = float_slider("detection level (dB)", 15.0, 0.0, 60.0, 1.0,
+                                                readout_format=".0f")
+        self.detection_list = widgets.HTML()
+        self.trace_view = TraceView()
+        self.spectrum_view = SpectrumView()
+        self.budget_view = BudgetView()
+        self.materials = MaterialsExplorer()
+        self.lower = widgets.Tab(
+            children=[self.trace_view, self.spectrum_view, self.budget_view, self.materials],
+            titles=["Trace", "Spectrum", "Link budget", "Materials lab"])
+        self.show_processed.observe(lambda _: self._show_section(), names="value")
+        self.mark_detections.observe(lambda _: self._update_detections(), names="value")
+        self.detection_threshold.observe(lambda _: self._update_detections(), names="value")
+        self.radargram_view.observe(self._on_pick, names="picked_trace_index")
+        self.lower.observe(lambda _: self._refresh_lazy(), names="selected_index")
+        self.trace_view.fdtd_button.on_click(lambda _: self.run_fdtd())
+
+        # files
+        self.path = widgets.Text(value="scenario.json", description="file",
+                                 placeholder="path/to/scenario.json",
+                                 layout=widgets.Layout(width="360px"))
+        self.path.add_class(PATH_CLASS)
+        self.open_button = widgets.Button(description="open", icon="")
+        self.open_button.add_class(OPEN_CLASS)
+        self.save_button = widgets.Button(description="save")
+        self.save_button.add_class(SAVE_CLASS)
+        self.demo = widgets.Dropdown(options=list(Scenario.examples()), description="demo")
+        self.demo_button = widgets.Button(description="start from demo")
+        self.export_csv = widgets.Button(description="data as CSV")
+        self.export_npz = widgets.Button(description="data as NPZ")
+        self.export_png = widgets.Button(description="picture as PNG")
+        self.export_report = widgets.Button(description="design report (HTML)")
+        self.file_message = message_line()
+        self.file_status = widgets.HTML()
+        self.open_button.on_click(lambda _: self.open())
+        self.save_button.on_click(lambda _: self.save())
+        self.demo_button.on_click(lambda _: self._load_demo())
+        self.export_csv.on_click(lambda _: self._export("csv"))
+        self.export_npz.on_click(lambda _: self._export("npz"))
+        self.export_png.on_click(lambda _: self._export("png"))
+        self.export_report.on_click(lambda _: self._export("report"))
+        self.status = widgets.HTML()
+
+        file_bar = widgets.VBox([
+            widgets.HBox([self.path, self.open_button, self.save_button, self.demo,
+                          self.demo_button]),
+            widgets.HBox([widgets.HTML("export next to the file:"), self.export_csv,
+                          self.export_npz, self.export_png, self.export_report]),
+            self.file_message, self.file_status])
+        left = widgets.VBox([self.controls, self.message, self.status])
+        right = widgets.VBox([
+            self.section, self.radargram_view,
+            widgets.HBox([self.show_processed, self.mark_detections, self.detection_threshold]),
+            self.detection_list, self.lower], layout=widgets.Layout(flex="1 1 auto"))
+        header = widgets.HTML(
+            "<h3 style='margin:4px 0'>Radar search planner</h3><div>Change the snow, the "
+            "buried person, the debris and the radar; see the scene, the radargram, a "
+            "trace and whether the echo would stand out.</div>")
+        super().__init__(children=[header, caution_box(), file_bar,
+                                   widgets.HBox([left, right])], **kwargs)
+        self.scenario = scenario
+
+    # ------------------------------------------------------------------ public API
+    @property
+    def scenario(self) -> Scenario:
+        """The scenario on screen (the last one accepted)."""
+        assert self._scenario is not None
+        return self._scenario
+
+    @scenario.setter
+    def scenario(self, scenario: Scenario) -> None:
+        if not isinstance(scenario, Scenario):
+            raise ValueError(f"scenario must be a Scenario, got {type(scenario).__name__}")
+        for p in self._panels:
+            p.show(scenario)
+        self.processing.show(ProcessingChain.default(scenario.radar.center_frequency_hz))
+        first = scenario.persons[0].position_m if scenario.persons else \
+            0.5 * (scenario.survey.start_m + scenario.survey.end_m)
+        self._accept(scenario, pick_m=first)
+
+    @property
+    def chain(self) -> ProcessingChain | None:
+        """The processing chain last applied."""
+        return self._chain
+
+    @property
+    def raw_radargram(self) -> Radargram | None:
+        """The simulated section before processing."""
+        return self._raw
+
+    @property
+    def radargram(self) -> Radargram | None:
+        """The section on screen (processed or raw, as chosen)."""
+        return self._shown
+
+    def save(self, path: str | None = None) -> pathlib.Path | None:
+        """Save the scenario on screen to ``path`` (default: the path field)."""
+        target = pathlib.Path(path or self.path.value).expanduser()
+        ok = guarded(self.file_message, lambda: self._guard_io(
+            lambda: self.scenario.save(target)))
+        if ok:
+            self.file_status.value = f"saved {html.escape(str(target))}"
+            return target
+        return None
+
+    def open(self, path: str | None = None) -> bool:
+        """Open a scenario file (default: the path field); True on success."""
+        target = pathlib.Path(path or self.path.value).expanduser()
+        loaded: list[Scenario] = []
+        ok = guarded(self.file_message, lambda: self._guard_io(
+            lambda: loaded.append(Scenario.load(target))))
+        if ok:
+            self.scenario = loaded[0]
+            self.file_status.value = f"opened {html.escape(str(target))}"
+        return ok
+
+    # ------------------------------------------------------------------ pipeline
+    def _on_controls(self) -> None:
+        base = self._scenario
+        if base is None:
+            return
+        new: list[Scenario] = []
+        if guarded(self.message, lambda: new.append(build_scenario(base, self._panels))):
+            self._accept(new[0])
+
+    def _on_processing(self) -> None:
+        if self._raw is not None:
+            self._process()
+
+    def _accept(self, scenario: Scenario, pick_m: float | None = None) -> None:
+        raw: list[Radargram] = []
+        if not guarded(self.message, lambda: raw.append(self.simulation(scenario))):
+            return
+        old = self._scenario
+        self._scenario = scenario
+        self._raw = raw[0]
+        if old is None or _column_media_key(old) != _column_media_key(scenario):
+            self.trace_view.clear_reference()
+        self.section.update(scenario)
+        if pick_m is not None:
+            self.radargram_view.picked_position_m = None
+        self._process(pick_m)
+        self._stale = {"budget": True, "materials": True}
+        self._refresh_lazy()
+        self.updates += 1
+        runs = self.simulation.runs
+        self.status.value = (f"<small>updates={self.updates} | simulated: column "
+                             f"{runs['column']}x, objects {runs['objects']}x, noise "
+                             f"{runs['noise']}x</small>")
+
+    def _process(self, pick_m: float | None = None) -> None:
+        raw = self._raw
+        if raw is None:
+            return
+        chain: list[ProcessingChain] = []
+        done: list[Radargram] = []
+
+        def run() -> None:
+            c = self.processing.chain()
+            done.append(c.apply(raw))
+            chain.append(c)
+
+        if not guarded(self.message, run):
+            return
+        self._chain = chain[0]
+        self._processed = done[0]
+        self._show_section(pick_m)
+        self._update_detections()
+
+    def _show_section(self, pick_m: float | None = None) -> None:
+        processed = getattr(self, "_processed", None)
+        if processed is None or self._raw is None:
+            return
+        rg = processed if self.show_processed.value == "processed" else self._raw
+        self._shown = rg
+        view = self.radargram_view
+        view.radargram = rg
+        echoes = self._column_echoes()
+        times = dict(echoes)
+        if "surface" in times and "ground" in times and times["ground"] > times["surface"]:
+            v = 2.0 * self.scenario.snowpack.depth_m / (times["ground"] - times["surface"])
+            view.set_depth_axis(times["surface"], min(v, _C0_M_S))
+        if pick_m is not None or view.picked_position_m is None:
+            view.pick_position(pick_m if pick_m is not None else float(rg.position_m[0]))
+        self._update_trace()
+
+    def _column_echoes(self) -> list[tuple[str, float]]:
+        """Labelled interface echo times of the layered column (cached per column)."""
+        s = self.scenario
+        key = _column_media_key(s)
+        if self._echoes is None or self._echoes[0] != key:
+            mats, d = _column_media(s)
+            r = s.radar
+            tr = synthesize_trace(mats, d, antenna_height_m=r.antenna_height_m,
+                                  pulse=r.make_pulse(), dt_s=r.dt_s, n_samples=r.n_samples)
+            self._echoes = (key, [(str(n), float(t)) for n, t in tr.echoes])
+        return self._echoes[1]
+
+    def _update_trace(self) -> None:
+        rg, view = self._shown, self.radargram_view
+        if rg is None or view.picked_trace_index is None:
+            return
+        i = min(int(view.picked_trace_index), rg.position_m.size - 1)
+        x = float(rg.position_m[i])
+        amp = rg.data[:, i]
+        echoes = list(self._column_echoes())
+        for t in rg.truth:
+            target = self._target_near(t, x)
+            if target:
+                echoes.append((f"{t.label or t.kind} (top, from straight above)",
+                               t.apex_time_s))
+        which = "processed" if rg is not self._raw else "raw"
+        self.trace_view.update(rg.time_s, amp, echoes,
+                               f"Trace at {x:.2f} m along the line ({which})")
+        self.spectrum_view.update(self.scenario.radar.make_pulse(), rg.dt_s, amp)
+        self.section.set_pick(x)
+
+    def _target_near(self, marker: Any, x_m: float) -> bool:
+        for obj in self.scenario.targets:
+            if obj.position_m == marker.position_m and obj.depth_m == marker.depth_m:
+                return abs(obj.position_m - x_m) <= obj.half_extent_m
+        return False
+
+    def _on_pick(self, change: Any) -> None:
+        if change["new"] is not None:
+            self._update_trace()
+
+    def _update_detections(self) -> None:
+        view = self.radargram_view
+        if not self.mark_detections.value or self._raw is None:
+            view.set_detections([])
+            self.detection_list.value = ""
+            return
+        found: list[list] = []
+
+        def run() -> None:
+            from snowprobe_widgets.detection import detect
+
+            found.append(detect(self._raw, threshold=self.detection_threshold.value))
+
+        if not guarded(self.message, run):
+            return
+        dets = found[0]
+        self._detections = dets
+        view.set_detections([(d.position_m, d.time_s, f"{d.score:.0f} dB") for d in dets])
+        items = "".join(f"<li>{html.escape(d.reason)}</li>" for d in dets[:8])
+        more = f"<li>... and {len(dets) - 8} more</li>" if len(dets) > 8 else ""
+        self.detection_list.value = (f"<small>{len(dets)} detection(s):<ul>{items}{more}"
+                                     "</ul></small>")
+
+    def _refresh_lazy(self) -> None:
+        shown = self.lower.selected_index
+        if shown == 2 and self._stale["budget"]:
+            self.budget_view.update(self.scenario)
+            self._stale["budget"] = False
+        if shown == 3 and self._stale["materials"]:
+            self.materials.scenario = self.scenario
+            self._stale["materials"] = False
+
+    # ------------------------------------------------------------------ FDTD
+    def run_fdtd(self) -> float | None:
+        """Full-wave check of the snow column at the picked position.
+
+        Runs the 1-D FDTD solver (:func:`snowprobe_widgets.fdtd.fdtd_trace`) over the snow
+        layers and ground, and the frequency-domain plane-wave trace of the same media
+        frozen at the centre frequency (:func:`snowprobe_widgets.fdtd.frozen_at`); shows
+        both and their normalised cross-correlation. Returns that number (None if refused).
+        """
+        s = self.scenario
+        mats, d = _column_media(s)
+        r = s.radar
+        pulse = r.make_pulse()
+        tv = self.trace_view
+        tv.progress.value = 0.0
+        out: list[tuple] = []
+
+        def progress(fraction: float) -> None:
+            tv.progress.value = float(min(max(fraction, 0.0), 1.0))
+
+        def run() -> None:
+            res = fdtd_trace(mats, d, antenna_height_m=r.antenna_height_m, pulse=pulse,
+                             dt_s=r.dt_s, n_samples=r.n_samples, progress=progress)
+            frozen = [frozen_at(m, pulse.center_frequency_hz) for m in mats]
+            fd = synthesize_trace(frozen, d, antenna_height_m=r.antenna_height_m, pulse=pulse,
+                                  dt_s=r.dt_s, n_samples=r.n_samples, mode="plane")
+            out.append((res, fd))
+
+        tv.fdtd_button.disabled = True
+        try:
+            ok = guarded(tv.message, run)
+        finally:
+            tv.fdtd_button.disabled = False
+        if not ok:
+            return None
+        res, fd = out[0]
+        ncc = normalised_correlation(res.trace.amplitude, fd.amplitude)
+        x = self.radargram_view.picked_position_m
+        where = f" at {x:.2f} m" if x is not None else ""
+        tv.show_reference(
+            res.trace.time_s, res.trace.amplitude, fd.amplitude,
+            f"Full-wave check of the snow column{where}: agreement (normalised "
+            f"cross-correlation) <b>{ncc:.4f}</b> (1 = same shape); FDTD {res.grid.n_cells} "
+            f"cells x {res.grid.n_steps} steps in {res.elapsed_s:.2f} s. Both use the media "
+            "frozen at the centre frequency, as plane waves.")
+        self.fdtd_agreement = ncc
+        return ncc
+
+    # ------------------------------------------------------------------ files
+    @staticmethod
+    def _guard_io(action: Any) -> None:
+        try:
+            action()
+        except OSError as exc:
+            raise ValueError(f"could not use the file: {exc.strerror or exc}") from None
+
+    def _load_demo(self) -> None:
+        self.scenario = Scenario.example(self.demo.value)
+        self.file_status.value = f"demo {html.escape(self.demo.value)}"
+
+    def export_paths(self) -> dict[str, pathlib.Path]:
+        """Where the exports go: next to the path field's file, same stem."""
+        base = pathlib.Path(self.path.value).expanduser()
+        stem = base.with_suffix("") if base.suffix else base
+        return {"csv": stem.with_name(stem.name + ".csv"),
+                "npz": stem.with_name(stem.name + ".npz"),
+                "png": stem.with_name(stem.name + ".png"),
+                "report": stem.with_name(stem.name + "_report.html")}
+
+    def _export(self, kind: str) -> pathlib.Path | None:
+        target = self.export_paths()[kind]
+        ok = guarded(self.file_message, lambda: self._guard_io(lambda: self._write(kind,
+                                                                                   target)))
+        if ok:
+            self.file_status.value = f"wrote {html.escape(str(target))}"
+            return target
+        return None
+
+    def export(self, kind: str) -> pathlib.Path | None:
+        """Write one export: ``"csv"``, ``"npz"``, ``"png"`` or ``"report"``."""
+        if kind not in ("csv", "npz", "png", "report"):
+            raise ValueError(f"kind = {kind!r}; allowed: csv, npz, png, report")
+        return self._export(kind)
+
+    def _write(self, kind: str, target: pathlib.Path) -> None:
+        rg, raw = self._shown, self._raw
+        if rg is None or raw is None:
+            raise ValueError("nothing to export yet")
+        view = self.radargram_view
+        name = self.scenario.name or "scenario"
+        if kind == "csv":
+            exports.write_csv(rg, target, title=name)
+        elif kind == "npz":
+            exports.write_npz(rg, raw, target, scenario_json=self.scenario.to_json(),
+                              processing_json=self._chain.to_json() if self._chain else "")
+        elif kind == "png":
+            exports.write_png(rg, target, view.colour_dropdown.value, view.clip_slider.value)
+        else:
+            exports.write_report(target, self.report())
+
+    def report(self) -> str:
+        """The one-page HTML design report of what is on screen."""
+        s, rg, view = self.scenario, self._shown, self.radargram_view
+        assert rg is not None
+        png = exports.radargram_png(rg, view.colour_dropdown.value, view.clip_slider.value)
+        self.budget_view.update(s)
+        self._stale["budget"] = False
+        b = self.budget_view.budget
+        if b is not None:
+            budget_html, verdict = budget_table_html(b), b.verdict
+        else:
+            verdict = message_text(self.budget_view.message) or "no link budget"
+            budget_html = f"<p>{html.escape(verdict)}</p>"
+        steps = [f"{STEP_TITLES.get(st.name, st.name)} ({', '.join(f'{k}={v:g}' if isinstance(v, float) else f'{k}={v}' for k, v in st.params)})"  # noqa: E501
+                 for st in (self._chain.steps if self._chain else ()) if st.enabled]
+        dets = [d.reason for d in getattr(self, "_detections", [])] \
+            if self.mark_detections.value else []
+        which = "processed" if rg is not self._raw else "raw"
+        caption = (f"Radargram ({which}): {rg.data.shape[1]} traces from "
+                   f"{rg.position_m[0]:.2f} to {rg.position_m[-1]:.2f} m, "
+                   f"{rg.data.shape[0]} samples over {rg.time_s[-1] / _NS:.1f} ns; colours "
+                   f"{view.colour_dropdown.value}, clipped at the {view.clip_slider.value:g} "
+                   "% amplitude.")
+        return exports.report_html(s, picture_png=png, budget_html=budget_html,
+                                   verdict=verdict, processing=steps, detections=dets,
+                                   figure_caption=caption)
+
+    @property
+    def message_text(self) -> str:
+        """The refusal shown next to the controls ('' when none)."""
+        return message_text(self.message)
+
+    def show_message(self, text: str) -> None:
+        """Show a plain message next to the controls."""
+        show_message(self.message, text)
+
+
+def _column_media_key(s: Scenario) -> tuple:
+    return (s.snowpack, s.ground, s.radar)
+
+
+__all__ = ["OPEN_CLASS", "PATH_CLASS", "SAVE_CLASS", "CachedSimulation", "ScenarioExplorer",
+           "normalised_correlation"]
