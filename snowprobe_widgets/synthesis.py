@@ -325,9 +325,9 @@ def _binned(n_rows: int, row: np.ndarray, delay_s: np.ndarray, amp: np.ndarray,
     w1 = pos - i0
     a = amp[keep]
     flat = row[keep] * grid.n_bin + i0
-    both = np.bincount(np.concatenate([flat, flat + 1]),
-                       weights=np.concatenate([a - a * w1, a * w1]), minlength=size)
-    return both[:size].reshape(n_rows, grid.n_bin)
+    out = np.bincount(flat, weights=a - a * w1, minlength=size + 1)
+    out[1:] += np.bincount(flat, weights=a * w1, minlength=size)[:size]
+    return out[:size].reshape(n_rows, grid.n_bin)
 
 
 def _target_bins(t: _Target, x_chunk: np.ndarray, grid: _Grid) -> np.ndarray:
@@ -425,10 +425,10 @@ def simulate(scenario: Any, *, components: Iterable[str] = COMPONENTS,
     n_tr = x_tr.size
     ns = grid.n_samples
     af = antenna_factor(radar.antenna_gain_dbi, radar.center_frequency_hz)
-    data = np.zeros((ns, n_tr))
+    data = np.zeros((n_tr, ns))  # trace-major while computing, transposed at the end
     if "layers" in comps:
         col = _column_trace(scenario, pulse, with_thin_layers="clutter" in comps)
-        data += af * col[:, None]
+        data += af * col[None, :]
     targets = _prepare_targets(scenario, pulse, grid, optics, x_tr) if "objects" in comps \
         else []
     fb = grid.freq_hz[grid.band]
@@ -472,16 +472,17 @@ def simulate(scenario: Any, *, components: Iterable[str] = COMPONENTS,
             full = np.zeros((xs.size, grid.freq_hz.size), complex)
             full[:, grid.band] = spec * common
             block = scipy.fft.irfft(full, n=grid.n_bin, axis=1)[:, : OVERSAMPLE * ns : OVERSAMPLE]
-            data[:, start:start + xs.size] += block.T
+            data[start:start + xs.size] += block
     if "noise" in comps:
         seq = np.random.SeedSequence(scenario.clutter.seed, spawn_key=(2,))
         rng = np.random.default_rng(seq)
         rms = noise_rms(radar.transmit_power_dbm, radar.noise_floor_dbm, radar.stacking)
         for start in range(0, n_tr, chunk):
             m = min(chunk, n_tr - start)
-            data[:, start:start + m] += rms * rng.standard_normal((m, ns)).T
+            data[start:start + m] += rms * rng.standard_normal((m, ns))
     truth = _truth(scenario, optics)
-    return Radargram(data, radar.time_s, x_tr, scenario=scenario, truth=truth)
+    return Radargram(np.ascontiguousarray(data.T), radar.time_s, x_tr, scenario=scenario,
+                     truth=truth)
 
 
 def _truth(scenario: Any, optics: ColumnOptics) -> tuple[TruthMarker, ...]:
