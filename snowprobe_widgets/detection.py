@@ -70,6 +70,9 @@ DEFAULT_THRESHOLD_DB = 20.0
 _BAND_TOP_FC = 2.5
 #: Guard around the surface and ground echoes, in periods of the centre frequency.
 _GUARD_PERIODS = 1.2
+#: Periods kept beyond each end of the searched times (room for the envelope, the box
+#: and the nearest part of the deepest flanks).
+_PAD_PERIODS = 3.0
 #: Along-line width of the box over which the envelope energy is averaged, m: a little
 #: less than the smallest body extent (0.45 m, the width of a lying person), so a body
 #: keeps its energy while a small clod's focused spot is diluted (invented figure).
@@ -304,10 +307,10 @@ def _detect_processed(rg: Radargram, col: _Column, fc: float, thr: float, zmin: 
     i_lo = int(np.flatnonzero(search)[0])
     i_hi = int(np.flatnonzero(search)[-1])
     # section cut to the searched range plus room for the flanks, decimated in time
-    pad = int(round(4.0 / fc / dt))
+    pad = int(round(_PAD_PERIODS / fc / dt))
     k = max(1, int(math.floor(1.0 / (2.0 * dt * _BAND_TOP_FC * fc))))
     a = max(0, i_lo - pad)
-    b = min(t.size, i_hi + 2 * pad + 1)
+    b = min(t.size, i_hi + pad + 1)
     b = a + (b - a) // k * k
     cut = rg.data[a:b]
     if k > 1:
