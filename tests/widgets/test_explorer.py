@@ -1,0 +1,431 @@
+"""ScenarioExplorer driven without a browser: controls -> scenario -> views, files, exports."""
+
+from __future__ import annotations
+
+import dataclasses
+import io
+
+import numpy as np
+import pytest
+
+from snowprobe_widgets.cautions import CAUTION_SHORT, CAUTION_TEXT
+from snowprobe_widgets.scene import Layer, Person, Scenario
+from snowprobe_widgets.synthesis import simulate
+from snowprobe_widgets.widgets import ScenarioExplorer
+from snowprobe_widgets.widgets.explorer import (
+    OPEN_CLASS,
+    PATH_CLASS,
+    SAVE_CLASS,
+    CachedSimulation,
+    normalised_correlation,
+)
+from snowprobe_widgets.widgets.panels import PERSON_DEPTH_CLASS
+from snowprobe_widgets.widgets.radargram_view import STATUS_CLASS
+
+
+@pytest.fixture(scope="module")
+def app() -> ScenarioExplorer:
+    return ScenarioExplorer()
+
+
+@pytest.fixture(autouse=True)
+def _reset(app: ScenarioExplorer) -> None:
+    app.scenario = Scenario.default()
+
+
+def _apex_s(app: ScenarioExplorer) -> float:
+    return float(np.asarray(app.radargram_view.truth_mark.y)[0]) * 1e-9
+
+
+def _same(a: np.ndarray, b: np.ndarray) -> bool:
+    """Equal to 1 part in 1e6 of the larger section's peak (the data are ~1e-6 in size)."""
+    scale = max(float(np.max(np.abs(a))), float(np.max(np.abs(b))), 1e-300)
+    return a.shape == b.shape and bool(np.max(np.abs(a - b)) <= 1e-6 * scale)
+
+
+def _draws(app: ScenarioExplorer) -> int:
+    return int(app.radargram_view.status.value.split("draws=")[1].split()[0])
+
+
+# --------------------------------------------------------------------------- hooks
+def test_css_hooks_and_cautions_are_present(app: ScenarioExplorer) -> None:
+    assert PERSON_DEPTH_CLASS == "sp-person-depth"
+    assert "sp-person-depth" in app.person.depth._dom_classes
+    assert "sp-radargram-status" == STATUS_CLASS
+    assert STATUS_CLASS in app.radargram_view.status._dom_classes
+    assert (SAVE_CLASS, OPEN_CLASS, PATH_CLASS) == ("sp-save", "sp-open", "sp-file-path")
+    assert SAVE_CLASS in app.save_button._dom_classes
+    assert OPEN_CLASS in app.open_button._dom_classes
+    assert PATH_CLASS in app.path._dom_classes
+    texts = [c.value for c in app.children if hasattr(c, "value")]
+    assert any(CAUTION_TEXT[:50] in t for t in texts)
+    assert not app.person.depth.continuous_update  # heavy slider: released value only
+
+
+# --------------------------------------------------------------------------- controls
+def test_deeper_person_moves_the_truth_apex_later_and_changes_the_picture(
+        app: ScenarioExplorer) -> None:
+    apex0, draws0 = _apex_s(app), _draws(app)
+    data0 = app.radargram.data.copy()
+    app.person.depth.value = 1.2
+    assert app.scenario.persons[0].depth_m == 1.2
+    assert _apex_s(app) > apex0 + 2e-9  # 0.6 m more of dry snow: several ns two-way
+    assert _draws(app) == draws0 + 1
+    assert not _same(app.radargram.data, data0)
+
+
+@pytest.mark.parametrize(("control", "value", "check"), [
+    ("position", 7.0, lambda s: s.persons[0].position_m == 7.0),
+    ("offset", 0.8, lambda s: s.persons[0].offset_m == 0.8),
+    ("heading", 30.0, lambda s: s.persons[0].heading_deg == 30.0),
+    ("posture", "curled", lambda s: s.persons[0].posture == "curled"),
+    ("clothing", 3.0, lambda s: abs(s.persons[0].clothing_m - 0.03) < 1e-12),
+])
+def test_each_person_control_reaches_the_scenario(app: ScenarioExplorer, control: str,
+                                                  value: object, check) -> None:
+    before = app.raw_radargram.data.copy()
+    getattr(app.person, control).value = value
+    assert app.message_text == ""
+    assert check(app.scenario)
+    assert not _same(app.raw_radargram.data, before)
+
+
+def test_person_position_moves_truth_marker(app: ScenarioExplorer) -> None:
+    app.person.position.value = 2.0
+    assert float(np.asarray(app.radargram_view.truth_mark.x)[0]) == pytest.approx(2.0)
+
+
+@pytest.mark.parametrize(("control", "value", "check"), [
+    ("frequency", 500.0, lambda s: s.radar.center_frequency_hz == pytest.approx(500e6)),
+    ("height", 1.0, lambda s: s.radar.antenna_height_m == pytest.approx(1.0)),
+    ("power", 30.0, lambda s: s.radar.transmit_power_dbm == 30.0),
+    ("noise", -60.0, lambda s: s.radar.noise_floor_dbm == -60.0),
+    ("stacking", 64, lambda s: s.radar.stacking == 64),
+    ("pulse", "gaussian1", lambda s: s.radar.pulse == "gaussian1"),
+])
+def test_each_radar_control_reaches_the_scenario(app: ScenarioExplorer, control: str,
+                                                 value: object, check) -> None:
+    before = app.raw_radargram.data.copy()
+    getattr(app.radar, control).value = value
+    assert app.message_text == ""
+    assert check(app.scenario)
+    assert not _same(app.raw_radargram.data, before)
+
+
+def test_trace_spacing_and_window_change_the_section_shape(app: ScenarioExplorer) -> None:
+    app.radar.spacing.value = 10.0
+    assert app.radargram.data.shape[1] == 101
+    app.radar.window.value = 102.4
+    assert app.radargram.data.shape[0] == 1024
+
+
+def test_higher_antenna_delays_the_surface_echo(app: ScenarioExplorer) -> None:
+    def surface_s() -> float:
+        return dict(app._column_echoes())["surface"]
+
+    t0 = surface_s()
+    app.radar.height.value = 1.5
+    assert surface_s() == pytest.approx(t0 + 2 * 1.0 / 299_792_458.0, rel=1e-6)
+
+
+def test_snowpack_editor_edits_adds_removes_and_reorders(app: ScenarioExplorer) -> None:
+    ed = app.snowpack
+    n = len(app.scenario.snowpack.layers)
+    ed.layer_choice.value = 3
+    ed.lwc.value = 5.0
+    assert app.scenario.snowpack.layers[3].lwc_percent == 5.0
+    ed.add_layer.click()
+    assert len(app.scenario.snowpack.layers) == n + 1
+    ed.add_crust.click()
+    layers = app.scenario.snowpack.layers
+    assert len(layers) == n + 2 and layers[5].ice_crust
+    ed.move_up.click()
+    assert app.scenario.snowpack.layers[4].ice_crust
+    ed.remove_layer.click()
+    assert len(app.scenario.snowpack.layers) == n + 1
+    assert not any(la.ice_crust for la in app.scenario.snowpack.layers)
+    ed.ground_kind.value = "rock"
+    assert app.scenario.ground.kind == "rock"
+    colours = list(app.section.layers.fill_colors)
+    assert len(colours) == n + 1 and colours[3] != colours[0]  # wet layer drawn darker
+
+
+def test_wetter_snow_weakens_the_ground_echo(app: ScenarioExplorer) -> None:
+    """Water in the snow absorbs: the deep part of the raw section loses energy."""
+    def late_energy() -> float:
+        rg = app.raw_radargram
+        t_g = dict(app._column_echoes())["ground"]
+        rows = rg.time_s > t_g - 1e-9
+        return float(np.sum(rg.data[rows] ** 2))
+
+    e_dry = late_energy()
+    for i in range(4):
+        app.snowpack.layer_choice.value = i
+        app.snowpack.lwc.value = 4.0
+    assert late_energy() < 0.5 * e_dry
+
+
+def test_debris_and_clutter_controls(app: ScenarioExplorer) -> None:
+    d = app.debris
+    d.add_boulder.click()
+    assert [o.kind for o in app.scenario.objects] == ["boulder"]
+    d.position.value = 2.0
+    d.size.value = 0.4
+    assert app.scenario.objects[0].position_m == 2.0
+    assert app.scenario.objects[0].diameter_m == 0.4
+    assert len(app.radargram.truth) == 2
+    d.add_metal.click()
+    assert app.scenario.objects[1].kind == "metal"
+    d.remove.click()
+    assert len(app.scenario.objects) == 1
+    before = app.raw_radargram.data.copy()
+    d.seed.value = 99
+    assert app.scenario.clutter.seed == 99
+    assert not _same(app.raw_radargram.data, before)
+    d.density.value = 10.0
+    assert app.scenario.clutter.scatterer_density_per_m3 == 10.0
+
+
+def test_processing_change_does_not_resimulate_and_colour_does_not_reprocess(
+        app: ScenarioExplorer) -> None:
+    runs = dict(app.simulation.runs)
+    shown = app.radargram.data.copy()
+    app.processing.switches["background_removal"].value = False
+    assert app.simulation.runs == runs
+    assert not _same(app.radargram.data, shown)
+    assert app.chain is not None and not app.chain.steps[2].enabled
+    processed = app.radargram
+    app.radargram_view.clip_slider.value = 90.0
+    assert app.radargram is processed  # same object: no reprocessing
+    app.processing.dewow_window.value = 10.0
+    assert dict(app.chain.steps[1].params)["window_s"] == pytest.approx(10e-9)
+    app.show_processed.value = "raw"
+    assert app.radargram is app.raw_radargram
+    app.show_processed.value = "processed"
+
+
+def test_person_change_resimulates_only_the_objects(app: ScenarioExplorer) -> None:
+    runs = dict(app.simulation.runs)
+    app.person.depth.value = 0.9
+    assert app.simulation.runs["objects"] == runs["objects"] + 1
+    assert app.simulation.runs["column"] == runs["column"]
+    assert app.simulation.runs["noise"] == runs["noise"]
+
+
+@pytest.mark.parametrize("name", ["two_burials", "crust_and_ski", "deep_wet_spring"])
+def test_cached_parts_add_up_to_the_full_simulation(name: str) -> None:
+    s = Scenario.example(name)
+    full = simulate(s)
+    parts = CachedSimulation()(s)
+    scale = float(np.max(np.abs(full.data)))
+    np.testing.assert_allclose(parts.data, full.data, rtol=0, atol=1e-9 * scale)
+    assert parts.truth == full.truth
+    moved = dataclasses.replace(s, persons=tuple(
+        dataclasses.replace(p, depth_m=p.depth_m + 0.1) for p in s.persons))
+    cache = CachedSimulation()
+    cache(s)
+    np.testing.assert_allclose(cache(moved).data, simulate(moved).data, rtol=0,
+                               atol=1e-9 * scale)
+
+
+# --------------------------------------------------------------------------- refusals
+def test_person_below_the_snow_is_refused_with_message_and_last_picture(
+        app: ScenarioExplorer) -> None:
+    good = app.scenario
+    picture = app.radargram_view.image_mark.image.value
+    draws = _draws(app)
+    app.person.depth.value = 1.9  # 2 m of snow, a 0.25 m thick body
+    assert "deeper than the 2 m snowpack" in app.message_text
+    assert app.scenario is good
+    assert app.radargram_view.image_mark.image.value == picture
+    assert _draws(app) == draws
+    app.person.depth.value = 1.0
+    assert app.message_text == ""
+    assert app.scenario.persons[0].depth_m == 1.0
+
+
+def test_refused_layer_and_radar_values_show_the_models_message(app: ScenarioExplorer) -> None:
+    good = app.scenario
+    app.snowpack.crust.value = True  # layer 1 is 120 kg/m3: too light for a crust
+    assert "too light for an ice crust" in app.message_text
+    assert app.scenario is good
+    app.snowpack.crust.value = False
+    assert app.message_text == ""
+    app.radar.dt.value = 300.0  # 0.3 ns cannot sample an 800 MHz Ricker pulse
+    assert "dt_s" in app.message_text and "Nyquist" in app.message_text
+    app.radar.dt.value = 100.0
+    assert app.message_text == ""
+
+
+def test_no_person_budget_shows_message(app: ScenarioExplorer) -> None:
+    app.person.remove.click()
+    assert app.scenario.persons == ()
+    app.lower.selected_index = 2
+    assert app.budget_view.budget is None
+    assert app.budget_view.message.value != ""
+    app.lower.selected_index = 0
+
+
+# --------------------------------------------------------------------------- views
+def test_pick_updates_trace_spectrum_and_antenna_marker(app: ScenarioExplorer) -> None:
+    app.radargram_view.pick_position(2.0)
+    tv = app.trace_view
+    assert "2.00 m" in tv.title.value
+    y = np.asarray(tv.line.y)
+    np.testing.assert_allclose(y, app.radargram.data[:, 40].astype(np.float32))
+    assert y.dtype == np.float32
+    names = list(tv.echo_marks.names)
+    assert names[0] == "surface" and "ground" in names
+    assert float(np.asarray(app.section.antenna.x)[0]) == pytest.approx(2.0)
+    app.radargram_view.pick_position(5.0)
+    assert any("ski tourer" in n for n in tv.echo_marks.names)
+    spec = np.asarray(app.spectrum_view.lines.y)
+    assert spec.shape[0] == 2 and np.max(spec) == pytest.approx(0.0, abs=1e-4)
+
+
+def test_ray_paths_reach_the_person(app: ScenarioExplorer) -> None:
+    app.radargram_view.pick_position(3.0)
+    app.section.show_rays.value = True
+    x = np.atleast_2d(np.asarray(app.section.rays.x))[0]
+    z = np.atleast_2d(np.asarray(app.section.rays.y))[0]
+    p = app.scenario.persons[0]
+    assert x[0] == pytest.approx(3.0) and z[0] == pytest.approx(-0.5)
+    assert x[-1] == pytest.approx(p.position_m, abs=2e-3)
+    assert z[-1] == pytest.approx(p.depth_m, abs=1e-6)
+    slopes = np.diff(x) / np.diff(z)
+    assert slopes[0] > slopes[1]  # bent towards the vertical entering the snow (Snell)
+    app.section.show_rays.value = False
+
+
+def test_detections_are_marked_on_demand(app: ScenarioExplorer) -> None:
+    assert np.asarray(app.radargram_view.detection_mark.x).size == 0
+    app.mark_detections.value = True
+    xs = np.asarray(app.radargram_view.detection_mark.x)
+    assert xs.size >= 1
+    assert np.min(np.abs(xs - 5.0)) < 0.5  # one of them over the buried person
+    app.mark_detections.value = False
+    assert np.asarray(app.radargram_view.detection_mark.x).size == 0
+
+
+def test_fdtd_check_reports_agreement_and_drives_the_progress_bar(
+        app: ScenarioExplorer) -> None:
+    seen: list[float] = []
+    app.trace_view.progress.observe(lambda c: seen.append(c["new"]), names="value")
+    ncc = app.run_fdtd()
+    assert ncc is not None and 0.99 < ncc <= 1.0
+    assert len(seen) > 10 and seen[-1] == 1.0
+    assert f"{ncc:.4f}" in app.trace_view.agreement.value
+    assert app.trace_view.reference.visible
+    app.person.depth.value = 0.8  # the column is unchanged: the check stays
+    assert app.trace_view.reference.visible
+    app.snowpack.temperature.value = -2.0  # the column changed: the check is cleared
+    assert not app.trace_view.reference.visible
+
+
+def test_normalised_correlation() -> None:
+    a = np.sin(np.linspace(0, 20, 400))
+    assert normalised_correlation(a, 3 * a) == pytest.approx(1.0)
+    assert normalised_correlation(a, -a) == pytest.approx(-1.0)
+    assert abs(normalised_correlation(a, np.cos(np.linspace(0, 20, 400)))) < 0.1
+
+
+def test_budget_and_materials_update_when_shown(app: ScenarioExplorer) -> None:
+    app.lower.selected_index = 2
+    text = app.budget_view.verdict.value
+    assert "0.6 m" in text
+    app.person.depth.value = 1.2
+    assert "1.2 m" in app.budget_view.verdict.value
+    app.lower.selected_index = 3
+    draws = app.materials.draws
+    app.scenario = Scenario.example("deep_wet_spring")
+    assert app.materials.draws == draws + 1
+    assert app.materials.frequency.value == 400.0
+    app.lower.selected_index = 0
+
+
+# --------------------------------------------------------------------------- scenario
+def test_assigning_a_scenario_updates_controls_and_views(app: ScenarioExplorer) -> None:
+    other = Scenario.example("two_burials")
+    app.scenario = other
+    assert app.scenario is other
+    assert app.person.choice.options[1][0] == "person 2"
+    assert app.person.depth.value == 0.9
+    assert app.radar.frequency.value == pytest.approx(600.0)
+    assert np.asarray(app.radargram_view.truth_mark.x).tolist() == [3.0, 7.5]
+    assert len(app.section.layers.fill_colors) == 3
+    app.person.choice.value = 1
+    assert app.person.depth.value == 1.4
+    app.person.depth.value = 1.5
+    assert [p.depth_m for p in app.scenario.persons] == [0.9, 1.5]
+
+
+def test_construct_with_scenario() -> None:
+    s = Scenario.example("debris_no_burial")
+    app = ScenarioExplorer(s)
+    assert app.scenario is s
+    assert app.person.depth.disabled
+    assert "Nobody is buried" in app.person.note.value
+
+
+# --------------------------------------------------------------------------- files
+def test_save_then_open_restores_the_scenario(app: ScenarioExplorer, tmp_path) -> None:
+    app.person.depth.value = 1.1
+    app.snowpack.layer_choice.value = 1
+    app.snowpack.density.value = 260.0
+    saved = app.scenario
+    path = tmp_path / "plan.json"
+    app.path.value = str(path)
+    app.save_button.click()
+    assert path.exists() and "saved" in app.file_status.value
+    app.scenario = Scenario.example("two_burials")
+    app.open_button.click()
+    assert app.scenario == saved
+    assert app.person.depth.value == 1.1
+
+
+def test_opening_a_bad_file_shows_a_message(app: ScenarioExplorer, tmp_path) -> None:
+    good = app.scenario
+    bad = tmp_path / "bad.json"
+    bad.write_text("{not json")
+    app.path.value = str(bad)
+    assert not app.open()
+    assert app.file_message.value != "" and app.scenario is good
+    app.path.value = str(tmp_path / "missing.json")
+    assert not app.open()
+    assert "No such file" in app.file_message.value and app.scenario is good
+
+
+def test_exports_parse_back(app: ScenarioExplorer, tmp_path) -> None:
+    app.path.value = str(tmp_path / "plan.json")
+    paths = {k: app.export(k) for k in ("csv", "npz", "png", "report")}
+    rg = app.radargram
+    table = np.loadtxt(paths["csv"], delimiter=",")
+    np.testing.assert_allclose(table[:, 0], rg.time_s * 1e9, rtol=1e-8)
+    np.testing.assert_allclose(table[:, 1:], rg.data, rtol=1e-8, atol=1e-12)
+    header = paths["csv"].read_text().splitlines()[:4]
+    assert header[0] == f"# {CAUTION_SHORT}"
+    with np.load(paths["npz"]) as z:
+        np.testing.assert_array_equal(z["data"], rg.data)
+        np.testing.assert_array_equal(z["raw_data"], app.raw_radargram.data)
+        np.testing.assert_array_equal(z["position_m"], rg.position_m)
+        assert Scenario.from_json(str(z["scenario_json"])) == app.scenario
+        assert float(z["truth_depth_m"][0]) == app.scenario.persons[0].depth_m
+    png = paths["png"].read_bytes()
+    assert png[:8] == b"\x89PNG\r\n\x1a\n"
+    from test_palette_png import decode_palette_png
+
+    pixels, _ = decode_palette_png(png)
+    assert pixels.shape == rg.data.shape
+    report = paths["report"].read_text()
+    assert CAUTION_TEXT in report
+    assert "data:image/png;base64," in report
+    assert "echo-to-noise ratio" in report and "likely visible" in report
+    assert "&quot;format&quot;" in report or "format" in report  # the scenario JSON
+    assert io.StringIO(report).readline().startswith("<!DOCTYPE html>")
+
+
+def test_person_panel_add_person(app: ScenarioExplorer) -> None:
+    app.person.add.click()
+    assert len(app.scenario.persons) == 2
+    assert isinstance(app.scenario.persons[1], Person)
+    assert Layer is not None
