@@ -24,3 +24,10 @@ def link_budget(scenario, target=None, **options):  # noqa: ANN001, ANN201 - thi
     from .budget import link_budget as _link_budget
 
     return _link_budget(scenario, target, **options)
+
+
+def detect(radargram, **options):  # noqa: ANN001, ANN201 - thin re-export
+    """Probable burials in a radargram: see :func:`snowprobe_widgets.detection.detect`."""
+    from .detection import detect as _detect
+
+    return _detect(radargram, **options)

@@ -260,3 +260,12 @@ def test_compare_bad_items() -> None:
         compare_with_truth([(1.0, 0.5)], ())  # type: ignore[list-item]
     with pytest.raises(ValueError, match=r"truth\[0\]"):
         compare_with_truth([], [(1.0, 0.5)])  # type: ignore[list-item]
+
+
+def test_top_level_names() -> None:
+    # the scripting API names of the issue: snowprobe_widgets.detect / .simulate
+    import snowprobe_widgets
+
+    rg = snowprobe_widgets.simulate(Scenario.example("shallow_dry_powder"))
+    found = snowprobe_widgets.detect(rg)
+    assert len(found) == 1 and abs(found[0].position_m - 5.0) <= 0.3

@@ -560,3 +560,35 @@ def test_range_errors_give_value_and_range():
         P.migrate(rg, 0.5e9)
     with pytest.raises(ValueError, match=r"high_hz = 6e\+09 Hz is outside .*5e\+09\) Hz"):
         P.bandpass(rg, 100e6, 6e9)
+
+
+@pytest.mark.parametrize("density", [150.0, 300.0, 450.0])
+@pytest.mark.parametrize("height_m", [0.05, 0.5])
+def test_velocity_analysis_recovers_material_model_velocity_on_simulated_data(
+        density: float, height_m: float) -> None:
+    # A small rock in dry snow, simulated with refracted rays (snowprobe_widgets.synthesis);
+    # the semblance scan (Taner & Koehler 1969) with the antenna height and the rock's
+    # radius must return c0 / n'(fc) of the dry-snow model (Looyenga 1965) within 3 %.
+    from snowprobe_widgets import simulate
+    from snowprobe_widgets.scene import (
+        Boulder,
+        Clutter,
+        Ground,
+        Layer,
+        Radar,
+        Scenario,
+        Snowpack,
+        Survey,
+    )
+
+    layer = Layer(3.0, density)
+    v_model = 299_792_458.0 / float(layer.material().refractive_index(800e6).real)
+    sc = Scenario(Snowpack((layer,)), Ground("soil", 0.2), (),
+                  (Boulder(3.0, 1.0, 0.1, permittivity=8.0, conductivity_s_m=0.0),),
+                  Radar("ricker", 800e6, dt_s=1e-10, time_window_s=40e-9,
+                        antenna_height_m=height_m),
+                  Survey(0.0, 6.0, 0.05), Clutter(), name="velocity check")
+    rg = simulate(sc, components=("objects", "noise"))
+    est = P.velocity_analysis(rg, 3.0, rg.truth[0].apex_time_s, radius_m=0.05,
+                              half_aperture_m=1.0, antenna_height_m=height_m)
+    assert est.velocity_m_s == pytest.approx(v_model, rel=0.03)
