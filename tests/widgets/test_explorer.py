@@ -429,3 +429,15 @@ def test_person_panel_add_person(app: ScenarioExplorer) -> None:
     assert len(app.scenario.persons) == 2
     assert isinstance(app.scenario.persons[1], Person)
     assert Layer is not None
+
+
+def test_updates_build_no_new_widgets(app: ScenarioExplorer) -> None:
+    from ipywidgets.widgets.widget import _instances
+
+    app.person.depth.value = 0.7
+    n = len(_instances)
+    for d in (0.8, 0.9, 1.0, 0.8):
+        app.person.depth.value = d
+    app.processing.switches["dewow"].value = False
+    app.radargram_view.pick_position(3.0)
+    assert len(_instances) == n
