@@ -119,7 +119,7 @@ def solve_rays(
             f += d * s * inv_root
             dfds += d * (nj * nj) * inv_root**3
         dfdu = h + dfds * (1.0 + u * u) ** -1.5
-        u = np.maximum(u - f / np.where(dfdu > 0, dfdu, 1.0), 0.0)
+        u = np.clip(u - f / np.where(dfdu > 0, dfdu, 1.0), 0.0, 1e6)  # 1e6: grazing
         if np.max(np.abs(f)) < 1e-9:  # 1 nm: far below any grid or sample spacing
             break
     c0 = 1.0 / np.sqrt(1.0 + u * u)
@@ -275,3 +275,42 @@ class AlongX:
             a = t.take(flat)
             out.append(a + (t.take(flat + 1) - a) * w)
         return out[0], out[1], out[2]
+
+
+def ray_polyline(
+    horizontal_m: float,
+    depth_m: float,
+    *,
+    antenna_height_m: float,
+    thickness_m: np.ndarray,
+    index: np.ndarray,
+) -> tuple[np.ndarray, np.ndarray]:
+    """Corners of the refracted ray from the antenna to a point (X, z), for drawing.
+
+    Returns
+    -------
+    run_m, depth_m : ndarray
+        Horizontal distance from the antenna and depth (negative above the surface: the
+        antenna at ``-antenna_height_m``) of the antenna, the surface crossing, every
+        interface crossing and the end point; Snell's law at each (:func:`solve_rays`).
+    """
+    thick = np.asarray(thickness_m, float)
+    n = np.asarray(index, float)
+    res = solve_rays(np.array(float(horizontal_m)), np.array(float(depth_m)),
+                     antenna_height_m=antenna_height_m, thickness_m=thick, index=n,
+                     alpha_np_m=np.zeros_like(n))
+    s = float(res.sin_theta0)
+    h = float(antenna_height_m)
+    run = [0.0, h * s / math.sqrt(max(1.0 - s * s, 1e-12))]
+    depth = [-h, 0.0]
+    z = 0.0
+    extended = thick.copy()
+    extended[-1] = max(extended[-1], float(depth_m))
+    for d, nj in zip(extended, n, strict=True):
+        step = min(d, float(depth_m) - z)
+        if step <= 0:
+            break
+        run.append(run[-1] + step * s / math.sqrt(max(nj * nj - s * s, 1e-12)))
+        z += step
+        depth.append(z)
+    return np.asarray(run), np.asarray(depth)

@@ -47,7 +47,7 @@ _MAX_DENSITY = RHO_ICE_KG_M3
 _MIN_DENSITY = 30.0
 #: Highest liquid water content accepted, percent by volume ("slush" starts near 15 %,
 #: Fierz et al. 2009, UNESCO-IHP Tech. Doc. Hydrol. 83, table of wetness classes).
-_MAX_LWC_PERCENT = 25.0
+_MAX_LWC_PERCENT = 12.0  # the wet-snow models' calibrated range (materials.wet_snow)
 #: Crust densities: melt-freeze crusts and ice lenses (common practice: 700-917 kg/m3).
 _CRUST_DENSITY = (700.0, _MAX_DENSITY)
 _MAX_CRUST_THICKNESS_M = 0.3
@@ -120,7 +120,8 @@ class Layer:
         *Dry* density (ice and air part, without the liquid water), kg/m3, in [30, 917];
         the wet-snow formulas take the dry density (REFERENCES note on density conventions).
     lwc_percent : float
-        Volumetric liquid water content, percent, in [0, 25]. Ice, water and air must fit:
+        Volumetric liquid water content, percent, in [0, 12] (the range the wet-snow models
+        are calibrated for, see materials.wet_snow). Ice, water and air must fit:
         ``density_kg_m3 / 917 + lwc_percent / 100 <= 1``.
     ice_crust : bool
         Mark the layer as a melt-freeze crust or ice lens: then its density must lie in

@@ -56,7 +56,7 @@ def layers(draw):
     if crust:
         return Layer(draw(_num(0.001, 0.3)), draw(_num(700.0, 917.0)), 0.0, True)
     density = draw(_num(30.0, 917.0))
-    max_lwc = min(25.0, 100.0 * (1.0 - density / 917.0))
+    max_lwc = min(12.0, 100.0 * (1.0 - density / 917.0))
     return Layer(draw(_num(0.01, 3.0)), density, draw(_num(0.0, max(0.0, max_lwc - 1e-6))))
 
 

@@ -17,7 +17,7 @@ import bqplot
 import ipywidgets as widgets
 import numpy as np
 
-from snowprobe_widgets.raypaths import solve_rays
+from snowprobe_widgets import raypaths
 from snowprobe_widgets.synthesis import column_optics
 from snowprobe_widgets.widgets._common import as_f32, message_line, show_message
 
@@ -91,34 +91,18 @@ def _stack(polys: list[tuple[np.ndarray, np.ndarray]]) -> tuple[np.ndarray, np.n
 def ray_polyline(scenario: Any, antenna_x_m: float, target: Any) -> tuple[np.ndarray, ...]:
     """Drawn path of the refracted ray from the antenna to a target's top, m.
 
-    The ray's launch angle comes from :func:`snowprobe_widgets.raypaths.solve_rays`; the
-    corners are placed where that ray crosses each interface (Snell's law with the real
-    indices :func:`~snowprobe_widgets.synthesis.column_optics` gives). Projected on the
-    line's vertical plane when the target is off the line.
+    The corners come from :func:`snowprobe_widgets.raypaths.ray_polyline`; this only lays
+    them along the survey line (projected on the line's vertical plane when the target is
+    off the line).
     """
     optics = column_optics(scenario)
-    h = scenario.radar.antenna_height_m
     dx = target.position_m - antenna_x_m
     horizontal = math.hypot(dx, target.offset_m)
-    res = solve_rays(np.array(horizontal), np.array(target.depth_m), antenna_height_m=h,
-                     thickness_m=optics.thickness_m, index=optics.index,
-                     alpha_np_m=optics.alpha_np_m)
-    s = float(res.sin_theta0)
+    run, depth = raypaths.ray_polyline(horizontal, target.depth_m,
+                                       antenna_height_m=scenario.radar.antenna_height_m,
+                                       thickness_m=optics.thickness_m, index=optics.index)
     direction = (dx / horizontal) if horizontal > 0 else 0.0
-    xs, zs = [antenna_x_m], [-h]
-    run = h * s / math.sqrt(max(1.0 - s * s, 1e-12))
-    x, z = antenna_x_m + direction * run, 0.0
-    xs.append(x)
-    zs.append(z)
-    for d, n in zip(optics.thickness_m, optics.index, strict=True):
-        step = min(d, target.depth_m - z)
-        if step <= 0:
-            break
-        x += direction * step * s / math.sqrt(max(n * n - s * s, 1e-12))
-        z += step
-        xs.append(x)
-        zs.append(z)
-    return np.asarray(xs), np.asarray(zs)
+    return antenna_x_m + direction * run, depth
 
 
 # --------------------------------------------------------------------------- section
