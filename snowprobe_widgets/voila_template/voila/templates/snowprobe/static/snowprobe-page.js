@@ -1,0 +1,162 @@
+/* snowprobe page watch: show a plain notice when the page loses its kernel.
+ *
+ * Runs before the dashboard's own scripts open their sockets. It wraps the browser's
+ * WebSocket so that every kernel-channel socket is watched:
+ * - a kernel status message "restarting" or "dead" (sent by the server when the kernel
+ *   process died) stops the page for good: the widgets lived in that process;
+ * - a closed socket shows a transient notice until a socket opens again.
+ * Messages arrive either as JSON text or in the binary "v1" kernel-websocket framing
+ * (count of offsets, offsets, then channel, header, parent header, metadata, content).
+ */
+(function () {
+  "use strict";
+  var NativeSocket = window.WebSocket;
+  var KERNEL_SOCKET = /\/api\/kernels\/[^/]+\/channels/;
+  var stopped = false;
+  var openSockets = 0;
+  var leaving = false;
+  var decoder = typeof TextDecoder === "function" ? new TextDecoder() : null;
+
+  function notice() {
+    return document.getElementById("sp-notice");
+  }
+
+  function show(text, transient) {
+    var box = notice();
+    if (!box) {
+      return;
+    }
+    box.querySelector(".sp-notice-text").textContent = text;
+    box.classList.toggle("sp-notice-transient", !!transient);
+    box.hidden = false;
+  }
+
+  function stopPage() {
+    if (stopped) {
+      return;
+    }
+    stopped = true;
+    document.body.classList.add("sp-stopped");
+    document.body.setAttribute("data-sp-kernel", "stopped");
+    show(
+      "This dashboard stopped: the calculation behind it (its kernel) ended, so the " +
+        "controls no longer respond. Reload the page to start a fresh session.",
+      false
+    );
+  }
+
+  function readV1(buffer) {
+    var view = new DataView(buffer);
+    var count = Number(view.getBigUint64(0, true));
+    var offsets = [];
+    for (var i = 0; i < count; i++) {
+      offsets.push(Number(view.getBigUint64(8 * (i + 1), true)));
+    }
+    function part(k) {
+      return decoder.decode(new Uint8Array(buffer, offsets[k], offsets[k + 1] - offsets[k]));
+    }
+    return {
+      channel: part(0),
+      header: JSON.parse(part(1)),
+      content: JSON.parse(part(4))
+    };
+  }
+
+  function inspect(event) {
+    var msg = null;
+    try {
+      if (typeof event.data === "string") {
+        msg = JSON.parse(event.data);
+      } else if (event.data instanceof ArrayBuffer && decoder) {
+        msg = readV1(event.data);
+      }
+    } catch (err) {
+      return;
+    }
+    if (
+      msg &&
+      msg.channel === "iopub" &&
+      msg.header &&
+      msg.header.msg_type === "status" &&
+      msg.content &&
+      (msg.content.execution_state === "restarting" || msg.content.execution_state === "dead")
+    ) {
+      stopPage();
+    }
+  }
+
+  function watch(socket) {
+    var opened = false;
+    socket.addEventListener("open", function () {
+      opened = true;
+      openSockets += 1;
+      document.body.setAttribute("data-sp-kernel", stopped ? "stopped" : "connected");
+      var box = notice();
+      if (box && !stopped) {
+        box.hidden = true;
+      }
+    });
+    socket.addEventListener("message", inspect);
+    socket.addEventListener("close", function () {
+      if (opened) {
+        openSockets -= 1;
+        opened = false;
+      }
+      if (stopped || openSockets > 0 || leaving) {
+        return;
+      }
+      document.body.setAttribute("data-sp-kernel", "lost");
+      show(
+        "The connection to the snowprobe server was lost: the controls do not respond " +
+          "until it comes back. If this notice stays, the server was stopped or this " +
+          "session ended; reload the page.",
+        true
+      );
+    });
+  }
+
+  function WatchedSocket(url, protocols) {
+    var socket =
+      protocols === undefined ? new NativeSocket(url) : new NativeSocket(url, protocols);
+    if (KERNEL_SOCKET.test(String(url))) {
+      watch(socket);
+    }
+    return socket;
+  }
+  WatchedSocket.prototype = NativeSocket.prototype;
+  ["CONNECTING", "OPEN", "CLOSING", "CLOSED"].forEach(function (name) {
+    Object.defineProperty(WatchedSocket, name, { value: NativeSocket[name] });
+  });
+  window.WebSocket = WatchedSocket;
+  window.addEventListener("beforeunload", function () {
+    leaving = true;
+  });
+
+  window.spReload = function () {
+    window.location.reload();
+  };
+
+  // Voila calls these while it runs the notebook and when the outputs are complete.
+  window.voila_heartbeat = function () {};
+  window.voila_process = function (cellIndex, cellCount) {
+    var text = document.getElementById("sp-loading-text");
+    if (text) {
+      text.textContent = "Preparing the dashboard: step " + cellIndex + " of " + cellCount + ".";
+    }
+  };
+  window.voila_finish = function () {
+    if (!window.themeLoaded) {
+      window.cellLoaded = true;
+      return;
+    }
+    var loading = document.getElementById("sp-loading");
+    if (loading) {
+      loading.parentNode.removeChild(loading);
+    }
+    var cells = document.getElementById("rendered_cells");
+    if (cells) {
+      cells.style.display = "";
+    }
+    document.body.setAttribute("data-sp-ready", "true");
+  };
+})();
