@@ -211,8 +211,8 @@ class ScenarioExplorer(widgets.VBox):
         self.export_report = widgets.Button(description="design report (HTML)")
         self.file_message = message_line()
         self.file_status = widgets.HTML()
-        self.open_button.on_click(lambda _: self.open())
-        self.save_button.on_click(lambda _: self.save())
+        self.open_button.on_click(lambda _: self.open_file())
+        self.save_button.on_click(lambda _: self.save_file())
         self.demo_button.on_click(lambda _: self._load_demo())
         self.export_csv.on_click(lambda _: self._export("csv"))
         self.export_npz.on_click(lambda _: self._export("npz"))
@@ -272,7 +272,7 @@ class ScenarioExplorer(widgets.VBox):
         """The section on screen (processed or raw, as chosen)."""
         return self._shown
 
-    def save(self, path: str | None = None) -> pathlib.Path | None:
+    def save_file(self, path: str | None = None) -> pathlib.Path | None:
         """Save the scenario on screen to ``path`` (default: the path field)."""
         target = pathlib.Path(path or self.path.value).expanduser()
         ok = guarded(self.file_message, lambda: self._guard_io(
@@ -282,7 +282,7 @@ class ScenarioExplorer(widgets.VBox):
             return target
         return None
 
-    def open(self, path: str | None = None) -> bool:
+    def open_file(self, path: str | None = None) -> bool:
         """Open a scenario file (default: the path field); True on success."""
         target = pathlib.Path(path or self.path.value).expanduser()
         loaded: list[Scenario] = []

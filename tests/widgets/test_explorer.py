@@ -388,10 +388,10 @@ def test_opening_a_bad_file_shows_a_message(app: ScenarioExplorer, tmp_path) -> 
     bad = tmp_path / "bad.json"
     bad.write_text("{not json")
     app.path.value = str(bad)
-    assert not app.open()
+    assert not app.open_file()
     assert app.file_message.value != "" and app.scenario is good
     app.path.value = str(tmp_path / "missing.json")
-    assert not app.open()
+    assert not app.open_file()
     assert "No such file" in app.file_message.value and app.scenario is good
 
 
@@ -441,3 +441,37 @@ def test_updates_build_no_new_widgets(app: ScenarioExplorer) -> None:
     app.processing.switches["dewow"].value = False
     app.radargram_view.pick_position(3.0)
     assert len(_instances) == n
+
+
+def _closed_widgets(root) -> list[str]:
+    import ipywidgets
+
+    seen: set[int] = set()
+    bad: list[str] = []
+
+    def walk(w, path: str) -> None:
+        if id(w) in seen:
+            return
+        seen.add(id(w))
+        if w.comm is None:
+            bad.append(f"{path} ({type(w).__name__})")
+        for name in w.keys:
+            value = getattr(w, name, None)
+            for i, x in enumerate(value if isinstance(value, (list, tuple)) else [value]):
+                if isinstance(x, ipywidgets.Widget):
+                    walk(x, f"{path}.{name}[{i}]")
+
+    walk(root, "app")
+    return bad
+
+
+def test_every_widget_in_the_apps_is_open() -> None:
+    # a closed model anywhere in the tree shows "Error displaying widget: model not found"
+    # in the browser (seen when a method of the app shadowed ipywidgets' Widget.open)
+    from snowprobe_widgets.widgets import MaterialsExplorer
+
+    app = ScenarioExplorer()
+    assert _closed_widgets(app) == []
+    app.scenario = Scenario.example("two_burials")
+    assert _closed_widgets(app) == []
+    assert _closed_widgets(MaterialsExplorer()) == []
