@@ -184,9 +184,16 @@ class ScenarioExplorer(widgets.VBox):
         self.spectrum_view = SpectrumView()
         self.budget_view = BudgetView()
         self.materials = MaterialsExplorer()
+        # plots in a hidden tab have no size and bqplot logs errors drawing them, so each
+        # tab gets its view the first time it is shown
+        self._lower_views = [self.trace_view, self.spectrum_view, self.budget_view,
+                             self.materials]
+        self._lower_slots = [widgets.VBox([self.trace_view])] + [widgets.VBox()
+                                                                 for _ in range(3)]
         self.lower = widgets.Tab(
-            children=[self.trace_view, self.spectrum_view, self.budget_view, self.materials],
+            children=self._lower_slots,
             titles=["Trace", "Spectrum", "Link budget", "Materials lab"])
+        self.lower.observe(lambda _: self._fill_tab(), names="selected_index")
         self.show_processed.observe(lambda _: self._show_section(), names="value")
         self.mark_detections.observe(lambda _: self._update_detections(), names="value")
         self.detection_threshold.observe(lambda _: self._update_detections(), names="value")
@@ -326,6 +333,11 @@ class ScenarioExplorer(widgets.VBox):
         self.status.value = (f"<small>updates={self.updates} | simulated: column "
                              f"{runs['column']}x, objects {runs['objects']}x, noise "
                              f"{runs['noise']}x</small>")
+
+    def _fill_tab(self) -> None:
+        i = self.lower.selected_index
+        if i is not None and not self._lower_slots[i].children:
+            self._lower_slots[i].children = [self._lower_views[i]]
 
     def _process(self, pick_m: float | None = None) -> None:
         raw = self._raw
