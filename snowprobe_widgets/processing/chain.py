@@ -117,7 +117,7 @@ def _default_steps(fc: float) -> tuple[ProcessingStep, ...]:
         ProcessingStep("time_zero", (("target_time_s", 0.0), ("threshold", 0.5)),
                        enabled=False),
         ProcessingStep("dewow", (("window_s", 4.0 / fc),)),
-        ProcessingStep("background_removal", (("method", "mean"),)),
+        ProcessingStep("background_removal", (("method", "median"),)),
         ProcessingStep("gain", (("kind", "spreading"), ("power", 1.0),
                                 ("max_gain_db", 40.0))),
         ProcessingStep("bandpass", (("low_hz", 0.25 * fc), ("high_hz", 2.5 * fc),
@@ -157,7 +157,8 @@ class ProcessingChain:
         """A starting chain for simulated radargrams of an antenna at ``center_frequency_hz``.
 
         time-zero (disabled; enable it when the antenna is held above the snow), dewow over
-        four periods, mean background removal, spreading gain ``t**1`` capped at 40 dB and a
+        four periods, median background removal (the mean would print a strong hyperbola's
+        apex as a band across the whole section), spreading gain ``t**1`` capped at 40 dB and a
         band-pass from fc/4 to 2.5 fc (order 4). The choices are common practice, not
         taken from a source; the band needs a sampling interval below 1 / (5 fc).
         """
