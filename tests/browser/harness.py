@@ -39,7 +39,7 @@ CHROMIUM_ARGS: list[str] = [
 
 #: JavaScript condition: the template showed the outputs and a status line reports a draw.
 READY_JS = """(statusSelector) => {
-  if (document.body.getAttribute('data-sp-ready') !== 'true') return false;
+  if (!document.body || document.body.getAttribute('data-sp-ready') !== 'true') return false;
   const status = document.querySelector(statusSelector);
   if (!status) return false;
   const m = /draws=(\\d+)/.exec(status.textContent);
@@ -242,3 +242,59 @@ def draws(page: Any, selector: str) -> int:
     """The ``draws=N`` counter of a status line."""
     match = re.search(r"draws=(\d+)", page.locator(selector).first.text_content() or "")
     return int(match.group(1)) if match else -1
+
+
+def open_concurrently(base_url: str, name: str, count: int, timeout_s: float,
+                      while_open: Callable[[list[str]], Any] | None = None
+                      ) -> tuple[list[float], list[str], Any]:
+    """Open ``count`` sessions of a dashboard at the same moment, each in its own context.
+
+    Runs Playwright's asyncio API in a worker thread (the sync API cannot start several
+    navigations at once). Returns the seconds to first render of each session, their kernel
+    ids, and what ``while_open(kernel_ids)`` returned while all pages were still open. The
+    pages are closed before returning, as visitors leaving would.
+    """
+    import asyncio
+
+    from playwright.async_api import async_playwright
+
+    async def one(browser: Any) -> tuple[float, str, Any]:
+        context = await browser.new_context(viewport={"width": 1500, "height": 1100})
+        page = await context.new_page()
+        start = time.perf_counter()
+        await page.goto(dashboard_url(base_url, name), wait_until="commit",
+                        timeout=timeout_s * 1000)
+        await page.wait_for_function(READY_JS, arg=STATUS_SELECTOR[name],
+                                     timeout=timeout_s * 1000, polling=100)
+        seconds = time.perf_counter() - start
+        text = await page.locator("#jupyter-config-data").first.text_content()
+        return seconds, str(json.loads(text)["kernelId"]), context
+
+    async def run() -> tuple[list[float], list[str], Any]:
+        async with async_playwright() as playwright:
+            browser = await playwright.chromium.launch(executable_path=str(CHROMIUM),
+                                                       args=CHROMIUM_ARGS)
+            try:
+                results = await asyncio.gather(*(one(browser) for _ in range(count)))
+                ids = [kernel for _s, kernel, _c in results]
+                extra = while_open(ids) if while_open is not None else None
+                for _s, _k, context in results:
+                    await context.close()
+                return [s for s, _k, _c in results], ids, extra
+            finally:
+                await browser.close()
+
+    box: dict[str, Any] = {}
+
+    def worker() -> None:
+        try:
+            box["result"] = asyncio.run(run())
+        except BaseException as exc:  # handed to the caller's thread
+            box["error"] = exc
+
+    thread = threading.Thread(target=worker)
+    thread.start()
+    thread.join()
+    if "error" in box:
+        raise box["error"]
+    return box["result"]

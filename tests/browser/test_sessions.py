@@ -1,0 +1,96 @@
+"""Many visitors, leaving visitors and a dying kernel, against the real launcher.
+
+The server here ends idle sessions after 12 s (``--idle-minutes 0.2``) so that culling can be
+watched within the test; it allows 8 sessions at once.
+"""
+
+from __future__ import annotations
+
+import signal
+import time
+
+import pytest
+from harness import Launcher, open_concurrently, open_dashboard, wait_until
+
+IDLE_MINUTES = 0.2
+#: The launcher checks for idle kernels every idle/4 seconds (at least 1 s).
+CULL_INTERVAL_S = max(1, round(IDLE_MINUTES * 60) // 4)
+#: Slack for a loaded CI machine on top of the idle time and one check interval.
+CULL_SLACK_S = 20.0
+#: Hard limit per session when five arrive together (the goal is under 15 s).
+CROWD_LIMIT_S = 120.0
+
+
+@pytest.fixture(scope="module")
+def server(tmp_path_factory, browser):
+    launcher = Launcher(args=["--idle-minutes", str(IDLE_MINUTES), "--max-sessions", "8"],
+                        workdir=tmp_path_factory.mktemp("serve-sessions"))
+    try:
+        launcher.wait_ready()
+        yield launcher
+    finally:
+        launcher.stop()
+
+
+@pytest.fixture(scope="module")
+def crowd(server):
+    """Five sessions of the design dashboard opened at the same moment, then closed."""
+
+    def memory(kernel_ids):
+        processes = server.kernel_processes()
+        return {k: processes[k].memory_info().rss / 2**20 for k in kernel_ids if k in processes}
+
+    seconds, kernel_ids, rss_mb = open_concurrently(
+        server.base_url, "design", 5, CROWD_LIMIT_S, while_open=memory)
+    closed_at = time.monotonic()
+    print("[browser] five at once, first render (s):", [round(s, 1) for s in seconds])
+    print("[browser] five at once, kernel resident memory (MB):",
+          [round(v) for v in rss_mb.values()])
+    return {"seconds": seconds, "kernel_ids": kernel_ids, "rss_mb": rss_mb,
+            "closed_at": closed_at}
+
+
+def test_five_concurrent_sessions_each_render(crowd, record_property):
+    record_property("first_render_s", [round(s, 2) for s in crowd["seconds"]])
+    record_property("kernel_rss_mb", [round(v) for v in crowd["rss_mb"].values()])
+    assert len(crowd["seconds"]) == 5
+    assert max(crowd["seconds"]) < CROWD_LIMIT_S
+    assert len(set(crowd["kernel_ids"])) == 5  # one kernel per visitor
+    assert len(crowd["rss_mb"]) == 5  # each kernel process was found and measured
+
+
+def test_closed_sessions_are_culled_within_the_idle_time(crowd, server):
+    deadline_s = IDLE_MINUTES * 60 + CULL_INTERVAL_S + CULL_SLACK_S
+    ids = crowd["kernel_ids"]
+    wait_until(lambda: all(server.kernel_status(k) == 404 for k in ids),
+               deadline_s - (time.monotonic() - crowd["closed_at"]),
+               "every closed session's kernel ended", poll_s=0.5)
+    culled_after_s = time.monotonic() - crowd["closed_at"]
+    print(f"[browser] closed sessions culled {culled_after_s:.1f} s after the pages closed")
+    wait_until(lambda: not set(ids) & set(server.kernel_processes()), 15,
+               "kernel processes gone")
+    # the idle time is honoured, not cut short
+    assert culled_after_s > IDLE_MINUTES * 60 * 0.5
+
+
+def test_killed_kernel_leaves_a_clear_message(server, browser):
+    context = browser.new_context(viewport={"width": 1300, "height": 900})
+    try:
+        page, record, _seconds = open_dashboard(context, server.base_url, "materials", 60)
+        from harness import kernel_id_of
+
+        kernel_id = kernel_id_of(page)
+        process = wait_until(lambda: server.kernel_processes().get(kernel_id), 10,
+                             "the page's kernel process")
+        assert not page.locator("#sp-notice").is_visible()
+        process.send_signal(signal.SIGKILL)
+        notice = page.locator("#sp-notice")
+        notice.wait_for(state="visible", timeout=30_000)
+        assert "stopped" in notice.inner_text()
+        assert "Reload" in notice.inner_text()
+        assert page.locator("body").get_attribute("data-sp-kernel") == "stopped"
+        assert page.locator("#rendered_cells").evaluate(
+            "el => getComputedStyle(el).pointerEvents") == "none"
+        assert record.page_errors == []
+    finally:
+        context.close()
