@@ -91,10 +91,18 @@ def wait_until(condition: Callable[[], Any], timeout_s: float, what: str,
         time.sleep(poll_s)
 
 
+class _NoRedirect(urllib.request.HTTPRedirectHandler):
+    def redirect_request(self, *args: Any, **kwargs: Any) -> None:
+        return None
+
+
+_OPENER = urllib.request.build_opener(_NoRedirect)
+
+
 def http_status(url: str, timeout_s: float = 5.0) -> int:
-    """HTTP status of a GET (0 when nothing answers)."""
+    """HTTP status of a GET, redirects not followed (0 when nothing answers)."""
     try:
-        with urllib.request.urlopen(url, timeout=timeout_s) as reply:
+        with _OPENER.open(url, timeout=timeout_s) as reply:
             return int(reply.status)
     except urllib.error.HTTPError as exc:
         return int(exc.code)

@@ -1,0 +1,232 @@
+"""The ``snowprobe`` command: listing, version, one-line errors, packaging, and serving
+(loopback, token for remote visitors, bounded sessions, clean stop on Ctrl-C) over plain HTTP.
+"""
+
+from __future__ import annotations
+
+import re
+import socket
+import subprocess
+import sys
+import urllib.error
+import urllib.request
+from pathlib import Path
+
+import pytest
+
+import snowprobe_widgets
+from snowprobe_widgets import launcher
+from snowprobe_widgets.cautions import CAUTION_TEXT
+
+ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT / "tests" / "browser"))
+
+from harness import Launcher, http_status, launcher_command, wait_until  # noqa: E402
+
+
+def run(*args: str, timeout: float = 60) -> subprocess.CompletedProcess:
+    return subprocess.run([*launcher_command(), *args], capture_output=True, text=True,
+                          timeout=timeout)
+
+
+# ------------------------------------------------------------------ command line, no server
+
+
+def test_console_script_is_installed():
+    from importlib.metadata import entry_points
+
+    names = {ep.name: ep.value for ep in entry_points(group="console_scripts")}
+    assert names.get("snowprobe") == "snowprobe_widgets.launcher:main"
+
+
+def test_version():
+    done = run("--version")
+    assert done.returncode == 0
+    assert done.stdout.strip() == f"snowprobe {snowprobe_widgets.__version__}"
+
+
+def test_list_names_exactly_the_packaged_dashboards():
+    done = run("list")
+    assert done.returncode == 0
+    names = [line.split()[0] for line in done.stdout.splitlines()]
+    shipped = sorted(p.stem for p in (ROOT / "dashboards").glob("*.ipynb"))
+    assert sorted(names) == shipped
+    assert names[:2] == ["design", "materials"]  # listing order from the notebooks' metadata
+
+
+@pytest.mark.parametrize("args, says", [
+    (["serve", "avalanche-dog"], "no dashboard named 'avalanche-dog'"),
+    (["serve", "--port", "70000"], "port 70000 is outside [0, 65535]"),
+    (["serve", "--port", "eighty"], "'eighty' is not a whole number"),
+    (["serve", "--max-sessions", "0"], "--max-sessions 0 is outside [1, 64]"),
+    (["serve", "--idle-minutes", "-3"], "outside [0.05, 1440] minutes"),
+    (["serve", "--colour", "red"], "unrecognized arguments: --colour"),
+    (["melt"], "invalid choice: 'melt'"),
+    ([], "usage"),
+])
+def test_bad_input_gives_one_line_and_status_2(args, says):
+    done = run(*args)
+    assert done.returncode == launcher.EXIT_USAGE
+    if args:
+        lines = done.stderr.strip().splitlines()
+        assert len(lines) == 1, done.stderr
+        assert lines[0].startswith("snowprobe: ")
+        assert says in lines[0]
+    else:
+        assert says in done.stdout
+
+
+def test_port_in_use_gives_one_line_and_status_2():
+    with socket.socket() as taken:
+        taken.bind(("127.0.0.1", 0))
+        taken.listen()
+        port = taken.getsockname()[1]
+        done = run("serve", "--port", str(port), "--no-browser")
+    assert done.returncode == launcher.EXIT_USAGE
+    lines = done.stderr.strip().splitlines()
+    assert lines == [f"snowprobe: port {port} on 127.0.0.1 is already in use; "
+                     "choose another with --port"]
+
+
+@pytest.mark.parametrize("host, loopback", [
+    ("127.0.0.1", True), ("127.8.0.3", True), ("::1", True), ("localhost", True),
+    ("0.0.0.0", False), ("192.168.1.20", False), ("::", False), ("hut-laptop", False),
+])
+def test_loopback_addresses(host, loopback):
+    assert launcher.is_loopback(host) is loopback
+
+
+# ------------------------------------------------------------------ packaging
+
+
+def test_every_subpackage_ships_in_the_wheel():
+    """pyproject lists packages by name (dashboards/ is mapped in): none may be forgotten."""
+    tomllib = pytest.importorskip("tomllib")
+    config = tomllib.loads((ROOT / "pyproject.toml").read_text(encoding="utf-8"))
+    listed = set(config["tool"]["setuptools"]["packages"])
+    found = {".".join(p.parent.relative_to(ROOT).parts)
+             for p in (ROOT / "snowprobe_widgets").rglob("__init__.py")}
+    assert found | {"snowprobe_widgets.dashboards"} == listed
+    assert config["tool"]["setuptools"]["package-dir"] == {
+        "snowprobe_widgets.dashboards": "dashboards"}
+    data = config["tool"]["setuptools"]["package-data"]
+    assert "voila_template/**/*" in data["snowprobe_widgets"]
+    assert "*.ipynb" in data["snowprobe_widgets.dashboards"]
+
+
+def test_dashboards_resolve_to_the_one_copy_in_dashboards():
+    assert launcher.dashboards_dir() == (ROOT / "dashboards").resolve()
+    boards = launcher.find_dashboards()
+    for board in boards.values():
+        assert board.title and board.summary
+
+
+def test_dashboard_notebooks_are_a_few_lines_that_display_an_app():
+    import json
+
+    apps = {"design": "ScenarioExplorer", "materials": "MaterialsExplorer"}
+    for name, app in apps.items():
+        nb = json.loads((ROOT / "dashboards" / f"{name}.ipynb").read_text(encoding="utf-8"))
+        code = [c for c in nb["cells"] if c["cell_type"] == "code"]
+        assert len(code) == 1
+        source = "".join(code[0]["source"])
+        assert f"from snowprobe_widgets.widgets import {app}" in source
+        # bound to a name: Voila runs cells without output history, so an unnamed app can be
+        # garbage-collected (its widgets closed) before the browser asks for it
+        assert re.search(rf"^app = {app}\(\)$", source, re.M)
+        assert source.strip().splitlines()[-1] == "app"
+        assert all(not c.get("outputs") for c in code)
+
+
+def test_template_references_nothing_beyond_the_server():
+    template = ROOT / "snowprobe_widgets" / "voila_template"
+    files = [p for p in template.rglob("*") if p.is_file()]
+    assert {p.name for p in files} >= {"index.html.j2", "conf.json", "page.html", "tree.html",
+                                       "error.html", "snowprobe.css", "snowprobe-page.js"}
+    for path in files:
+        text = path.read_text(encoding="utf-8")
+        assert not re.search(r"(https?:)?//[a-z0-9.-]+\.[a-z]{2,}/", text, re.I), path
+        assert "@import" not in text and "url(" not in text, path
+
+
+def test_page_config_hook_carries_the_cautions_and_the_list():
+    boards = list(launcher.find_dashboards().values())
+    config = launcher._page_config_hook(boards)({"baseUrl": "/"}, log=None)
+    assert config["snowprobe"]["caution"] == CAUTION_TEXT
+    assert [b["name"] for b in config["snowprobe"]["dashboards"]] == [b.name for b in boards]
+
+
+# ------------------------------------------------------------------ serving over plain HTTP
+
+
+def _get(url: str) -> tuple[int, str]:
+    """Status and body of a GET (a dashboard GET runs the whole notebook before it ends)."""
+    try:
+        with urllib.request.urlopen(url, timeout=120) as reply:
+            return reply.status, reply.read().decode("utf-8", "replace")
+    except urllib.error.HTTPError as exc:
+        return exc.code, exc.read().decode("utf-8", "replace")
+
+
+@pytest.fixture(scope="module")
+def remote_server(tmp_path_factory):
+    """All dashboards on every interface (so a token is required), one session at most."""
+    server = Launcher(args=["--host", "0.0.0.0", "--max-sessions", "1"],
+                      workdir=tmp_path_factory.mktemp("remote"))
+    try:
+        # the start page refuses visitors without the token: readiness is that refusal
+        wait_until(lambda: http_status(server.base_url) in (302, 403), 60,
+                   "server answering")
+        yield server
+    finally:
+        server.stop()
+
+
+def _token(server: Launcher) -> str:
+    urls = [re.search(r"\?token=([\w-]+)", line) for line in server.output]
+    tokens = [m.group(1) for m in urls if m]
+    assert len(tokens) == 1, server.log()  # printed once
+    return tokens[0]
+
+
+def test_remote_serving_prints_the_token_once_and_warns(remote_server):
+    token = _token(remote_server)
+    assert len(token) >= 24
+    log = remote_server.log()
+    assert log.count(token) == 1
+    assert "WARNING" in log and "gets a Python kernel on this computer" in log
+
+
+def test_remote_serving_refuses_visitors_without_the_token(remote_server):
+    token = _token(remote_server)
+    assert http_status(remote_server.base_url) in (302, 403)
+    assert http_status(f"{remote_server.base_url}voila/render/materials.ipynb") in (302, 403)
+    assert http_status(f"{remote_server.base_url}?token=wrong{token}") in (302, 403)
+    status, body = _get(f"{remote_server.base_url}?token={token}")
+    assert status == 200 and "data-sp-dashboard" in body
+
+
+def test_sessions_beyond_the_limit_get_a_busy_page(remote_server):
+    token = _token(remote_server)
+    url = f"{remote_server.base_url}voila/render/materials.ipynb?token={token}"
+    status, first = _get(url)  # starts the one allowed kernel (it stays until culled)
+    assert status == 200 and "jupyter-config-data" in first
+    status, second = _get(url)
+    assert status == 503
+    assert "All dashboard sessions are in use" in second
+    assert "limit" in second and "reload" in second.lower()
+    assert "Traceback" not in second
+
+
+def test_ctrl_c_stops_the_server_and_its_kernels(tmp_path):
+    server = Launcher(args=["materials"], workdir=tmp_path)
+    # single-dashboard mode: the root is the dashboard, so this GET starts a kernel
+    wait_until(lambda: http_status(server.base_url) == 200, 90, "dashboard served")
+    assert f"open http://127.0.0.1:{server.port}/" in server.log()
+    assert "token" not in server.log()  # loopback: no token, no warning
+    kernels = wait_until(server.kernel_processes, 30, "a kernel running")
+    assert server.stop(timeout_s=30) == 0
+    for process in kernels.values():
+        process.wait(timeout=10)  # the kernels end with the server
+    assert "stopping the server" in server.log()
+    assert http_status(server.base_url) == 0
