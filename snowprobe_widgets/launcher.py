@@ -274,7 +274,7 @@ def _voila_config(options: ServeOptions, boards: Sequence[Dashboard], token: str
     config.Voila.port_retries = 0
     config.Voila.open_browser = False
     config.Voila.config_file_paths = []  # a stray voila.json in the cwd changes nothing
-    config.Voila.log_level = "INFO" if options.verbose else "WARN"
+    config.Voila.log_level = "INFO" if options.verbose else "ERROR"
     config.Voila.tornado_settings = {
         "headers": {"Content-Security-Policy": PAGE_POLICY},
         "ws_ping_timeout": 30000,  # tornado refuses a timeout longer than the interval

@@ -1,0 +1,183 @@
+"""Design dashboard in a real browser: slider-to-picture latency, first render, kernel memory.
+
+Run by hand (not collected by pytest)::
+
+    python tests/benchmarks/bench_dashboard.py [--moves 30] [--renders 3]
+
+Starts the real ``snowprobe`` launcher on a free loopback port and Debian's headless Chromium.
+
+* Slider to picture: a key press on the person-depth slider (dispatched inside the page, so
+  no automation round trip is counted) until the radargram's status says ``draws=N+1``, the
+  picture's image has been replaced, and two animation frames have passed (the new picture is
+  painted). One move at a time. Baseline, same run: the same move made in Python on a
+  ``ScenarioExplorer`` in this process (model + PNG, no browser, no kernel messages).
+* First render: navigation start until the page shows the outputs with a drawn radargram;
+  each visit starts a fresh kernel. Also with ``--warm`` (a session made ready in advance).
+* Memory: resident set of the design kernel after the moves, and of the server.
+
+Goals: median latency < 100 ms, 95th percentile < 200 ms, first render < 5 s, kernel < 300 MB.
+"""
+
+from __future__ import annotations
+
+import argparse
+import statistics
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+import numpy as np
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "browser"))
+
+from harness import (  # noqa: E402
+    CHROMIUM,
+    CHROMIUM_ARGS,
+    Launcher,
+    chromium_missing_reason,
+    kernel_id_of,
+    open_dashboard,
+    wait_until,
+)
+
+MOVES_JS = """async (moves) => {
+  const status = document.querySelector('.sp-radargram-status');
+  const figure = status.closest('.widget-vbox');
+  const handle = document.querySelector('.sp-person-depth .noUi-handle');
+  const count = () => Number(/draws=(\\d+)/.exec(status.textContent)[1]);
+  const href = () => figure.querySelector('svg image').getAttribute('href');
+  const frame = () => new Promise(r => requestAnimationFrame(() => r()));
+  const out = [];
+  for (let i = 0; i < moves; i++) {
+    const n0 = count(), h0 = href();
+    const done = new Promise(resolve => {
+      const check = () => {
+        if (count() > n0 && href() !== h0) { observer.disconnect(); resolve(); return true; }
+        return false;
+      };
+      const observer = new MutationObserver(check);
+      observer.observe(figure, {subtree: true, attributes: true, childList: true,
+                                characterData: true});
+      check();
+    });
+    const t0 = performance.now();
+    handle.dispatchEvent(new KeyboardEvent('keydown', {
+      key: i % 2 === 0 ? 'ArrowRight' : 'ArrowLeft', bubbles: true}));
+    await done;
+    await frame(); await frame();
+    out.push(performance.now() - t0);
+  }
+  return out;
+}"""
+
+
+def python_baseline_ms(moves: int) -> list[float]:
+    """The same depth moves on a ScenarioExplorer in this process (no browser, no kernel)."""
+    from snowprobe_widgets.widgets import ScenarioExplorer
+
+    app = ScenarioExplorer()
+    slider = app.person.depth
+    start_value = slider.value
+    times = []
+    for i in range(moves):
+        before = app.radargram_view.draws
+        t0 = time.perf_counter()
+        slider.value = start_value + (slider.step if i % 2 == 0 else 0.0)
+        times.append((time.perf_counter() - t0) * 1e3)
+        assert app.radargram_view.draws > before, "the move did not redraw"
+    return times
+
+
+def first_renders(browser, launcher: Launcher, count: int) -> list[float]:
+    seconds = []
+    for _ in range(count):
+        context = browser.new_context(viewport={"width": 1500, "height": 1100})
+        _page, _record, s = open_dashboard(context, launcher.base_url, "design", 120)
+        seconds.append(s)
+        context.close()
+    return seconds
+
+
+def wait_pool_ready(launcher: Launcher, kernels: int, timeout_s: float = 120) -> None:
+    """Wait until ``kernels`` kernels run and are idle (the warm pool has run the notebooks)."""
+    import json
+    import urllib.request
+
+    def idle() -> bool:
+        ids = list(launcher.kernel_processes())
+        if len(ids) < kernels:
+            return False
+        for kernel_id in ids:
+            with urllib.request.urlopen(f"{launcher.base_url}api/kernels/{kernel_id}") as r:
+                if json.load(r)["execution_state"] != "idle":
+                    return False
+        return True
+
+    wait_until(idle, timeout_s, "warm sessions ready", poll_s=0.5)
+
+
+def percentile(values: list[float], q: float) -> float:
+    return float(np.percentile(np.asarray(values), q))
+
+
+def main() -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--moves", type=int, default=30)
+    parser.add_argument("--renders", type=int, default=3)
+    args = parser.parse_args()
+    reason = chromium_missing_reason()
+    if reason:
+        print(f"cannot run: {reason}")
+        return 1
+    from playwright.sync_api import sync_playwright
+
+    baseline = python_baseline_ms(args.moves)
+    workdir = Path(tempfile.mkdtemp(prefix="bench-dashboard-"))
+    with sync_playwright() as playwright:
+        browser = playwright.chromium.launch(executable_path=str(CHROMIUM), args=CHROMIUM_ARGS)
+        cold = Launcher(args=["--max-sessions", "16"], workdir=workdir)
+        try:
+            ready_s = cold.wait_ready()
+            renders = first_renders(browser, cold, args.renders)
+            context = browser.new_context(viewport={"width": 1500, "height": 1100})
+            page, record, _s = open_dashboard(context, cold.base_url, "design", 120)
+            page.evaluate(MOVES_JS, 3)  # warm-up moves, not counted
+            latencies = page.evaluate(MOVES_JS, args.moves)
+            kernel = cold.kernel_processes()[kernel_id_of(page)]
+            kernel_mb = kernel.memory_info().rss / 2**20
+            import psutil
+
+            server_mb = psutil.Process(cold.process.pid).memory_info().rss / 2**20
+            errors = record.console_errors + record.page_errors
+            context.close()
+        finally:
+            cold.stop()
+        warm = Launcher(args=["--warm"], workdir=workdir)
+        try:
+            warm.wait_ready()
+            wait_pool_ready(warm, kernels=2)
+            warm_render = first_renders(browser, warm, 1)[0]
+        finally:
+            warm.stop()
+        browser.close()
+
+    med, p95 = statistics.median(latencies), percentile(latencies, 95)
+    base_med = statistics.median(baseline)
+    print(f"design dashboard, {args.moves} slider moves, one at a time")
+    print(f"  slider to painted picture: median {med:.0f} ms, p95 {p95:.0f} ms, "
+          f"max {max(latencies):.0f} ms   (goal: median < 100, p95 < 200)")
+    print(f"  baseline, same move in Python (no browser): median {base_med:.1f} ms; "
+          f"browser/baseline ratio {med / base_med:.1f}x")
+    print(f"  server ready (start page answers) after {ready_s:.1f} s")
+    print(f"  first render, fresh kernel: {', '.join(f'{s:.2f}' for s in renders)} s "
+          f"(median {statistics.median(renders):.2f} s; goal < 5 s)")
+    print(f"  first render with --warm (session ready in advance): {warm_render:.2f} s")
+    print(f"  design kernel resident memory after the moves: {kernel_mb:.0f} MB (goal < 300); "
+          f"server {server_mb:.0f} MB")
+    print(f"  console errors during the run: {len(errors)}")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
