@@ -9,6 +9,7 @@ module only chooses the inputs and draws).
 from __future__ import annotations
 
 import html
+import math
 from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
@@ -102,6 +103,38 @@ def _sweep_points(x: np.ndarray, make: Callable[[float], mat.Material],
     return np.asarray(kept), {k: np.concatenate([r[k] for r in rows]) for k, _ in QUANTITIES}
 
 
+def _padded_range(lo: float, hi: float, *, log: bool) -> tuple[float, float]:
+    """Axis limits around [lo, hi]: a nearly constant curve is drawn flat in the middle of
+    a range of +-2 % (linear) or a factor 1.5 (log) instead of magnifying rounding noise."""
+    if log:
+        lo, hi = max(lo, 1e-30), max(hi, 1e-30)
+        if hi / lo < 1.5:
+            mid = math.sqrt(lo * hi)
+            return mid / 1.5, mid * 1.5
+        return lo / 1.1, hi * 1.1
+    span = hi - lo
+    mid = 0.5 * (lo + hi)
+    if span < 0.04 * abs(mid) or span == 0.0:
+        half = max(0.02 * abs(mid), 1e-12)
+        return mid - half, mid + half
+    low = lo - 0.05 * span
+    if lo >= 0.0:
+        low = max(low, 0.0)  # positive quantities keep a zero floor
+    return low, hi + 0.05 * span
+
+
+def _nice_ticks(lo: float, hi: float, n: int = 6) -> np.ndarray:
+    """About ``n`` round tick values (1, 2 or 5 times a power of ten apart) in [lo, hi]."""
+    span = hi - lo
+    if not span > 0:
+        return np.array([lo])
+    raw = span / max(n - 1, 1)
+    mag = 10.0 ** math.floor(math.log10(raw))
+    step = next(m * mag for m in (1, 2, 5, 10) if m * mag >= raw)
+    first = math.ceil(lo / step) * step
+    return np.arange(first, hi + 0.5 * step, step)
+
+
 class MaterialsExplorer(widgets.VBox):
     """Explore the dielectric models: curves against frequency, density or water content.
 
@@ -148,8 +181,10 @@ class MaterialsExplorer(widgets.VBox):
         self._lines: dict[str, bqplot.Lines] = {}
         self._rules: dict[str, bqplot.Lines] = {}
         self._x_axes: list[bqplot.Axis] = []
+        self._y_scales: dict[str, bqplot.Scale] = {}
         for key, label in QUANTITIES:
             y_scale = bqplot.LogScale() if key in _LOG_Y else bqplot.LinearScale()
+            self._y_scales[key] = y_scale
             scales = {"x": self._x_scale, "y": y_scale}
             line = bqplot.Lines(x=np.zeros(0, np.float32), y=np.zeros(0, np.float32),
                                 scales=scales, colors=list(_LINE_COLOURS), stroke_width=2,
@@ -158,12 +193,14 @@ class MaterialsExplorer(widgets.VBox):
                                 scales=scales, colors=["#888888"], line_style="dashed",
                                 stroke_width=1)
             x_axis = bqplot.Axis(scale=self._x_scale, label=_SWEEP_AXIS["frequency"],
-                                 grid_lines="none")
+                                 grid_lines="none", tick_format=".4g")
             self._x_axes.append(x_axis)
             y_axis = bqplot.Axis(scale=y_scale, side="left", label=label,
-                                 label_offset="45px", grid_lines="dashed", tick_format=".3g")
+                                 label_offset="45px", grid_lines="dashed", tick_format=".3g",
+                                 num_ticks=5)
             self.figures[key] = bqplot.Figure(
                 marks=[line, rule], axes=[x_axis, y_axis], legend_location="top-right",
+                padding_y=0.0,
                 fig_margin={"top": 15, "bottom": 45, "left": 65, "right": 15},
                 layout=widgets.Layout(width="420px", height="250px"))
             self._lines[key] = line
@@ -327,12 +364,20 @@ class MaterialsExplorer(widgets.VBox):
                 line.x = as_f32(xs)
                 line.y = as_f32(ys)
                 line.labels = [c.label for c in curves]
+            y_lo, y_hi = _padded_range(lo, hi, log=key in _LOG_Y)
+            scale = self._y_scales[key]
+            with scale.hold_sync():
+                scale.min, scale.max = y_lo, y_hi
+            line.display_legend = len(curves) > 1
             rule = self._rules[key]
             with rule.hold_sync():
                 rule.x = as_f32([point, point])
-                rule.y = as_f32([lo, hi] if hi > lo else [lo, lo * 1.01 + 1e-9])
+                rule.y = as_f32([y_lo, y_hi])
         self._x_scale.min, self._x_scale.max = (float(np.nanmin(xs)), float(np.nanmax(xs))) \
             if xs.size else (0.0, 1.0)
+        ticks = _nice_ticks(self._x_scale.min, self._x_scale.max)
+        for axis in self._x_axes:
+            axis.tick_values = as_f32(ticks)
         self.readout.value = readout
         self._draws += 1
         self.status.value = f"draws={self._draws} | {len(curves)} curve(s) across {sweep}"
