@@ -11,6 +11,8 @@ from typing import Any
 
 import ipywidgets as widgets
 import numpy as np
+from ipywidgets.widgets.widget_description import DescriptionStyle, DescriptionWidget
+from ipywidgets.widgets.widget_string import HTMLStyle
 
 from snowprobe_widgets.cautions import CAUTION_SHORT, CAUTION_TEXT
 
@@ -19,8 +21,31 @@ MESSAGE_CLASS: str = "sp-message"
 #: CSS class of the caution boxes.
 CAUTION_CLASS: str = "sp-caution"
 
-_DESCRIPTION_STYLE = {"description_width": "150px"}
-_SLIDER_LAYOUT = {"width": "380px"}
+_DESCRIPTION_WIDTH = "150px"
+_CONTROL_WIDTH = "380px"
+_SHARED: dict[str, widgets.Widget] = {}
+
+
+def shared(key: str, factory: Callable[[], widgets.Widget]) -> widgets.Widget:
+    """One style or layout model for all controls that look alike.
+
+    Every ipywidgets control otherwise brings its own Layout and Style models; an app of a
+    few hundred controls then sends hundreds of extra models to each browser on start-up.
+    """
+    w = _SHARED.get(key)
+    if w is None or w.comm is None:
+        w = factory()
+        _SHARED[key] = w
+    return w
+
+
+def _slider_style() -> widgets.SliderStyle:
+    return shared("slider_style", lambda: widgets.SliderStyle(
+        description_width=_DESCRIPTION_WIDTH))
+
+
+def _control_layout() -> widgets.Layout:
+    return shared("control_layout", lambda: widgets.Layout(width=_CONTROL_WIDTH))
 
 
 def float_slider(description: str, value: float, low: float, high: float, step: float, *,
@@ -34,8 +59,8 @@ def float_slider(description: str, value: float, low: float, high: float, step: 
     return widgets.FloatSlider(
         value=float(np.clip(value, low, high)), min=low, max=high, step=step,
         description=description, readout_format=readout_format,
-        continuous_update=not heavy, style=_DESCRIPTION_STYLE,
-        layout=widgets.Layout(**_SLIDER_LAYOUT), tooltip=tooltip)
+        continuous_update=not heavy, style=_slider_style(),
+        layout=_control_layout(), tooltip=tooltip)
 
 
 def log_slider(description: str, value: float, low: float, high: float, *,
@@ -44,8 +69,8 @@ def log_slider(description: str, value: float, low: float, high: float, *,
     return widgets.FloatLogSlider(
         value=float(np.clip(value, low, high)), base=10.0, min=float(np.log10(low)),
         max=float(np.log10(high)), step=0.01, description=description,
-        readout_format=readout_format, continuous_update=False, style=_DESCRIPTION_STYLE,
-        layout=widgets.Layout(**_SLIDER_LAYOUT), tooltip=tooltip)
+        readout_format=readout_format, continuous_update=False, style=_slider_style(),
+        layout=_control_layout(), tooltip=tooltip)
 
 
 def int_slider(description: str, value: int, low: int, high: int, step: int = 1, *,
@@ -53,19 +78,22 @@ def int_slider(description: str, value: int, low: int, high: int, step: int = 1,
     """An integer slider, released-only updates."""
     return widgets.IntSlider(
         value=int(np.clip(value, low, high)), min=low, max=high, step=step,
-        description=description, continuous_update=False, style=_DESCRIPTION_STYLE,
-        layout=widgets.Layout(**_SLIDER_LAYOUT), tooltip=tooltip)
+        description=description, continuous_update=False, style=_slider_style(),
+        layout=_control_layout(), tooltip=tooltip)
 
 
 def dropdown(description: str, options: Any, value: Any) -> widgets.Dropdown:
     """A dropdown with the shared description width."""
+    style = shared("dropdown_style", lambda: DescriptionStyle(
+        description_width=_DESCRIPTION_WIDTH))
     return widgets.Dropdown(options=options, value=value, description=description,
-                            style=_DESCRIPTION_STYLE, layout=widgets.Layout(width="380px"))
+                            style=style, layout=_control_layout())
 
 
 def message_line() -> widgets.HTML:
     """An initially empty line for plain-language refusals (class :data:`MESSAGE_CLASS`)."""
-    line = widgets.HTML(value="")
+    line = widgets.HTML(value="", style=shared("html_style", HTMLStyle),
+                        layout=shared("html_layout", widgets.Layout))
     line.add_class(MESSAGE_CLASS)
     return line
 
@@ -140,3 +168,73 @@ __all__ = [
     "section_title",
     "show_message",
 ]
+
+
+def share_plain_styles(root: widgets.Widget) -> int:
+    """Give every widget under ``root`` whose layout or style is still the default one
+    the shared default model, and close the models that frees. Returns how many closed.
+
+    Run once after an app is built: fewer models make the first page load lighter (every
+    open model is sent to each browser that opens the dashboard).
+    """
+    seen: set[int] = set()
+    holders: list[widgets.Widget] = []
+    uses: dict[int, int] = {}
+
+    def walk(w: widgets.Widget) -> None:
+        if id(w) in seen:
+            return
+        seen.add(id(w))
+        holders.append(w)
+        for name in w.keys:
+            value = getattr(w, name, None)
+            for x in value if isinstance(value, (list, tuple)) else [value]:
+                if isinstance(x, widgets.Widget):
+                    uses[id(x)] = uses.get(id(x), 0) + 1
+                    walk(x)
+
+    walk(root)
+    defaults: dict[type, dict[str, Any]] = {}
+    closed = 0
+    for w in holders:
+        # controls and boxes only: other widgets (images, figures) may keep their layout
+        # for later use, and closing it would break them
+        if not isinstance(w, (widgets.Box, DescriptionWidget, widgets.Button)):
+            continue
+        for trait in ("layout", "style"):
+            if trait not in w.keys:
+                continue
+            old = getattr(w, trait, None)
+            if not isinstance(old, widgets.Widget) or uses.get(id(old), 0) != 1:
+                continue
+            if any(old is v for v in _SHARED.values()):
+                continue  # already shared, possibly outside this tree
+            cls = type(old)
+            if cls not in defaults:
+                defaults[cls] = _plain_state(cls())
+            if _plain_state(old) != defaults[cls]:
+                continue
+            new = shared(f"plain_{cls.__name__}", cls)
+            if new is old:
+                continue
+            setattr(w, trait, new)
+            old.close()
+            closed += 1
+    return closed
+
+
+def _plain_state(w: widgets.Widget) -> dict[str, Any]:
+    state = w.get_state()
+    for key in ("_model_module", "_model_module_version", "_model_name", "_view_count",
+                "_view_module", "_view_module_version", "_view_name"):
+        state.pop(key, None)
+    return state
+
+
+def set_visible(w: widgets.Widget, visible: bool) -> None:
+    """Show or hide ``w``. A widget on a shared layout first gets a layout of its own, so
+    that hiding it hides nothing else."""
+    if any(w.layout is v for v in _SHARED.values()):
+        w.layout = widgets.Layout(**{k: v for k, v in w.layout.get_state().items()
+                                     if not k.startswith("_") and v is not None})
+    w.layout.display = None if visible else "none"

@@ -39,6 +39,7 @@ from snowprobe_widgets.widgets._common import (
     guarded,
     message_line,
     message_text,
+    share_plain_styles,
     show_message,
 )
 from snowprobe_widgets.widgets.materials_lab import MaterialsExplorer
@@ -244,6 +245,7 @@ class ScenarioExplorer(widgets.VBox):
             "trace and whether the echo would stand out.</div>")
         super().__init__(children=[header, caution_box(), file_bar,
                                    widgets.HBox([left, right])], **kwargs)
+        share_plain_styles(self)
         self.scenario = scenario
 
     # ------------------------------------------------------------------ public API

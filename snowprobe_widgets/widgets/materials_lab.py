@@ -28,6 +28,8 @@ from snowprobe_widgets.widgets._common import (
     log_slider,
     message_line,
     section_title,
+    set_visible,
+    share_plain_styles,
 )
 
 #: CSS class of the status line; browser tests wait on its ``draws=N`` text.
@@ -224,6 +226,7 @@ class MaterialsExplorer(widgets.VBox):
             "soil. Dashed grey line: the chosen point.</div>"))
         super().__init__(children=[header, caution_box(), widgets.HBox([controls, grid])],
                          **kwargs)
+        share_plain_styles(self)
         for w in (self.medium, self.sweep, self.frequency, self.density, self.lwc,
                   self.temperature, self.soil_water, self.dry_model, self.wet_model,
                   self.compare_models):
@@ -414,8 +417,8 @@ class MaterialsExplorer(widgets.VBox):
         snow = kind == "snow"
         for w in (self.density, self.lwc, self.temperature, self.dry_model, self.wet_model,
                   self.compare_models):
-            w.layout.display = None if snow else "none"
-        self.soil_water.layout.display = None if kind == "soil" else "none"
+            set_visible(w, snow)
+        set_visible(self.soil_water, kind == "soil")
 
     def _on_control(self, change: dict[str, Any]) -> None:
         if self._busy:

@@ -43,6 +43,7 @@ from snowprobe_widgets.widgets._common import (
     int_slider,
     log_slider,
     section_title,
+    set_visible,
 )
 
 #: CSS class of the person depth slider (browser tests drive it).
@@ -203,9 +204,9 @@ class SnowpackEditor(Panel):
 
     def _sync_ground(self) -> None:
         soil = self.ground_kind.value == "soil"
-        self.soil_water.layout.display = None if soil else "none"
+        set_visible(self.soil_water, soil)
         for c in (self.rock_permittivity, self.rock_conductivity):
-            c.layout.display = "none" if soil else None
+            set_visible(c, not soil)
 
     def _refresh_choice(self, index: int) -> None:
         index = int(np.clip(index, 0, len(self._layers) - 1))

@@ -18,7 +18,13 @@ from snowprobe_widgets.processing import (
     ProcessingChain,
     ProcessingStep,
 )
-from snowprobe_widgets.widgets._common import dropdown, float_slider, int_slider, section_title
+from snowprobe_widgets.widgets._common import (
+    dropdown,
+    float_slider,
+    int_slider,
+    section_title,
+    set_visible,
+)
 
 _NS, _MHZ = 1e-9, 1e6
 
@@ -105,7 +111,7 @@ class ProcessingPanel(widgets.VBox):
                  "exponential": (self.gain_atten, self.gain_max),
                  "agc": (self.gain_window,)}.get(kind, ())
         for c in (self.gain_power, self.gain_atten, self.gain_max, self.gain_window):
-            c.layout.display = None if c in shown else "none"
+            set_visible(c, c in shown)
 
     def show(self, chain: ProcessingChain) -> None:
         """Set the switches and parameters from ``chain`` (without firing)."""

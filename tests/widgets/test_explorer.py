@@ -475,3 +475,28 @@ def test_every_widget_in_the_apps_is_open() -> None:
     app.scenario = Scenario.example("two_burials")
     assert _closed_widgets(app) == []
     assert _closed_widgets(MaterialsExplorer()) == []
+
+
+def test_hiding_one_control_hides_nothing_else() -> None:
+    # controls share one layout model to keep the page light; hiding one (the soil water
+    # when the ground is rock) must give it a layout of its own first
+    app = ScenarioExplorer()
+    editor = app.snowpack
+    editor.ground_kind.value = "rock"
+    assert editor.soil_water.layout.display == "none"
+    shown = [editor.rock_permittivity, app.person.depth] if hasattr(app.person, "depth") \
+        else [editor.rock_permittivity]
+    assert all(w.layout.display != "none" for w in shown)
+    editor.ground_kind.value = "soil"
+    assert editor.soil_water.layout.display != "none"
+    assert editor.rock_permittivity.layout.display == "none"
+
+
+def test_the_app_sends_few_widget_models() -> None:
+    # every open model goes to each browser on start-up; plain layouts and styles are
+    # shared (605 models before sharing, 358 after, measured)
+    import ipywidgets
+
+    before = len(ipywidgets.widgets.widget._instances)
+    ScenarioExplorer()
+    assert len(ipywidgets.widgets.widget._instances) - before < 420
