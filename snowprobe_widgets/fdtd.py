@@ -44,7 +44,7 @@ from ._validate import check_range
 from .constants import C0_M_S, EPS0_F_M
 from .materials import Material, rock
 from .pulses import Pulse
-from .trace import Trace, _echo_times
+from .trace import Trace, _echo_times, check_column
 
 __all__ = ["FdtdGrid", "FdtdResult", "frozen_at", "plan_grid", "fdtd_trace"]
 
@@ -249,15 +249,7 @@ def fdtd_trace(
     n_samples = int(check_range("n_samples", n_samples, 16, 65536))
     dt_out = check_range("dt_s", dt_s, 1e-13, 1e-8, unit="s")
     cpw = check_range("cells_per_wavelength", cells_per_wavelength, 10.0, 200.0)
-    d = np.asarray(thickness_m, dtype=float).reshape(-1)
-    if len(materials) != d.size + 1:
-        raise ValueError(
-            f"materials lists {len(materials)} media but thickness_m has {d.size} layers: "
-            "give one material per layer plus the ground")
-    if np.any(~np.isfinite(d)) or np.any(d <= 0):
-        raise ValueError(f"thickness_m = {d.tolist()} must all be finite and > 0 m")
-    if any(m.perfect_conductor for m in materials[:-1]):
-        raise ValueError("only the ground (last material) may be a perfect conductor")
+    d = check_column(materials, thickness_m)
     start = time.perf_counter()
     window = n_samples * dt_out
     grid, eps_r, sigma, pec = plan_grid(materials, d, antenna_height_m=h, pulse=pulse,

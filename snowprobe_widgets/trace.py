@@ -44,7 +44,8 @@ from .layered import stack_coefficients
 from .materials import Material
 from .pulses import Pulse
 
-__all__ = ["Trace", "synthesize_trace", "column_response", "fft_grid", "evaluate_column"]
+__all__ = ["Trace", "synthesize_trace", "column_response", "fft_grid", "evaluate_column",
+           "check_column"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -170,6 +171,22 @@ def _echo_times(materials: Sequence[Material], thickness_m: np.ndarray, h: float
     return out
 
 
+def check_column(materials: Sequence[Material], thickness_m: Sequence[float]) -> np.ndarray:
+    """Validate a layered column (one material per layer plus the ground, thicknesses
+    finite and > 0, metal only as the ground); return the thicknesses as an array, m."""
+    d = np.asarray(thickness_m, dtype=float).reshape(-1)
+    if len(materials) != d.size + 1:
+        raise ValueError(
+            f"materials lists {len(materials)} media but thickness_m has {d.size} layers: "
+            "give one material per layer plus the ground"
+        )
+    if np.any(~np.isfinite(d)) or np.any(d <= 0):
+        raise ValueError(f"thickness_m = {d.tolist()} must all be finite and > 0 m")
+    if any(m.perfect_conductor for m in materials[:-1]):
+        raise ValueError("only the ground (last material) may be a perfect conductor")
+    return d
+
+
 def synthesize_trace(
     materials: Sequence[Material],
     thickness_m: Sequence[float],
@@ -209,16 +226,7 @@ def synthesize_trace(
     check_choice("mode", mode, ("point", "plane"))
     h = check_range("antenna_height_m", antenna_height_m, 0.01, 20.0, unit="m")
     n_samples = int(check_range("n_samples", n_samples, 16, 65536))
-    d = np.asarray(thickness_m, dtype=float).reshape(-1)
-    if len(materials) != d.size + 1:
-        raise ValueError(
-            f"materials lists {len(materials)} media but thickness_m has {d.size} layers: "
-            "give one material per layer plus the ground"
-        )
-    if np.any(~np.isfinite(d)) or np.any(d <= 0):
-        raise ValueError(f"thickness_m = {d.tolist()} must all be finite and > 0 m")
-    if any(m.perfect_conductor for m in materials[:-1]):
-        raise ValueError("only the ground (last material) may be a perfect conductor")
+    d = check_column(materials, thickness_m)
     f_lo, f_hi = pulse.band_hz()
     dt = check_range("dt_s", dt_s, 1e-13, 1.0 / (2 * f_hi), unit="s")
     echoes = _echo_times(materials, d, h, pulse.center_frequency_hz)

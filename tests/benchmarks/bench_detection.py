@@ -9,8 +9,9 @@ under 30 ms.
 
 from __future__ import annotations
 
-import statistics
 import time
+
+from timing import median_s
 
 from snowprobe_widgets import simulate
 from snowprobe_widgets.detection import detect
@@ -18,16 +19,6 @@ from snowprobe_widgets.processing import ProcessingChain
 from snowprobe_widgets.scene import Scenario
 
 GOAL_MS = 30.0
-
-
-def median_s(fn, repeat: int) -> float:
-    fn()  # warm-up
-    times = []
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return statistics.median(times)
 
 
 def main() -> None:

@@ -7,10 +7,10 @@ run: a plain numpy copy of the data and the mean background removal step.
 
 from __future__ import annotations
 
-import statistics
 import time
 
 import numpy as np
+from timing import median_s
 
 from snowprobe_widgets import processing as P
 from snowprobe_widgets.radargram import Radargram
@@ -35,16 +35,6 @@ def synthetic() -> Radargram:
         d = d + (t0 / th)[None, :] * ricker(t[:, None] - th[None, :])
     d += 0.02 * np.random.default_rng(1).standard_normal(d.shape)
     return Radargram(d, t, x)
-
-
-def median_s(fn, repeat: int) -> float:
-    fn()  # warm-up
-    times = []
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return statistics.median(times)
 
 
 def main() -> None:

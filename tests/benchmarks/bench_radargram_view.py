@@ -9,11 +9,8 @@ other zlib levels. Goal: full update below 10 ms.
 
 from __future__ import annotations
 
-import statistics
-import time
-from collections.abc import Callable
-
 import numpy as np
+from timing import median_s
 
 from snowprobe_widgets.radargram import Radargram
 from snowprobe_widgets.widgets import RadargramView
@@ -24,14 +21,8 @@ N_SAMPLES, N_TRACES, REPEATS = 256, 512, 20
 VIEW_LEVEL = 1  # the zlib level the view is built with below (its default)
 
 
-def _median_ms(fn: Callable[[], object], repeats: int = REPEATS) -> float:
-    fn()  # warm-up
-    times = []
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return 1e3 * statistics.median(times)
+def _median_ms(fn, repeats: int = 20) -> float:
+    return 1e3 * median_s(fn, repeats)
 
 
 def _sections(kind: str) -> list[Radargram]:

@@ -9,10 +9,11 @@ and a chunked 2,000-trace line. Goal (issue 3): < 30 ms and < 100 MB for the bas
 
 from __future__ import annotations
 
-import statistics
 import time
 import tracemalloc
 from unittest import mock
+
+from timing import median_s
 
 from snowprobe_widgets import synthesis
 from snowprobe_widgets.scene import (
@@ -27,6 +28,10 @@ from snowprobe_widgets.scene import (
 )
 
 
+def _median_ms(fn, repeats: int = 20) -> float:
+    return 1e3 * median_s(fn, repeats)
+
+
 def _scene(n_traces: int = 200) -> Scenario:
     layers = (Layer(0.3, 150.0), Layer(0.4, 200.0), Layer(0.05, 750.0, ice_crust=True),
               Layer(0.6, 280.0), Layer(0.5, 330.0), Layer(0.8, 380.0))
@@ -39,15 +44,6 @@ def _scene(n_traces: int = 200) -> Scenario:
     return Scenario(snow, Ground("soil", 0.2), (Person(survey.length_m / 2, 1.1),), (),
                     Radar("ricker", 800e6, dt_s=1e-10, time_window_s=51.2e-9), survey,
                     clutter, name="benchmark line")
-
-
-def _median_ms(fn, repeats: int) -> float:
-    out = []
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        fn()
-        out.append(time.perf_counter() - t0)
-    return 1e3 * statistics.median(out)
 
 
 def _peak_mb(fn) -> float:

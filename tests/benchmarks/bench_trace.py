@@ -8,24 +8,13 @@ trace is printed), and their ratio. Goal (issue 2): < 1 ms per trace, >= 1000x f
 
 from __future__ import annotations
 
-import statistics
-import time
-
 import numpy as np
+from timing import median_s
 
 from snowprobe_widgets import materials as mat
 from snowprobe_widgets.fdtd import fdtd_trace, frozen_at
 from snowprobe_widgets.pulses import make_pulse
 from snowprobe_widgets.trace import synthesize_trace
-
-
-def _median_s(fn, repeats: int) -> float:
-    times = []
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return statistics.median(times)
 
 
 def main() -> None:
@@ -38,8 +27,8 @@ def main() -> None:
     kw = {"antenna_height_m": 0.5, "pulse": pulse, "dt_s": 25e-12, "n_samples": 1024}
     for _ in range(20):  # warm caches and imports
         synthesize_trace(media, thick, mode="point", **kw)
-    t_point = _median_s(lambda: synthesize_trace(media, thick, mode="point", **kw), 300)
-    t_plane = _median_s(lambda: synthesize_trace(media, thick, mode="plane", **kw), 300)
+    t_point = median_s(lambda: synthesize_trace(media, thick, mode="point", **kw), 300)
+    t_plane = median_s(lambda: synthesize_trace(media, thick, mode="plane", **kw), 300)
     frozen = [frozen_at(m, 1e9) for m in media]
     fd = synthesize_trace(frozen, thick, mode="plane", **kw).amplitude
     print("one 1024-sample trace, 10 layers over soil, Ricker 1 GHz, dt 25 ps")
@@ -50,7 +39,7 @@ def main() -> None:
           "x point   x plane")
     for cpw in (20, 40, 80, 160):
         res = fdtd_trace(media, thick, cells_per_wavelength=cpw, **kw)
-        t_fdtd = _median_s(lambda c=cpw: fdtd_trace(media, thick, cells_per_wavelength=c,
+        t_fdtd = median_s(lambda c=cpw: fdtd_trace(media, thick, cells_per_wavelength=c,
                                                     **kw), 3)
         ref = res.trace.amplitude
         err = float(np.max(np.abs(ref - fd)) / np.max(np.abs(fd)))
