@@ -262,12 +262,87 @@ class SnowpackEditor(Panel):
 
 
 # --------------------------------------------------------------------------- person
-class PersonPanel(Panel):
+class _ListPanel(Panel):
+    """A panel editing one item of a list (people, debris objects) picked in a dropdown.
+
+    Subclasses set ``self.choice``, ``self.remove``, ``self.position`` and
+    ``self._item_controls``, and define :meth:`_label`, :meth:`_show_item` and
+    ``_EMPTY`` (the dropdown text when the list is empty).
+    """
+
+    _EMPTY = "none"
+    _items: list[Any]
+
+    def _label(self, k: int, item: Any) -> str:  # pragma: no cover - overridden
+        raise NotImplementedError
+
+    def _show_item(self, item: Any) -> None:  # pragma: no cover - overridden
+        raise NotImplementedError
+
+    def _after_refresh(self, n: int) -> None:
+        """Hook after the list was redrawn with ``n`` items."""
+
+    def _show_list(self, items: Any, survey: Any) -> None:
+        self._items = list(items)
+        self._quiet += 1
+        try:
+            self.position.min, self.position.max = -1e4, 1e4
+            self.position.min, self.position.max = survey.start_m - 5.0, survey.end_m + 5.0
+        finally:
+            self._quiet -= 1
+
+    def _centre(self) -> float:
+        return 0.5 * (self.position.min + self.position.max)
+
+    def commit(self) -> None:
+        if getattr(self, "_staged", None) is not None:
+            self._items, self._staged = self._staged, None
+
+    def _refresh(self, index: int) -> None:
+        n = len(self._items)
+        options = ([(self._label(k, item), k) for k, item in enumerate(self._items)]
+                   or [(self._EMPTY, -1)])
+        index = int(np.clip(index, 0, n - 1)) if n else -1
+        self._quiet += 1
+        try:
+            self.choice.options = options
+            self.choice.value = index
+        finally:
+            self._quiet -= 1
+        for c in self._item_controls:
+            c.disabled = n == 0
+        self.remove.disabled = n == 0
+        self._after_refresh(n)
+        if n:
+            self._show_item(self._items[index])
+
+    def _on_pick(self, change: Any) -> None:
+        if self._quiet or change["new"] is None or change["new"] < 0:
+            return
+        self._show_item(self._items[int(change["new"])])
+
+    def _append(self, item: Any) -> None:
+        self._items.append(item)
+        self._refresh(len(self._items) - 1)
+        self._fire()
+
+    def _on_remove(self, _: Any) -> None:
+        i = int(self.choice.value)
+        if i < 0:
+            return
+        self._items.pop(i)
+        self._refresh(i)
+        self._fire()
+
+
+class PersonPanel(_ListPanel):
     """The buried people: depth, position, offset, heading, posture, clothing."""
 
+    _EMPTY = "nobody buried"
+
     def __init__(self) -> None:
-        self._persons: list[Person] = []
-        self.choice = dropdown("person", [("nobody buried", -1)], -1)
+        self._items: list[Person] = []
+        self.choice = dropdown("person", [(self._EMPTY, -1)], -1)
         self.add = _button("add a person")
         self.remove = _button("remove this person")
         self.depth = float_slider("depth to top (m)", 1.0, 0.0, 10.0, 0.05,
@@ -285,27 +360,20 @@ class PersonPanel(Panel):
                           widgets.HBox([self.add, self.remove]), self.note, self.depth,
                           self.position, self.offset, self.heading, self.posture,
                           self.clothing, self.height])
+        self._item_controls = (self.depth, self.position, self.offset, self.heading,
+                               self.posture, self.clothing, self.height)
         self.choice.observe(self._on_pick, names="value")
-        self._watch(self.depth, self.position, self.offset, self.heading, self.posture,
-                    self.clothing, self.height)
-        self.add.on_click(self._on_add)
+        self._watch(*self._item_controls)
+        self.add.on_click(lambda _: self._append(
+            Person(self._centre(), 0.5, label=f"person {len(self._items) + 1}")))
         self.remove.on_click(self._on_remove)
-        self._sliders = (self.depth, self.position, self.offset, self.heading, self.posture,
-                         self.clothing, self.height)
 
     def show(self, scenario: Scenario) -> None:
-        self._persons = list(scenario.persons)
-        s = scenario.survey
-        self._quiet += 1
-        try:
-            self.position.min, self.position.max = -1e4, 1e4
-            self.position.min, self.position.max = s.start_m - 5.0, s.end_m + 5.0
-        finally:
-            self._quiet -= 1
+        self._show_list(scenario.persons, scenario.survey)
         self._refresh(0)
 
     def parts(self) -> dict[str, Any]:
-        persons = list(self._persons)
+        persons = list(self._items)
         i = int(self.choice.value)
         if i >= 0:
             persons[i] = dataclasses.replace(
@@ -316,30 +384,14 @@ class PersonPanel(Panel):
         self._staged = persons
         return {"persons": tuple(persons)}
 
-    def commit(self) -> None:
-        if getattr(self, "_staged", None) is not None:
-            self._persons, self._staged = self._staged, None
+    def _label(self, k: int, item: Person) -> str:
+        return item.label or f"person {k + 1}"
 
-    def _refresh(self, index: int) -> None:
-        n = len(self._persons)
-        options = ([(p.label or f"person {k + 1}", k) for k, p in enumerate(self._persons)]
-                   or [("nobody buried", -1)])
-        index = int(np.clip(index, 0, n - 1)) if n else -1
-        self._quiet += 1
-        try:
-            self.choice.options = options
-            self.choice.value = index
-        finally:
-            self._quiet -= 1
-        for c in self._sliders:
-            c.disabled = n == 0
-        self.remove.disabled = n == 0
+    def _after_refresh(self, n: int) -> None:
         self.note.value = ("" if n else
                            "<small>Nobody is buried in this scenario: add a person.</small>")
-        if n:
-            self._show_person(self._persons[index])
 
-    def _show_person(self, p: Person) -> None:
+    def _show_item(self, p: Person) -> None:
         self._set(self.depth, float(p.depth_m))
         self._set(self.position, float(p.position_m))
         self._set(self.offset, float(p.offset_m))
@@ -348,36 +400,19 @@ class PersonPanel(Panel):
         self._set(self.clothing, float(p.clothing_m / _CM))
         self._set(self.height, float(p.height_m))
 
-    def _on_pick(self, change: Any) -> None:
-        if self._quiet or change["new"] is None or change["new"] < 0:
-            return
-        self._show_person(self._persons[int(change["new"])])
-
-    def _on_add(self, _: Any) -> None:
-        centre = 0.5 * (self.position.min + self.position.max)
-        self._persons.append(Person(centre, 0.5, label=f"person {len(self._persons) + 1}"))
-        self._refresh(len(self._persons) - 1)
-        self._fire()
-
-    def _on_remove(self, _: Any) -> None:
-        i = int(self.choice.value)
-        if i < 0:
-            return
-        self._persons.pop(i)
-        self._refresh(i)
-        self._fire()
-
 
 # --------------------------------------------------------------------------- debris
 _OBJECT_NAMES = {"boulder": "boulder", "branch": "branch or trunk", "metal": "metal (ski, shovel)"}
 
 
-class DebrisPanel(Panel):
+class DebrisPanel(_ListPanel):
     """Boulders, branches and metal objects, and the random debris clutter."""
 
+    _EMPTY = "no debris objects"
+
     def __init__(self) -> None:
-        self._objects: list[Any] = []
-        self.choice = dropdown("object", [("no debris objects", -1)], -1)
+        self._items: list[Any] = []
+        self.choice = dropdown("object", [(self._EMPTY, -1)], -1)
         self.add_boulder = _button("add boulder")
         self.add_branch = _button("add branch")
         self.add_metal = _button("add metal object")
@@ -398,34 +433,26 @@ class DebrisPanel(Panel):
         self.seed = widgets.BoundedIntText(value=0, min=0, max=2**32 - 1,
                                            description="random seed",
                                            style={"description_width": "150px"})
-        self._object_controls = (self.position, self.depth, self.offset, self.size,
-                                 self.heading)
+        self._item_controls = (self.position, self.depth, self.offset, self.size,
+                               self.heading)
         super().__init__([
             section_title("Debris objects"), self.choice,
             widgets.HBox([self.add_boulder, self.add_branch, self.add_metal, self.remove]),
-            *self._object_controls,
+            *self._item_controls,
             section_title("Debris clutter (seeded)"), self.density, self.block_size,
             self.thin_layers, self.contrast, self.seed])
         self.choice.observe(self._on_pick, names="value")
-        self._watch(*self._object_controls, self.density, self.block_size, self.thin_layers,
+        self._watch(*self._item_controls, self.density, self.block_size, self.thin_layers,
                     self.contrast, self.seed)
-        self.add_boulder.on_click(lambda _: self._add(Boulder(self._centre(), 0.5, 0.5)))
-        self.add_branch.on_click(lambda _: self._add(Branch(self._centre(), 0.4, 0.1, 2.0)))
-        self.add_metal.on_click(lambda _: self._add(MetalPlate(self._centre(), 0.3, 1.7, 0.09)))
+        self.add_boulder.on_click(lambda _: self._append(Boulder(self._centre(), 0.5, 0.5)))
+        self.add_branch.on_click(
+            lambda _: self._append(Branch(self._centre(), 0.4, 0.1, 2.0)))
+        self.add_metal.on_click(
+            lambda _: self._append(MetalPlate(self._centre(), 0.3, 1.7, 0.09)))
         self.remove.on_click(self._on_remove)
 
-    def _centre(self) -> float:
-        return 0.5 * (self.position.min + self.position.max)
-
     def show(self, scenario: Scenario) -> None:
-        self._objects = list(scenario.objects)
-        s = scenario.survey
-        self._quiet += 1
-        try:
-            self.position.min, self.position.max = -1e4, 1e4
-            self.position.min, self.position.max = s.start_m - 5.0, s.end_m + 5.0
-        finally:
-            self._quiet -= 1
+        self._show_list(scenario.objects, scenario.survey)
         c = scenario.clutter
         self._set(self.density, float(c.scatterer_density_per_m3))
         self._set(self.block_size, float(c.scatterer_size_m / _CM))
@@ -435,7 +462,7 @@ class DebrisPanel(Panel):
         self._refresh(0)
 
     def parts(self) -> dict[str, Any]:
-        objects = list(self._objects)
+        objects = list(self._items)
         i = int(self.choice.value)
         if i >= 0:
             o = objects[i]
@@ -456,52 +483,16 @@ class DebrisPanel(Panel):
         self._staged = objects
         return {"objects": tuple(objects), "clutter": clutter}
 
-    def commit(self) -> None:
-        if getattr(self, "_staged", None) is not None:
-            self._objects, self._staged = self._staged, None
+    def _label(self, k: int, item: Any) -> str:
+        return f"{k + 1}: {_OBJECT_NAMES.get(item.kind, item.kind)}"
 
-    def _refresh(self, index: int) -> None:
-        n = len(self._objects)
-        options = [(f"{k + 1}: {_OBJECT_NAMES.get(o.kind, o.kind)}", k)
-                   for k, o in enumerate(self._objects)] or [("no debris objects", -1)]
-        index = int(np.clip(index, 0, n - 1)) if n else -1
-        self._quiet += 1
-        try:
-            self.choice.options = options
-            self.choice.value = index
-        finally:
-            self._quiet -= 1
-        for c in self._object_controls:
-            c.disabled = n == 0
-        self.remove.disabled = n == 0
-        if n:
-            self._show_object(self._objects[index])
-
-    def _show_object(self, o: Any) -> None:
+    def _show_item(self, o: Any) -> None:
         self._set(self.position, float(o.position_m))
         self._set(self.depth, float(o.depth_m))
         self._set(self.offset, float(o.offset_m))
         self._set(self.size, float(o.length_m if o.kind == "metal" else o.diameter_m))
         self._set(self.heading, float(np.clip(getattr(o, "heading_deg", 0.0), -180, 180)))
         self.heading.disabled = o.kind == "boulder"
-
-    def _on_pick(self, change: Any) -> None:
-        if self._quiet or change["new"] is None or change["new"] < 0:
-            return
-        self._show_object(self._objects[int(change["new"])])
-
-    def _add(self, obj: Any) -> None:
-        self._objects.append(obj)
-        self._refresh(len(self._objects) - 1)
-        self._fire()
-
-    def _on_remove(self, _: Any) -> None:
-        i = int(self.choice.value)
-        if i < 0:
-            return
-        self._objects.pop(i)
-        self._refresh(i)
-        self._fire()
 
 
 # --------------------------------------------------------------------------- radar
