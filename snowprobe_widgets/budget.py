@@ -133,8 +133,10 @@ class LinkBudget:
     echo_to_noise_db, echo_to_clutter_db : float
         Peak echo over the rms receiver noise after stacking / over the rms clutter, dB.
     max_detectable_depth_m : float
-        Deepest burial (same target, same snow, the bottom layer extended) whose
-        echo-to-noise ratio reaches ``threshold_db``; at most MAX_SEARCH_DEPTH_M.
+        Deepest burial (same target, same snow, the bottom layer extended) whose echo
+        stands ``threshold_db`` above the receiver noise and the volume clutter together
+        (their rms added in power); at most MAX_SEARCH_DEPTH_M. Without clutter this is
+        the echo-to-noise limit.
     range_resolution_m, footprint_radius_m, trace_spacing_m : float
         In the snow at the target: resolution, first Fresnel zone, quarter-wave spacing.
     time_window_s : float
@@ -305,58 +307,69 @@ class _EchoModel:
         return _Echo(peak, t2, 1 / (2 * r_e), att_db, self.r_fc[j] * curv, self.af, r_e)
 
 
-def _clutter_rms(scenario: Any, optics: ColumnOptics, depth_m: float) -> float:
-    """RMS amplitude of the volume clutter arriving with the target's echo.
+class _ClutterModel:
+    """RMS amplitude of the volume clutter arriving with an echo from a given depth.
 
     Expected number of scatterers in the resolution shell under the beam (density x
     beam footprint area x range resolution in the snow), each a point target of
     sigma = min(Rayleigh, optical) with the scenario's size distribution (uniform in
     0.5-1.5 x the mean size), added incoherently (common practice for volume clutter).
     The thin random layers are horizontal: background removal takes them out, so they
-    are not counted here.
+    are not counted here. Per-layer terms are computed once; :meth:`rms` is cheap.
     """
-    cl = scenario.clutter
-    if cl.scatterer_density_per_m3 <= 0:
-        return 0.0
-    radar = scenario.radar
-    fc = radar.center_frequency_hz
-    h = radar.antenna_height_m
-    opt = _extended(optics, depth_m + 0.5)
-    j = _layer_of(opt, depth_m)
-    n = float(opt.index[j])
-    layer = scenario.snowpack.layers[min(j, len(scenario.snowpack.layers) - 1)]
-    from . import materials as mat
 
-    rho_b = min(layer.density_kg_m3 + CLUTTER_BLOCK_EXTRA_DENSITY_KG_M3,
-                917.0 * (1 - layer.lwc_percent / 100.0))
-    e_s = complex(mat.snow(layer.density_kg_m3, layer.lwc_percent).permittivity(fc)).real
-    e_b = complex(mat.snow(rho_b, layer.lwc_percent).permittivity(fc)).real
-    k = 2 * math.pi * fc * n / C0_M_S
-    K = (e_b - e_s) / (e_b + 2 * e_s)
-    r = (math.sqrt(e_s) - math.sqrt(e_b)) / (math.sqrt(e_s) + math.sqrt(e_b))
-    a = 0.5 * cl.scatterer_size_m * np.linspace(0.5, 1.5, 101)
-    sigma = np.minimum(4 * math.pi * k**4 * a**6 * K**2, math.pi * a * a * r * r)
-    amp2 = float(np.mean(sigma)) / (4 * math.pi) / n**2
-    half_bw = math.radians(radar.beamwidth_deg) / 2
-    s_snow = math.sin(half_bw) / n
-    radius = h * math.tan(half_bw) + depth_m * s_snow / math.sqrt(1 - s_snow**2)
-    pulse = radar.make_pulse()
-    shell = C0_M_S / (2 * pulse.bandwidth_hz * n)
-    count = cl.scatterer_density_per_m3 * math.pi * radius**2 * shell
-    # incoherent sum of wavelets: the mean square at one instant is (scatterers per unit
-    # two-way time) x a^2 x integral w^2 dt; the shell holds 1/B of two-way time
-    tt = np.linspace(-4.0, 4.0, 4001) / fc
-    energy = float(np.sum(pulse.waveform(tt) ** 2) * (tt[1] - tt[0])) * pulse.bandwidth_hz
-    D = _above(opt, depth_m)
-    r_e = h + float(np.sum(D / opt.index))
-    att = math.exp(-2 * float(np.dot(opt.alpha_np_m, D)))
-    # across the footprint the beam weight falls to 1/2 (two-way amplitude at the -3 dB
-    # edge); its mean square over a uniform disc is about 0.6 (numerically)
-    w = beam_weight(np.linspace(0, half_bw, 50), radar.beamwidth_deg)
-    w2 = float(np.mean(w * w * np.linspace(0, 1, 50)) * 2)
-    af = antenna_factor(radar.antenna_gain_dbi, fc)
-    return (af * _two_way_transmission(opt, depth_m) * att
-            * math.sqrt(count * amp2 * w2 * energy) / r_e**2)
+    def __init__(self, scenario: Any, optics: ColumnOptics, max_depth_m: float) -> None:
+        from . import materials as mat
+
+        cl = scenario.clutter
+        self.density = cl.scatterer_density_per_m3
+        radar = scenario.radar
+        fc = radar.center_frequency_hz
+        self.h = radar.antenna_height_m
+        self.opt = _extended(optics, max_depth_m + 0.5)
+        self.half_bw = math.radians(radar.beamwidth_deg) / 2
+        pulse = radar.make_pulse()
+        self.bandwidth = pulse.bandwidth_hz
+        # incoherent sum of wavelets: the mean square at one instant is (scatterers per
+        # unit two-way time) x a^2 x integral w^2 dt; the shell holds 1/B of two-way time
+        tt = np.linspace(-4.0, 4.0, 4001) / fc
+        self.energy = float(np.sum(pulse.waveform(tt) ** 2) * (tt[1] - tt[0])) * self.bandwidth
+        # across the footprint the two-way beam weight falls to 1/2 at the -3 dB edge;
+        # its mean square over a uniform disc, numerically
+        w = beam_weight(np.linspace(0, self.half_bw, 50), radar.beamwidth_deg)
+        self.w2 = float(np.mean(w * w * np.linspace(0, 1, 50)) * 2)
+        self.af = antenna_factor(radar.antenna_gain_dbi, fc)
+        layers = scenario.snowpack.layers
+        a = 0.5 * cl.scatterer_size_m * np.linspace(0.5, 1.5, 101)
+        self.amp2 = []
+        for j, n in enumerate(self.opt.index):
+            layer = layers[min(j, len(layers) - 1)]
+            rho_b = min(layer.density_kg_m3 + CLUTTER_BLOCK_EXTRA_DENSITY_KG_M3,
+                        917.0 * (1 - layer.lwc_percent / 100.0))
+            e_s = complex(mat.snow(layer.density_kg_m3, layer.lwc_percent)
+                          .permittivity(fc)).real
+            e_b = complex(mat.snow(rho_b, layer.lwc_percent).permittivity(fc)).real
+            k = 2 * math.pi * fc * n / C0_M_S
+            K = (e_b - e_s) / (e_b + 2 * e_s)
+            r = (math.sqrt(e_s) - math.sqrt(e_b)) / (math.sqrt(e_s) + math.sqrt(e_b))
+            sigma = np.minimum(4 * math.pi * k**4 * a**6 * K**2, math.pi * a * a * r * r)
+            self.amp2.append(float(np.mean(sigma)) / (4 * math.pi) / n**2)
+
+    def rms(self, depth_m: float) -> float:
+        if self.density <= 0:
+            return 0.0
+        opt = self.opt
+        j = _layer_of(opt, depth_m)
+        n = float(opt.index[j])
+        s_snow = math.sin(self.half_bw) / n
+        radius = self.h * math.tan(self.half_bw) + depth_m * s_snow / math.sqrt(1 - s_snow**2)
+        shell = C0_M_S / (2 * self.bandwidth * n)
+        count = self.density * math.pi * radius**2 * shell
+        D = _above(opt, depth_m)
+        r_e = self.h + float(np.sum(D / opt.index))
+        att = math.exp(-2 * float(np.dot(opt.alpha_np_m, D)))
+        return (self.af * _two_way_transmission(opt, depth_m) * att
+                * math.sqrt(count * self.amp2[j] * self.w2 * self.energy) / r_e**2)
 
 
 def _label(target: Any, scenario: Any) -> str:
@@ -402,12 +415,16 @@ def link_budget(scenario: Any, target: Any = None, *, threshold_db: float = 10.0
     echo = model.echo(depth)
     rms = noise_rms(radar.transmit_power_dbm, radar.noise_floor_dbm, radar.stacking)
     enr = float(db20(echo.peak / rms))
-    clutter = _clutter_rms(scenario, optics, depth)
+    clutter_model = _ClutterModel(scenario, optics, MAX_SEARCH_DEPTH_M)
+    clutter = clutter_model.rms(depth)
     ecr = NO_CLUTTER_DB if clutter <= 0 else min(float(db20(echo.peak / clutter)),
                                                   NO_CLUTTER_DB)
     # deepest detectable burial: scan depth with the same target
     depths = np.linspace(0.05, MAX_SEARCH_DEPTH_M, 100)
-    enr_z = np.array([float(db20(model.echo(float(z)).peak / rms)) for z in depths])
+    # the echo must stand out from the noise and the clutter together
+    enr_z = np.array([float(db20(model.echo(float(z)).peak
+                                 / math.hypot(rms, clutter_model.rms(float(z)))))
+                      for z in depths])
     ok = np.nonzero(enr_z >= thr)[0]
     if ok.size == 0:
         max_depth = 0.0
@@ -472,7 +489,7 @@ def link_budget(scenario: Any, target: Any = None, *, threshold_db: float = 10.0
         BudgetRow("echo-to-noise ratio", enr, "dB", "peak echo over rms receiver noise"),
         BudgetRow("echo-to-clutter ratio", ecr, "dB", "peak echo over rms debris clutter"),
         BudgetRow("deepest detectable burial", max_depth, "m",
-                  f"same target and snow, echo {thr:g} dB above noise"),
+                  f"same target and snow, echo {thr:g} dB above noise and clutter together"),
         BudgetRow("range resolution", res, "m", "two echoes closer than this merge"),
         BudgetRow("footprint radius", fres, "m", f"first Fresnel zone at {depth:.2f} m"),
         BudgetRow("trace spacing needed", spacing, "m",

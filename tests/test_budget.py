@@ -146,3 +146,15 @@ def test_every_demo_with_a_person_has_a_finite_budget() -> None:
         lb = link_budget(sc)
         assert math.isfinite(lb.echo_to_noise_db) and math.isfinite(lb.echo_to_clutter_db)
         assert lb.target_depth_m == sc.persons[0].depth_m
+
+
+def test_clutter_makes_the_deepest_detectable_burial_shallower() -> None:
+    # the limit counts noise and clutter together (rms added in power): heavy debris
+    # clutter cannot make it deeper, and here makes it shallower
+    layers = (Layer(6.0, 380.0, 3.0),)
+    quiet = _scene(Person(3.0, 0.5), layers)
+    cluttered = _scene(Person(3.0, 0.5), layers, clutter=Clutter(300.0, 0.4, 0, seed=1))
+    a = link_budget(quiet, threshold_db=40.0)
+    b = link_budget(cluttered, threshold_db=40.0)
+    assert b.echo_to_clutter_db < 60.0
+    assert b.max_detectable_depth_m < a.max_detectable_depth_m
