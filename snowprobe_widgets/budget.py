@@ -396,6 +396,10 @@ def link_budget(scenario: Any, target: Any = None, *, threshold_db: float = 10.0
     ValueError
         If no target is given and nobody is buried, or the threshold is out of range.
     """
+    from .scene import Scenario
+
+    if not isinstance(scenario, Scenario):
+        raise ValueError(f"scenario must be a Scenario, got {type(scenario).__name__}")
     thr = check_range("threshold_db", threshold_db, 0.0, 60.0, unit="dB")
     if target is None:
         if not scenario.persons:

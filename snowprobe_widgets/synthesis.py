@@ -410,6 +410,12 @@ def simulate(scenario: Any, *, components: Iterable[str] = COMPONENTS,
         ``data[i_sample, i_trace]`` in received amplitude relative to sqrt(P_t), with
         ``truth`` holding one :class:`TruthMarker` per person and object.
     """
+    from .scene import Scenario
+
+    if not isinstance(scenario, Scenario):
+        raise ValueError(f"scenario must be a Scenario, got {type(scenario).__name__}")
+    if isinstance(components, str):
+        components = (components,)
     comps = tuple(components)
     for c in comps:
         if c not in COMPONENTS:

@@ -158,3 +158,8 @@ def test_clutter_makes_the_deepest_detectable_burial_shallower() -> None:
     b = link_budget(cluttered, threshold_db=40.0)
     assert b.echo_to_clutter_db < 60.0
     assert b.max_detectable_depth_m < a.max_detectable_depth_m
+
+
+def test_not_a_scenario_is_refused_by_name() -> None:
+    with pytest.raises(ValueError, match="scenario must be a Scenario"):
+        link_budget("shallow_dry_powder")

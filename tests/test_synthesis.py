@@ -291,3 +291,8 @@ def test_facet_sum_has_converged(name: str) -> None:
     with mock.patch.object(synthesis, "object_mesh", lambda o, s: real(o, s / 2)):
         fine = simulate(sc, components=("objects",)).data
     assert np.max(np.abs(coarse - fine)) < 0.03 * np.max(np.abs(fine))
+
+
+def test_not_a_scenario_is_refused_by_name() -> None:
+    with pytest.raises(ValueError, match="scenario must be a Scenario"):
+        simulate({"snowpack": []})
