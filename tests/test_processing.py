@@ -592,3 +592,8 @@ def test_velocity_analysis_recovers_material_model_velocity_on_simulated_data(
     est = P.velocity_analysis(rg, 3.0, rg.truth[0].apex_time_s, radius_m=0.05,
                               half_aperture_m=1.0, antenna_height_m=height_m)
     assert est.velocity_m_s == pytest.approx(v_model, rel=0.03)
+
+
+def test_chain_refuses_what_is_not_a_radargram() -> None:
+    with pytest.raises(ValueError, match="must be a Radargram"):
+        P.ProcessingChain.default(800e6).apply(np.zeros((4, 4)))

@@ -146,6 +146,8 @@ class ProcessingChain:
     # ---------------------------------------------------------------- running
     def apply(self, rg: Radargram) -> Radargram:
         """Run the enabled steps in order; each appends its record to the history."""
+        if not isinstance(rg, Radargram):
+            raise ValueError(f"radargram must be a Radargram, got {type(rg).__name__}")
         for step in self.steps:
             if step.enabled:
                 rg = step.apply(rg)
