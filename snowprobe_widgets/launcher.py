@@ -277,7 +277,13 @@ def _voila_config(options: ServeOptions, boards: Sequence[Dashboard], token: str
     config.Voila.log_level = "INFO" if options.verbose else "ERROR"
     config.Voila.tornado_settings = {
         "headers": {"Content-Security-Policy": PAGE_POLICY},
-        "ws_ping_timeout": 30000,  # tornado refuses a timeout longer than the interval
+        # keep-alive pings on the kernel websockets: every 30 s, and a page whose pongs stop
+        # for 90 s is dropped. jupyter_server checks the pong age at each ping, counting from
+        # the connection, so the timeout must exceed the interval: with both at 30 s every
+        # page lost its connection at its first check (pages reconnected every 30 s, and five
+        # visitors loading at once on two cores never finished).
+        "ws_ping_interval": 30000,
+        "ws_ping_timeout": 90000,
     }
     if token is not None:
         config.Voila.token = token

@@ -230,3 +230,17 @@ def test_ctrl_c_stops_the_server_and_its_kernels(tmp_path):
         process.wait(timeout=10)  # the kernels end with the server
     assert "stopping the server" in server.log()
     assert http_status(server.base_url) == 0
+
+
+def test_websocket_pong_timeout_exceeds_the_ping_interval():
+    # jupyter_server measures the pong age from the connection at each ping: a timeout no
+    # longer than the interval drops every page at its first check
+    from pathlib import Path
+
+    from snowprobe_widgets import launcher
+
+    options = launcher.ServeOptions(dashboard=None, host="127.0.0.1", port=0, idle_s=600.0,
+                                    max_sessions=4, warm=False, open_browser=False,
+                                    workdir=Path("."), verbose=False)
+    settings = launcher._voila_config(options, [], None).Voila.tornado_settings
+    assert settings["ws_ping_timeout"] > settings["ws_ping_interval"] > 0

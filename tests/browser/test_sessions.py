@@ -109,3 +109,22 @@ def test_killed_kernel_leaves_a_clear_message(server, browser):
         assert record.page_errors == []
     finally:
         context.close()
+
+
+def test_an_open_page_keeps_its_kernel_connection(crowd_server, browser):
+    # the server pings every 30 s; a pong timeout no longer than that interval once closed
+    # every page's kernel connection at its first check, so pages reconnected every 30 s
+    from harness import READY_JS, STATUS_SELECTOR, dashboard_url
+
+    context = browser.new_context(viewport={"width": 1300, "height": 900})
+    try:
+        page = context.new_page()
+        closed: list[str] = []
+        page.on("websocket", lambda ws: ws.on("close", lambda w: closed.append(w.url)))
+        page.goto(dashboard_url(crowd_server.base_url, "materials"))
+        page.wait_for_function(READY_JS, arg=STATUS_SELECTOR["materials"], timeout=60_000,
+                               polling=100)
+        page.wait_for_timeout(40_000)  # longer than one ping interval
+        assert closed == []
+    finally:
+        context.close()
