@@ -41,11 +41,14 @@ import scipy.fft
 from ._validate import check_range
 from .constants import C0_M_S
 from .radar_equation import antenna_factor, beam_weight, db20, noise_rms
+from .raypaths import layers_above_m
 from .synthesis import (
-    CLUTTER_BLOCK_EXTRA_DENSITY_KG_M3,
     ColumnOptics,
+    clutter_block_contrast,
     column_optics,
-    target_reflection,
+    dispersion_factor,
+    index_offsets,
+    target_reflection_spectrum,
 )
 
 __all__ = [
@@ -177,8 +180,7 @@ def _extended(optics: ColumnOptics, depth_m: float) -> ColumnOptics:
 
 
 def _above(optics: ColumnOptics, depth_m: float) -> np.ndarray:
-    tops = np.concatenate([[0.0], np.cumsum(optics.thickness_m)[:-1]])
-    return np.clip(depth_m - tops, 0.0, optics.thickness_m)
+    return layers_above_m(optics.thickness_m, depth_m)
 
 
 def _layer_of(optics: ColumnOptics, depth_m: float) -> int:
@@ -269,14 +271,12 @@ class _EchoModel:
         fb = f[self.band]
         self.k0 = 2 * math.pi * fb / C0_M_S
         self.pulse_spec = pulse.spectrum(fb)
-        self.n_layers_f = []
+        self.offsets = index_offsets(self.opt, fb)
         self.r_f = []
         self.r_fc = []
-        for m, n_fc in zip(self.opt.materials, self.opt.index, strict=True):
-            nf = np.sqrt(m.permittivity(fb).astype(complex))
-            self.n_layers_f.append(np.where(nf.imag > 0, -nf, nf) - n_fc)
-            eps = complex(m.permittivity(fc))
-            _, r = target_reflection(target, eps, fc, np.append(fb, fc))
+        for m in self.opt.materials:
+            r = target_reflection_spectrum(target, complex(m.permittivity(fc)),
+                                           np.append(fb, fc))
             self.r_f.append(r[:-1])
             self.r_fc.append(abs(complex(r[-1])))
         self.radii = _radii_m(target)
@@ -294,11 +294,7 @@ class _EchoModel:
         curv = 1.0 / math.sqrt((1 + n_loc * r_e / rho1) * (1 + n_loc * r_e / rho2))
         curv *= _plate_factor(self.target, C0_M_S / (self.fc * n_loc), r_e, n_loc)
         # dispersion and frequency-dependent loss relative to the centre-frequency values
-        phase = np.zeros(self.k0.size, complex)
-        for dn, d in zip(self.n_layers_f, D, strict=True):
-            if d > 0:
-                phase += dn * d
-        disp = np.exp(-2j * self.k0 * phase) * math.exp(2 * float(np.dot(opt.alpha_np_m, D)))
+        disp = dispersion_factor(self.offsets, self.k0, D, opt.alpha_np_m)
         amp_fc = self.af * t2 * 10 ** (sum(att_db) / 20) * curv / (2 * r_e)
         spec = np.zeros(self.n_f, complex)
         spec[self.band] = self.pulse_spec * self.r_f[j] * disp
@@ -319,8 +315,6 @@ class _ClutterModel:
     """
 
     def __init__(self, scenario: Any, optics: ColumnOptics, max_depth_m: float) -> None:
-        from . import materials as mat
-
         cl = scenario.clutter
         self.density = cl.scatterer_density_per_m3
         radar = scenario.radar
@@ -343,15 +337,8 @@ class _ClutterModel:
         a = 0.5 * cl.scatterer_size_m * np.linspace(0.5, 1.5, 101)
         self.amp2 = []
         for j, n in enumerate(self.opt.index):
-            layer = layers[min(j, len(layers) - 1)]
-            rho_b = min(layer.density_kg_m3 + CLUTTER_BLOCK_EXTRA_DENSITY_KG_M3,
-                        917.0 * (1 - layer.lwc_percent / 100.0))
-            e_s = complex(mat.snow(layer.density_kg_m3, layer.lwc_percent)
-                          .permittivity(fc)).real
-            e_b = complex(mat.snow(rho_b, layer.lwc_percent).permittivity(fc)).real
+            _, K, r = clutter_block_contrast(layers[min(j, len(layers) - 1)], fc)
             k = 2 * math.pi * fc * n / C0_M_S
-            K = (e_b - e_s) / (e_b + 2 * e_s)
-            r = (math.sqrt(e_s) - math.sqrt(e_b)) / (math.sqrt(e_s) + math.sqrt(e_b))
             sigma = np.minimum(4 * math.pi * k**4 * a**6 * K**2, math.pi * a * a * r * r)
             self.amp2.append(float(np.mean(sigma)) / (4 * math.pi) / n**2)
 

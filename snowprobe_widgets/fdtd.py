@@ -105,9 +105,7 @@ def frozen_at(material: Material, freq_hz: float) -> Material:
     """
     if material.perfect_conductor:
         return material
-    eps = complex(material.permittivity(freq_hz))
-    sigma = 2 * math.pi * freq_hz * EPS0_F_M * max(-eps.imag, 0.0)
-    out = rock(eps.real, sigma)
+    out = rock(*_frozen_params(material, freq_hz))
     return dataclasses.replace(
         out, name=f"{material.name} (frozen at {freq_hz / 1e9:g} GHz)",
         source=f"{material.source}; frozen at {freq_hz:g} Hz")

@@ -33,7 +33,14 @@ import numpy as np
 
 from .constants import C0_M_S
 
-__all__ = ["RayResult", "solve_rays", "RayTable"]
+__all__ = ["RayResult", "solve_rays", "RayTable", "layers_above_m", "ray_polyline"]
+
+
+def layers_above_m(thickness_m: np.ndarray, depth_m: float) -> np.ndarray:
+    """How much of each layer lies above ``depth_m`` (surface at 0), m, shape (n_layers,)."""
+    thick = np.asarray(thickness_m, float)
+    tops = np.concatenate([[0.0], np.cumsum(thick)[:-1]])
+    return np.clip(depth_m - tops, 0.0, thick)
 
 
 @dataclass(frozen=True, eq=False)

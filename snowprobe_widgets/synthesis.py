@@ -59,11 +59,12 @@ from .facets import FacetMesh, cylinder_mesh, ellipsoid_mesh, plate_mesh
 from .layered import reflection, stack_coefficients
 from .radar_equation import antenna_factor, beam_weight, noise_rms
 from .radargram import Radargram, TruthMarker
-from .raypaths import AlongX, RayTable, solve_rays
+from .raypaths import AlongX, RayTable, layers_above_m, solve_rays
 from .trace import column_response, evaluate_column
 
 __all__ = ["COMPONENTS", "simulate", "object_mesh", "ColumnOptics", "column_optics",
-           "target_reflection", "vertical_dispersion"]
+           "target_reflection", "target_reflection_spectrum", "vertical_dispersion",
+           "index_offsets", "dispersion_factor", "clutter_block_contrast"]
 
 #: What a radargram can be made of; ``simulate(..., components=...)`` picks a subset.
 COMPONENTS: tuple[str, ...] = ("layers", "objects", "clutter", "noise")
@@ -141,53 +142,89 @@ def object_mesh(obj: Any, facet_size_m: float) -> FacetMesh:
     raise ValueError(f"object kind {kind!r} is not one of person, boulder, branch, metal")
 
 
-def target_reflection(obj: Any, snow_eps: complex, fc: float,
-                      freq_hz: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """(|r(fc, angle)| / |r(fc, 0)| on _ANGLES_DEG, r(f, 0) on freq_hz) for one object.
-
-    The incident medium is the snow around the object (real part: lossless incident
-    medium for oblique incidence, as :func:`layered.reflection` requires).
-    """
-    eps_in = snow_eps.real
-    if obj.kind == "metal":
-        return np.ones_like(_ANGLES_DEG), -np.ones(freq_hz.size, complex)
+def _stack_at(obj: Any, eps_in: float, freq: Any) -> tuple[list, tuple]:
+    """Permittivities [snow, ...object layers] at ``freq`` and the inner thicknesses."""
     if obj.kind == "person":
         mats, thick = obj.tissue_stack()
-        stack_fc = [eps_in] + [complex(m.permittivity(fc)) for m in mats]
-        stack_f = [eps_in] + [m.permittivity(freq_hz) for m in mats]
-    else:
-        m = obj.material() if obj.kind == "boulder" else mat.rock(obj.permittivity, 0.0)
-        thick = ()
-        stack_fc = [eps_in, complex(m.permittivity(fc))]
-        stack_f = [eps_in, m.permittivity(freq_hz)]
+        return [eps_in] + [m.permittivity(freq) for m in mats], thick
+    m = obj.material() if obj.kind == "boulder" else mat.rock(obj.permittivity, 0.0)
+    return [eps_in, m.permittivity(freq)], ()
+
+
+def target_reflection_spectrum(obj: Any, snow_eps: complex, freq_hz: np.ndarray) -> np.ndarray:
+    """Normal-incidence reflection r(f) of an object's surface seen from the snow around it.
+
+    The incident medium is the real part of ``snow_eps`` (lossless, as
+    :func:`layered.reflection` requires at oblique incidence); -1 for metal.
+    """
+    if obj.kind == "metal":
+        return -np.ones(np.size(freq_hz), complex)
+    stack, thick = _stack_at(obj, snow_eps.real, freq_hz)
+    return np.asarray(reflection(freq_hz, stack, thick), complex)
+
+
+def target_reflection(obj: Any, snow_eps: complex, fc: float,
+                      freq_hz: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(|r(fc, angle)| / |r(fc, 0)| on _ANGLES_DEG, r(f, 0) on freq_hz) for one object
+    (:func:`target_reflection_spectrum` for the second)."""
+    spectrum = target_reflection_spectrum(obj, snow_eps, freq_hz)
+    if obj.kind == "metal":
+        return np.ones_like(_ANGLES_DEG), spectrum
+    eps_in = snow_eps.real
+    stack_fc, thick = _stack_at(obj, eps_in, fc)
     # all angles at once through the layered kernel (the public function takes one angle)
     na = _ANGLES_DEG.size
-    eps_a = np.array([np.full(na, e, complex) for e in stack_fc])
+    eps_a = np.array([np.full(na, complex(e), complex) for e in stack_fc])
     sin2 = eps_in * np.sin(np.radians(_ANGLES_DEG)) ** 2
     k0 = np.full(na, 2 * math.pi * fc / C0_M_S)
     r_angle = np.abs(stack_coefficients(k0, eps_a, np.asarray(thick, float), sin2, "TE")[0])
-    r_angle = r_angle / max(r_angle[0], 1e-30)
-    return r_angle, np.asarray(reflection(freq_hz, stack_f, thick), complex)
+    return r_angle / max(r_angle[0], 1e-30), spectrum
+
+
+def index_offsets(optics: ColumnOptics, freq_hz: np.ndarray) -> list[np.ndarray]:
+    """n_j(f) - n'_j(fc) of every layer over ``freq_hz`` (decaying branch, Im <= 0)."""
+    out = []
+    for m, n_fc in zip(optics.materials, optics.index, strict=True):
+        n_f = np.sqrt(m.permittivity(freq_hz).astype(complex))
+        out.append(np.where(n_f.imag > 0, -n_f, n_f) - n_fc)
+    return out
+
+
+def dispersion_factor(offsets: list[np.ndarray], k0: np.ndarray, above_m: np.ndarray,
+                      alpha_np_m: np.ndarray) -> np.ndarray:
+    """exp(-2 j k0 sum_j (n_j(f) - n'_j(fc)) D_j) * exp(+2 sum_j alpha_j(fc) D_j).
+
+    Two-way dispersion and frequency-dependent attenuation relative to the centre-frequency
+    values that facet delays and gains already carry (D_j: ``above_m``).
+    """
+    phase = np.zeros(k0.size, complex)
+    for dn, d in zip(offsets, above_m, strict=True):
+        if d > 0:
+            phase += dn * d
+    return np.exp(-2j * k0 * phase) * np.exp(2 * float(np.dot(alpha_np_m, above_m)))
 
 
 def vertical_dispersion(optics: ColumnOptics, depth_m: float, fc: float,
-                         freq_hz: np.ndarray) -> np.ndarray:
-    """Two-way dispersion and frequency-dependent attenuation relative to the fc values.
-
-    exp(-2 j k0 sum_j (n_j(f) - n'_j(fc)) D_j) * exp(+2 sum_j alpha_j(fc) D_j) over the
-    layers above ``depth_m`` (D_j the part of layer j above it).
-    """
-    tops = np.concatenate([[0.0], np.cumsum(optics.thickness_m)[:-1]])
-    D = np.clip(depth_m - tops, 0.0, optics.thickness_m)
+                        freq_hz: np.ndarray) -> np.ndarray:
+    """:func:`dispersion_factor` over the layers above ``depth_m``, straight down."""
     k0 = 2 * math.pi * freq_hz / C0_M_S
-    phase = np.zeros(freq_hz.size, complex)
-    for m, d, n_fc in zip(optics.materials, D, optics.index, strict=True):
-        if d <= 0:
-            continue
-        n_f = np.sqrt(m.permittivity(freq_hz).astype(complex))
-        n_f = np.where(n_f.imag > 0, -n_f, n_f)
-        phase += (n_f - n_fc) * d
-    return np.exp(-2j * k0 * phase) * np.exp(2 * float(np.dot(optics.alpha_np_m, D)))
+    return dispersion_factor(index_offsets(optics, freq_hz), k0,
+                             layers_above_m(optics.thickness_m, depth_m), optics.alpha_np_m)
+
+
+def clutter_block_contrast(layer: Any, fc: float) -> tuple[float, float, float]:
+    """(n of the snow, Rayleigh factor K, normal-incidence r) of a debris block in ``layer``.
+
+    The block is snow of the layer's water content and CLUTTER_BLOCK_EXTRA_DENSITY_KG_M3
+    denser (at most the pore space allows); K = (e_b - e_s) / (e_b + 2 e_s) and
+    r = (n_s - n_b) / (n_s + n_b) from the real permittivities at ``fc``.
+    """
+    rho_b = min(layer.density_kg_m3 + CLUTTER_BLOCK_EXTRA_DENSITY_KG_M3,
+                917.0 * (1 - layer.lwc_percent / 100.0))
+    e_s = complex(mat.snow(layer.density_kg_m3, layer.lwc_percent).permittivity(fc)).real
+    e_b = complex(mat.snow(rho_b, layer.lwc_percent).permittivity(fc)).real
+    n_s, n_b = math.sqrt(e_s), math.sqrt(e_b)
+    return n_s, (e_b - e_s) / (e_b + 2 * e_s), (n_s - n_b) / (n_s + n_b)
 
 
 @dataclass
@@ -366,15 +403,7 @@ def _clutter_parts(scenario: Any, optics: ColumnOptics, pulse: Any, grid: _Grid
     fc = pulse.center_frequency_hz
     x, y, z, size = field.x_m, field.y_m, field.z_m, field.size_m
     snowpack = scenario.snowpack
-    per_layer = []  # (amplitude factor sqrt(pi)/sqrt(4 pi) / n, K, r, k) per snow layer
-    for layer in snowpack.layers:
-        rho_b = min(layer.density_kg_m3 + CLUTTER_BLOCK_EXTRA_DENSITY_KG_M3,
-                    917.0 * (1 - layer.lwc_percent / 100.0))
-        e_s = complex(mat.snow(layer.density_kg_m3, layer.lwc_percent).permittivity(fc)).real
-        e_b = complex(mat.snow(rho_b, layer.lwc_percent).permittivity(fc)).real
-        n_s = math.sqrt(e_s)
-        per_layer.append((n_s, (e_b - e_s) / (e_b + 2 * e_s),
-                          (n_s - math.sqrt(e_b)) / (n_s + math.sqrt(e_b))))
+    per_layer = [clutter_block_contrast(layer, fc) for layer in snowpack.layers]
     idx = np.minimum(np.searchsorted(snowpack.interfaces_m, z, side="left"),
                      len(snowpack.layers) - 1)
     n_s = np.array([p[0] for p in per_layer])[idx]
