@@ -44,7 +44,7 @@ from ._validate import check_range
 from .constants import C0_M_S, EPS0_F_M
 from .materials import Material, rock
 from .pulses import Pulse
-from .trace import Trace, _echo_times, check_column
+from .trace import Trace, check_column, echo_times
 
 __all__ = ["FdtdGrid", "FdtdResult", "frozen_at", "plan_grid", "fdtd_trace"]
 
@@ -148,7 +148,7 @@ def plan_grid(
     # depth of the ground needed so that its far end stays silent inside the window
     e_g, _ = params[-1]
     v_g = C0_M_S / math.sqrt(e_g)
-    t_ground = _echo_times(materials, d, antenna_height_m, f0)[-1][1]
+    t_ground = echo_times(materials, d, antenna_height_m, f0)[-1][1]
     ground_m = 0.0 if pec else max(0.5 * v_g * max(window_s - t_ground, 0.0), 0.0) + 20 * dz
     ground_m += 3.0 / f0 * v_g  # pulse length
     top = _PAD_CELLS * dz
@@ -257,5 +257,5 @@ def fdtd_trace(
     reflected = _run(eps_r, sigma, pec, grid, lambda tt: pulse.waveform(tt - t0), progress)
     t_out = np.arange(n_samples) * dt_out
     amp = np.interp(t_out + t0, t, reflected, left=0.0, right=0.0)
-    echoes = tuple(_echo_times(materials, d, h, pulse.center_frequency_hz))
+    echoes = tuple(echo_times(materials, d, h, pulse.center_frequency_hz))
     return FdtdResult(Trace(t_out, amp, echoes), grid, time.perf_counter() - start)

@@ -101,6 +101,12 @@ class ColumnOptics:
     alpha_np_m: np.ndarray
     materials: tuple
 
+    @property
+    def mean_velocity_m_s(self) -> float:
+        """Average radar velocity straight down through the whole snowpack, m/s:
+        total thickness over total one-way travel time."""
+        return float(C0_M_S * self.thickness_m.sum() / np.dot(self.thickness_m, self.index))
+
 
 def column_optics(scenario: Any) -> ColumnOptics:
     """Real index and attenuation of each snow layer at the radar's centre frequency."""

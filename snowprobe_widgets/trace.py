@@ -45,7 +45,7 @@ from .materials import Material
 from .pulses import Pulse
 
 __all__ = ["Trace", "synthesize_trace", "column_response", "fft_grid", "evaluate_column",
-           "check_column"]
+           "check_column", "echo_times"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -159,8 +159,11 @@ def evaluate_column(materials: Sequence[Material], freq_hz: np.ndarray) -> np.nd
     return out
 
 
-def _echo_times(materials: Sequence[Material], thickness_m: np.ndarray, h: float,
-                fc: float) -> list[tuple[str, float]]:
+def echo_times(materials: Sequence[Material], thickness_m: np.ndarray, h: float,
+               fc: float) -> list[tuple[str, float]]:
+    """Labelled two-way times of the column's primary echoes, s, straight below an antenna
+    at height ``h``: ``[("surface", 2h/c), ("interface 1", ...), ..., ("ground", ...)]``,
+    with each layer's real index at ``fc``."""
     n = [float(m.refractive_index(fc).real) for m in materials[:-1]]
     t = 2 * h / C0_M_S
     out = [("surface", t)]
@@ -229,7 +232,7 @@ def synthesize_trace(
     d = check_column(materials, thickness_m)
     f_lo, f_hi = pulse.band_hz()
     dt = check_range("dt_s", dt_s, 1e-13, 1.0 / (2 * f_hi), unit="s")
-    echoes = _echo_times(materials, d, h, pulse.center_frequency_hz)
+    echoes = echo_times(materials, d, h, pulse.center_frequency_hz)
     n_fft, f = fft_grid(dt, n_samples, echoes[-1][1], pulse, mode)
     band = (f >= max(f_lo, 1e6)) & (f <= f_hi)
     fb = f[band]

@@ -30,8 +30,8 @@ from snowprobe_widgets.fdtd import fdtd_trace, frozen_at
 from snowprobe_widgets.processing import ProcessingChain
 from snowprobe_widgets.radargram import Radargram
 from snowprobe_widgets.scene import Scenario
-from snowprobe_widgets.synthesis import simulate
-from snowprobe_widgets.trace import synthesize_trace
+from snowprobe_widgets.synthesis import column_optics, simulate
+from snowprobe_widgets.trace import echo_times, synthesize_trace
 from snowprobe_widgets.widgets import exports
 from snowprobe_widgets.widgets._common import (
     caution_box,
@@ -63,7 +63,6 @@ from snowprobe_widgets.widgets.views import (
 #: CSS classes of the file controls (browser tests rely on them).
 SAVE_CLASS, OPEN_CLASS, PATH_CLASS = "sp-save", "sp-open", "sp-file-path"
 
-_C0_M_S = 299_792_458.0
 _NS = 1e-9
 
 
@@ -370,9 +369,9 @@ class ScenarioExplorer(widgets.VBox):
         view.radargram = rg
         echoes = self._column_echoes()
         times = dict(echoes)
-        if "surface" in times and "ground" in times and times["ground"] > times["surface"]:
-            v = 2.0 * self.scenario.snowpack.depth_m / (times["ground"] - times["surface"])
-            view.set_depth_axis(times["surface"], min(v, _C0_M_S))
+        if "surface" in times:
+            view.set_depth_axis(times["surface"],
+                                column_optics(self.scenario).mean_velocity_m_s)
         if pick_m is not None or view.picked_position_m is None:
             view.pick_position(pick_m if pick_m is not None else float(rg.position_m[0]))
         self._update_trace()
@@ -384,9 +383,8 @@ class ScenarioExplorer(widgets.VBox):
         if self._echoes is None or self._echoes[0] != key:
             mats, d = _column_media(s)
             r = s.radar
-            tr = synthesize_trace(mats, d, antenna_height_m=r.antenna_height_m,
-                                  pulse=r.make_pulse(), dt_s=r.dt_s, n_samples=r.n_samples)
-            self._echoes = (key, [(str(n), float(t)) for n, t in tr.echoes])
+            times = echo_times(mats, d, r.antenna_height_m, r.center_frequency_hz)
+            self._echoes = (key, [(str(n), float(t)) for n, t in times])
         return self._echoes[1]
 
     def _update_trace(self) -> None:
