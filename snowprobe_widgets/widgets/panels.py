@@ -37,6 +37,7 @@ from snowprobe_widgets.scene import (
     Survey,
 )
 from snowprobe_widgets.scene_objects import GROUND_KINDS, POSTURES
+from snowprobe_widgets.targets import kind_of
 from snowprobe_widgets.widgets._common import (
     dropdown,
     float_slider,
@@ -402,9 +403,6 @@ class PersonPanel(_ListPanel):
 
 
 # --------------------------------------------------------------------------- debris
-_OBJECT_NAMES = {"boulder": "boulder", "branch": "branch or trunk", "metal": "metal (ski, shovel)"}
-
-
 class DebrisPanel(_ListPanel):
     """Boulders, branches and metal objects, and the random debris clutter."""
 
@@ -468,13 +466,10 @@ class DebrisPanel(_ListPanel):
             o = objects[i]
             changes: dict[str, Any] = dict(position_m=self.position.value,
                                            depth_m=self.depth.value, offset_m=self.offset.value)
-            if o.kind == "metal":
-                changes["length_m"] = self.size.value
+            kind = kind_of(o)
+            changes[kind.size_field] = self.size.value
+            if kind.has_heading:
                 changes["heading_deg"] = self.heading.value
-            else:
-                changes["diameter_m"] = self.size.value
-                if o.kind == "branch":
-                    changes["heading_deg"] = self.heading.value
             objects[i] = dataclasses.replace(o, **changes)
         clutter = Clutter(scatterer_density_per_m3=self.density.value,
                           scatterer_size_m=self.block_size.value * _CM,
@@ -484,15 +479,16 @@ class DebrisPanel(_ListPanel):
         return {"objects": tuple(objects), "clutter": clutter}
 
     def _label(self, k: int, item: Any) -> str:
-        return f"{k + 1}: {_OBJECT_NAMES.get(item.kind, item.kind)}"
+        return f"{k + 1}: {kind_of(item).title}"
 
     def _show_item(self, o: Any) -> None:
         self._set(self.position, float(o.position_m))
         self._set(self.depth, float(o.depth_m))
         self._set(self.offset, float(o.offset_m))
-        self._set(self.size, float(o.length_m if o.kind == "metal" else o.diameter_m))
+        kind = kind_of(o)
+        self._set(self.size, float(getattr(o, kind.size_field)))
         self._set(self.heading, float(np.clip(getattr(o, "heading_deg", 0.0), -180, 180)))
-        self.heading.disabled = o.kind == "boulder"
+        self.heading.disabled = not kind.has_heading
 
 
 # --------------------------------------------------------------------------- radar
