@@ -493,6 +493,8 @@ class DebrisPanel(_ListPanel):
 
 # --------------------------------------------------------------------------- radar
 _STACKING = tuple(2**k for k in range(17))
+#: Radar.polarization values with their plain names.
+_POLARIZATION_OPTIONS = [("across the line", "across_line"), ("along the line", "along_line")]
 
 
 class RadarPanel(Panel):
@@ -514,6 +516,7 @@ class RadarPanel(Panel):
         self.gain = float_slider("antenna gain (dBi)", 6.0, -10.0, 30.0, 0.5, readout_format=".1f")
         self.beamwidth = float_slider("beamwidth (deg)", 60.0, 5.0, 180.0, 1.0,
                                       readout_format=".0f")
+        self.polarization = dropdown("electric field", _POLARIZATION_OPTIONS, "across_line")
         self.dt = log_slider("sample interval (ps)", 100.0, 1.0, 10000.0, readout_format=".0f")
         self.window = log_slider("time window (ns)", 51.2, 1.0, 100000.0, readout_format=".1f")
         self.spacing = log_slider("trace spacing (cm)", 5.0, 0.1, 10000.0, readout_format=".1f")
@@ -523,10 +526,11 @@ class RadarPanel(Panel):
             section_title("Pulse"), self.pulse, self.frequency, self.own_bandwidth,
             self.bandwidth, section_title("Power and noise"), self.power, self.noise,
             self.stacking, section_title("Antenna"), self.height, self.gain, self.beamwidth,
-            section_title("Recording and survey line"), self.dt, self.window, self.spacing,
-            self.start, self.end])
+            self.polarization, section_title("Recording and survey line"), self.dt,
+            self.window, self.spacing, self.start, self.end])
         self._watch(self.pulse, self.frequency, self.own_bandwidth, self.bandwidth, self.height,
-                    self.power, self.noise, self.stacking, self.gain, self.beamwidth, self.dt,
+                    self.power, self.noise, self.stacking, self.gain, self.beamwidth,
+                    self.polarization, self.dt,
                     self.window, self.spacing, self.start, self.end)
         self.own_bandwidth.observe(
             lambda c: setattr(self.bandwidth, "disabled", bool(c["new"])), names="value")
@@ -553,6 +557,7 @@ class RadarPanel(Panel):
                 self._quiet -= 1
         self._set(self.gain, float(r.antenna_gain_dbi))
         self._set(self.beamwidth, float(r.beamwidth_deg))
+        self._set(self.polarization, r.polarization)
         self._set(self.dt, r.dt_s / _PS)
         self._set(self.window, r.time_window_s / _NS)
         self._set(self.spacing, s.trace_spacing_m / _CM)
@@ -566,7 +571,8 @@ class RadarPanel(Panel):
             transmit_power_dbm=self.power.value, noise_floor_dbm=self.noise.value,
             stacking=int(self.stacking.value), antenna_gain_dbi=self.gain.value,
             dt_s=self.dt.value * _PS, time_window_s=self.window.value * _NS,
-            antenna_height_m=self.height.value, beamwidth_deg=self.beamwidth.value)
+            antenna_height_m=self.height.value, beamwidth_deg=self.beamwidth.value,
+            polarization=self.polarization.value)
         survey = Survey(self.start.value, self.end.value, self.spacing.value * _CM)
         return {"radar": radar, "survey": survey}
 
