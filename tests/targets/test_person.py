@@ -39,7 +39,7 @@ def test_physical_optics_is_rough_below_its_domain() -> None:
 
 def _scene(fc: float) -> Scenario:
     return Scenario(Snowpack((Layer(3.0, 300.0),)), Ground(), (Person(5.0, 1.0),),
-                    radar=Radar(center_frequency_hz=fc, dt_s=2e-10, time_window_s=60e-9))
+                    radar=Radar(center_frequency_hz=fc, dt_s=1e-10, time_window_s=60e-9))
 
 
 def test_body_at_50_mhz_is_outside_and_at_800_mhz_inside() -> None:
