@@ -32,7 +32,8 @@ transmission ``T2 = t_down t_up`` and ``k0``, the TE admittance ratios telescope
 of the ray tube across the ray where it ends, not where it left the antenna. Counting
 ``R_par`` instead made hyperbola flanks too bright by ``cos(theta_loc) / cos(theta_0)``
 (+2.3 dB at 53 deg in air over snow of index 1.28, measured against 3-D ray-tube theory
-of a sphere in ``tests/test_hyperbola_flank.py``). At normal incidence both
+of a sphere and the 2-D FDTD of :mod:`snowprobe_widgets.fdtd2d` for a buried cylinder in
+``tests/test_hyperbola_flank.py``). At normal incidence both
 equal ``h + sum_j D_j / n_j``, the image distance used by the point-antenna trace.
 
 :class:`RayTable` tabulates these on a grid of (X, z) for fast bilinear look-up.
