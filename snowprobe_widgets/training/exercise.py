@@ -261,18 +261,22 @@ def _clear(a: Any, b: Any) -> bool:
 
 def _people(rng: np.random.Generator, lv: Level, n: int, length_m: float) -> list[Person]:
     people: list[Person] = []
-    while len(people) < n:
+    for _try in range(_PLACE_TRIES * 25):
+        if len(people) == n:
+            break
         x = float(rng.uniform(_END_MARGIN_M, length_m - _END_MARGIN_M))
         depth = _uniform(rng, lv.burial_depth_m)
         posture = _pick(rng, lv.postures)
         heading = float(rng.uniform(0.0, 180.0))
         offset = _uniform(rng, lv.person_offset_m) * float(rng.choice([-1.0, 1.0]))
         height = float(rng.uniform(1.55, 1.9))
-        if any(abs(x - p.position_m) < _PERSON_GAP_M for p in people):
-            continue
-        people.append(Person(x, depth, offset_m=offset, heading_deg=heading,
-                             posture=posture, height_m=height,
-                             label=f"person {len(people) + 1}"))
+        person = Person(x, depth, offset_m=offset, heading_deg=heading, posture=posture,
+                        height_m=height, label=f"person {len(people) + 1}")
+        if all(abs(x - p.position_m) >= _PERSON_GAP_M and _clear(person, p) for p in people):
+            people.append(person)
+    if len(people) < n:
+        raise ValueError(f"level {lv.name!r}: {n} people do not fit on a {length_m:g} m line "
+                         f"(line_length_m too short)")
     return people
 
 

@@ -253,7 +253,7 @@ def _check_level(lv: Level) -> None:
     # each range end through the constructor it feeds
     d_lo, d_hi = lv.density_kg_m3
     for f, lo, hi in (("burial_depth_m", 0.1, 5.0), ("snow_below_m", 0.1, 10.0),
-                      ("line_length_m", 4.0, 40.0), ("person_offset_m", 0.0, 2.0)):
+                      ("line_length_m", 8.0, 40.0), ("person_offset_m", 0.0, 2.0)):
         for end in getattr(lv, f):
             _constructor(name, f, lambda e=end, f=f, lo=lo, hi=hi: check_range(
                 f, e, lo, hi, unit="m"))
