@@ -12,7 +12,8 @@ processed radargram (:meth:`Exercise.searcher_view`), marks where a person lies 
 
 Modules: :mod:`.levels` (the declared level table and level files), :mod:`.exercise`
 (drawing scenes), :mod:`.scoring`, :mod:`.debrief`, :mod:`.records` (session records,
-class summary, answer key). No user-interface library is imported here.
+class summary, answer key), :mod:`.guide` (scenes for the reading guide). No
+user-interface library is imported here.
 """
 
 from __future__ import annotations
@@ -26,6 +27,7 @@ from .exercise import (
     make_exercise,
     round_seed,
 )
+from .guide import GuideScene, guide_scenes
 from .levels import (
     FALSE_TARGET_KINDS,
     LEVEL_TABLE,
@@ -58,6 +60,7 @@ __all__ = [
     "DepthAxis",
     "Exercise",
     "FalseTarget",
+    "GuideScene",
     "Level",
     "LevelFileError",
     "MarkOutcome",
@@ -71,6 +74,7 @@ __all__ = [
     "class_summary",
     "debrief",
     "get_level",
+    "guide_scenes",
     "level_from_json",
     "level_to_json",
     "make_exercise",

@@ -88,7 +88,8 @@ class RoundRecord:
     seed : int
         The exercise's seed (:func:`~.exercise.round_seed` of the session).
     marks : tuple of (float, float) or None
-        The marks; ``None`` when the answer was "nobody here".
+        The marks ``(position_m, depth_m)``, kept to the millimetre; ``None`` when the
+        answer was "nobody here".
     people : int
         How many people were buried.
     finds, misses, false_alarms, duplicates : int
@@ -96,7 +97,7 @@ class RoundRecord:
     fooled_by : tuple of str
         What each false alarm lay on.
     seconds : float
-        From the round shown to the answer submitted, s.
+        From the round shown to the answer submitted, s, kept to 0.01 s.
     """
 
     round: int
@@ -124,16 +125,16 @@ class RoundRecord:
                              f"{self.correct_nobody!r}")
         if self.marks is not None:
             object.__setattr__(self, "marks", tuple(
-                (check_range(f"marks[{i}].position_m", m[0], unit="m"),
-                 check_range(f"marks[{i}].depth_m", m[1], 0.0, 100.0, unit="m"))
+                (round(check_range(f"marks[{i}].position_m", m[0], unit="m"), 3),
+                 round(check_range(f"marks[{i}].depth_m", m[1], 0.0, 100.0, unit="m"), 3))
                 for i, m in enumerate(self.marks)))
         fooled = tuple(self.fooled_by)
         for k in fooled:
             if k not in _FOOLED_KINDS:
                 raise ValueError(f"fooled_by holds {k!r}; allowed: {', '.join(_FOOLED_KINDS)}")
         object.__setattr__(self, "fooled_by", fooled)
-        object.__setattr__(self, "seconds", check_range("seconds", self.seconds, 0.0, 86400.0,
-                                                        unit="s"))
+        object.__setattr__(self, "seconds", round(check_range(
+            "seconds", self.seconds, 0.0, 86400.0, unit="s"), 2))
 
     @classmethod
     def from_score(cls, round_number: int, seed: int, result: Score,
@@ -152,7 +153,7 @@ class RoundRecord:
                 "people": self.people, "finds": self.finds, "misses": self.misses,
                 "false_alarms": self.false_alarms, "duplicates": self.duplicates,
                 "correct_nobody": self.correct_nobody, "fooled_by": list(self.fooled_by),
-                "seconds": round(self.seconds, 2)}
+                "seconds": self.seconds}
 
 
 @dataclass(frozen=True)
