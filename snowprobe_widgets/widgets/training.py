@@ -39,6 +39,8 @@ from snowprobe_widgets.widgets.views import CrossSectionView
 __all__ = ["STATUS_CLASS", "TrainingSession", "download_link"]
 
 #: CSS class of the status line; browser tests wait on its ``draws=N`` and ``state=``.
+#: Controls carry ``sp-training-<part>`` classes (rounds, seed, label, start, nobody,
+#: submit, next, radargram) and download links ``sp-download``.
 STATUS_CLASS = "sp-training-status"
 #: Smallest touch target, px (WCAG 2.5.5 target size: 44 x 44 CSS px).
 TOUCH_PX = 48
@@ -175,6 +177,14 @@ class TrainingSession(widgets.VBox):
         self.status = widgets.HTML()
         self.status.add_class(STATUS_CLASS)
         self.debrief_box = widgets.VBox()
+        for w, cls in ((self.rounds, "sp-training-rounds"), (self.seed, "sp-training-seed"),
+                       (self.label, "sp-training-label"),
+                       (self.start_button, "sp-training-start"),
+                       (self.nobody_button, "sp-training-nobody"),
+                       (self.submit_button, "sp-training-submit"),
+                       (self.next_button, "sp-training-next"),
+                       (self.radargram_view, "sp-training-radargram")):
+            w.add_class(cls)
         self.nobody_button.observe(self._on_nobody, names="value")
         self.clear_button.on_click(lambda _: self.clear_marks())
         self.submit_button.on_click(lambda _: self.submit())
