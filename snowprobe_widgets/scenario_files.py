@@ -121,7 +121,8 @@ _RADAR = _Spec(Radar, {
     "pulse": _STR, "center_frequency_hz": _NUM, "bandwidth_hz": _OPT_NUM,
     "transmit_power_dbm": _NUM, "noise_floor_dbm": _NUM, "stacking": _INT,
     "antenna_gain_dbi": _NUM, "dt_s": _NUM, "time_window_s": _NUM, "antenna_height_m": _NUM,
-    "beamwidth_deg": _NUM})
+    "beamwidth_deg": _NUM, "antenna_band_low_hz": _OPT_NUM, "antenna_band_high_hz": _OPT_NUM,
+    "dynamic_range_db": _NUM, "ringing_level_db": _NUM, "ringing_time_s": _OPT_NUM})
 _SURVEY = _Spec(Survey, {"start_m": _NUM, "end_m": _NUM, "trace_spacing_m": _NUM})
 _CLUTTER = _Spec(Clutter, {"scatterer_density_per_m3": _NUM, "scatterer_size_m": _NUM,
                            "thin_layer_count": _INT, "thin_layer_contrast": _NUM,
