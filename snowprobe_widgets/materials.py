@@ -62,6 +62,9 @@ class Material:
         (lowest, highest) frequency of the model's published calibration, Hz. Between it
         and the refusal range the model still computes, and :meth:`validity_note` says so
         in plain words (a scenario shows these notes as warnings).
+    model_name : str
+        Short name of the model and its source for those notes ("wet-snow model of
+        Tiuri et al. 1984"); empty: ``name``.
     """
 
     name: str
@@ -72,6 +75,7 @@ class Material:
     freq_max_hz: float = FREQ_MAX_HZ
     perfect_conductor: bool = False
     valid_hz: tuple[float, float] = (FREQ_MIN_HZ, FREQ_MAX_HZ)
+    model_name: str = ""
 
     def validity_note(self, freq_hz: float) -> str:
         """A plain-language warning when ``freq_hz`` lies outside :attr:`valid_hz`, else "".
@@ -84,8 +88,8 @@ class Material:
         lo, hi = self.valid_hz
         if lo <= freq_hz <= hi:
             return ""
-        return (f"{self.name}: the model ({self.source}) is calibrated for "
-                f"{_mhz(lo)}-{_mhz(hi)}; at {_mhz(freq_hz)} it is extrapolated")
+        return (f"The {self.model_name or self.name} is calibrated for {_mhz(lo)}-{_mhz(hi)}; "
+                f"at {_mhz(freq_hz)} it is extrapolated.")
 
     def permittivity(self, freq_hz: object) -> np.ndarray:
         """Complex relative permittivity eps' - j eps'' at ``freq_hz`` (Hz, > 0).
@@ -235,7 +239,8 @@ def _dry(name: str, source: str, eps_real: float, density: float, temperature_c:
          valid_hz: tuple[float, float] = _DRY_SNOW_VALID_HZ) -> Material:
     v_ice = density / RHO_ICE_KG_M3
     return Material(f"dry snow {density:g} kg/m3 ({name})", source, _dry_snow,
-                    (float(eps_real), v_ice, float(temperature_c)), valid_hz=valid_hz)
+                    (float(eps_real), v_ice, float(temperature_c)), valid_hz=valid_hz,
+                    model_name=f"dry-snow model {name!r} ({source.split(';')[0]})")
 
 
 @MODELS.register("dry_snow:looyenga")
@@ -301,7 +306,7 @@ def _tiuri_wet(density_kg_m3: float, lwc_percent: float, temperature_c: float = 
                     "Tiuri et al. 1984 (water-scaled form), water Meissner & Wentz 2004; "
                     "nominal 0.5-1 GHz, W <= 6 %", _tiuri_wet_kernel,
                     (density_kg_m3 / 1000.0, w, density_kg_m3 / RHO_ICE_KG_M3, 0.0),
-                    valid_hz=(0.5e9, 1e9))
+                    valid_hz=(0.5e9, 1e9), model_name="wet-snow model 'tiuri' (Tiuri et al. 1984)")
 
 
 def _crim_kernel(f: np.ndarray, v_ice: float, w: float, t_c: float) -> np.ndarray:
@@ -318,7 +323,7 @@ def _crim_wet(density_kg_m3: float, lwc_percent: float, temperature_c: float = 0
                     "CRIM (Birchak et al. 1974; used for snow by Bradford et al. 2009), ice "
                     "Matzler 2006, water Meissner & Wentz 2004", _crim_kernel,
                     (density_kg_m3 / RHO_ICE_KG_M3, lwc_percent / 100.0, 0.0),
-                    valid_hz=(10e6, FREQ_MAX_HZ))
+                    valid_hz=(10e6, FREQ_MAX_HZ), model_name="wet-snow model 'crim'")
 
 
 def dry_snow_models() -> tuple[str, ...]:
@@ -379,6 +384,12 @@ def _joined(f: np.ndarray, dry: Material, wet: Material, wet_at_zero: Material) 
             - wet_at_zero.kernel(f, *wet_at_zero.params))
 
 
+def _joined_name(dry: Material, wet: Material) -> str:
+    wet_name, dry_name = wet.model_name or wet.name, dry.model_name or dry.name
+    inside = dry.valid_hz[0] <= wet.valid_hz[0] and wet.valid_hz[1] <= dry.valid_hz[1]
+    return wet_name if inside else f"{wet_name} with the {dry_name}"
+
+
 def snow(density_kg_m3: float, lwc_percent: float = 0.0, *, dry_model: str | None = None,
          wet_model: str | None = None, temperature_c: float = -5.0) -> Material:
     """The material of a snow layer: the one place that makes it (scenes call this).
@@ -414,14 +425,16 @@ def snow(density_kg_m3: float, lwc_percent: float = 0.0, *, dry_model: str | Non
         f"{dry.source}; water term of {wet.source}", _joined, (dry, wet, wet_at_zero),
         freq_min_hz=max(dry.freq_min_hz, wet.freq_min_hz),
         freq_max_hz=min(dry.freq_max_hz, wet.freq_max_hz),
-        valid_hz=(max(dry.valid_hz[0], wet.valid_hz[0]), min(dry.valid_hz[1], wet.valid_hz[1])))
+        valid_hz=(max(dry.valid_hz[0], wet.valid_hz[0]), min(dry.valid_hz[1], wet.valid_hz[1])),
+        model_name=_joined_name(dry, wet))
 
 
 def ice(temperature_c: float = -5.0) -> Material:
     """Pure ice: eps' from Mätzler & Wegmüller (1987), eps'' from Mätzler (2006)."""
     t = check_range("temperature_c", temperature_c, *TEMPERATURE_RANGE_C, unit="degC")
     return Material(f"ice {t:g} degC", "Matzler & Wegmuller 1987 eq. 10; Matzler 2006 loss; "
-                    "nominal 10 MHz-3 THz", _ice, (t,), valid_hz=(10e6, FREQ_MAX_HZ))
+                    "nominal 10 MHz-3 THz", _ice, (t,), valid_hz=(10e6, FREQ_MAX_HZ),
+                    model_name="ice model (Matzler 2006)")
 
 
 def water(temperature_c: float = 0.0) -> Material:
@@ -491,7 +504,8 @@ def soil(volumetric_water_fraction: float) -> Material:
     k = 3.03 + 9.3 * t + 146.0 * t**2 - 76.7 * t**3
     sigma = 0.001 + 0.05 * t  # common practice order of magnitude, not from Topp
     return Material(f"soil {t:g} m3/m3 water", "Topp, Davis & Annan 1980; nominal 20 MHz-1 GHz",
-                    _constant, (k, sigma), valid_hz=(20e6, 1e9))
+                    _constant, (k, sigma), valid_hz=(20e6, 1e9),
+                    model_name="soil model (Topp, Davis & Annan 1980)")
 
 
 def rock(permittivity: float, conductivity_s_m: float = 0.0) -> Material:
