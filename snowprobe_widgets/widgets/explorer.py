@@ -32,6 +32,7 @@ from snowprobe_widgets.radargram import Radargram
 from snowprobe_widgets.scene import Scenario
 from snowprobe_widgets.synthesis import column_optics, simulate
 from snowprobe_widgets.trace import echo_times, synthesize_trace
+from snowprobe_widgets.validity import scenario_warnings
 from snowprobe_widgets.widgets import exports
 from snowprobe_widgets.widgets._common import (
     caution_box,
@@ -326,6 +327,7 @@ class ScenarioExplorer(widgets.VBox):
         self.section.update(scenario)
         if pick_m is not None:
             self.radargram_view.picked_position_m = None
+        self.processing.follow_antenna_height(scenario.radar.antenna_height_m)
         self._process(pick_m)
         self._stale = {"budget": True, "materials": True}
         self._refresh_lazy()
@@ -333,7 +335,10 @@ class ScenarioExplorer(widgets.VBox):
         runs = self.simulation.runs
         self.status.value = (f"<small>updates={self.updates} | simulated: column "
                              f"{runs['column']}x, objects {runs['objects']}x, noise "
-                             f"{runs['noise']}x</small>")
+                             f"{runs['noise']}x</small>"
+                             + "".join(f"<div style='color:#7a4a00'><small>model warning: "
+                                       f"{html.escape(w)}</small></div>"
+                                       for w in scenario_warnings(scenario)))
 
     def _fill_tab(self) -> None:
         i = self.lower.selected_index
