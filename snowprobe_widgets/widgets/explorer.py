@@ -227,6 +227,8 @@ class ScenarioExplorer(widgets.VBox):
         self.export_png.on_click(lambda _: self._export("png"))
         self.export_report.on_click(lambda _: self._export("report"))
         self.status = widgets.HTML()
+        #: where a buried object's scattering method is outside its domain (model's words)
+        self.validity = widgets.HTML()
 
         file_bar = widgets.VBox([
             widgets.HBox([self.path, self.open_button, self.save_button, self.demo,
@@ -234,7 +236,7 @@ class ScenarioExplorer(widgets.VBox):
             widgets.HBox([widgets.HTML("export next to the file:"), self.export_csv,
                           self.export_npz, self.export_png, self.export_report]),
             self.file_message, self.file_status])
-        left = widgets.VBox([self.controls, self.message, self.status])
+        left = widgets.VBox([self.controls, self.message, self.status, self.validity])
         right = widgets.VBox([
             self.section, self.radargram_view,
             widgets.HBox([self.show_processed, self.mark_detections, self.detection_threshold]),
@@ -335,10 +337,9 @@ class ScenarioExplorer(widgets.VBox):
         runs = self.simulation.runs
         self.status.value = (f"<small>updates={self.updates} | simulated: column "
                              f"{runs['column']}x, objects {runs['objects']}x, noise "
-                             f"{runs['noise']}x</small>"
-                             + "".join(f"<div style='color:#7a4a00'><small>model warning: "
-                                       f"{html.escape(w)}</small></div>"
-                                       for w in scenario_warnings(scenario)))
+                             f"{runs['noise']}x</small>")
+        self.validity.value = "".join(f"<small>&#9888; {html.escape(w)}</small><br>"
+                                      for w in scenario_warnings(scenario))
 
     def _fill_tab(self) -> None:
         i = self.lower.selected_index
