@@ -572,10 +572,10 @@ def test_velocity_analysis_recovers_material_model_velocity_on_simulated_data(
     # radius must return c0 / n'(fc) of the dry-snow model (Looyenga 1965) within 3 %.
     from snowprobe_widgets import simulate
     from snowprobe_widgets.scene import (
-        Boulder,
         Clutter,
         Ground,
         Layer,
+        MetalPlate,
         Radar,
         Scenario,
         Snowpack,
@@ -612,7 +612,7 @@ def _focus(data: np.ndarray, dx: float) -> tuple[float, float]:
 
 @pytest.mark.parametrize("h", [0.05, 0.5, 3.0])
 def test_migration_through_the_air_gap_focuses(h: float) -> None:
-    # A 15 cm rock 1 m deep in dry snow, seen from h (0.05 m is the model's lowest antenna,
+    # A 10 cm metal plate 1 m deep in dry snow, seen from h (0.05 m is the model's lowest antenna,
     # standing for a ground-coupled one). The forward model draws the hyperbola along
     # refracted rays; migrating at the paraxial RMS velocity of air over snow (Dix 1955)
     # focuses it to a spot of about a wavelength at every height. The old advice (move
@@ -620,10 +620,10 @@ def test_migration_through_the_air_gap_focuses(h: float) -> None:
     # hyperbola nearly unfocused.
     from snowprobe_widgets import simulate
     from snowprobe_widgets.scene import (
-        Boulder,
         Clutter,
         Ground,
         Layer,
+        MetalPlate,
         Radar,
         Scenario,
         Snowpack,
@@ -631,7 +631,7 @@ def test_migration_through_the_air_gap_focuses(h: float) -> None:
     )
 
     sc = Scenario(Snowpack((Layer(3.0, 300.0),)), Ground("soil", 0.1), (),
-                  (Boulder(4.0, 1.0, 0.15, permittivity=8.0),),
+                  (MetalPlate(4.0, 1.0, 0.1, 0.1),),
                   Radar("ricker", 800e6, dt_s=1e-10, time_window_s=40e-9, antenna_height_m=h),
                   Survey(0.0, 8.0, 0.05), Clutter(), name="air gap")
     rg = simulate(sc, components=("objects",))
