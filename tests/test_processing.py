@@ -572,10 +572,10 @@ def test_velocity_analysis_recovers_material_model_velocity_on_simulated_data(
     # radius must return c0 / n'(fc) of the dry-snow model (Looyenga 1965) within 3 %.
     from snowprobe_widgets import simulate
     from snowprobe_widgets.scene import (
+        Boulder,
         Clutter,
         Ground,
         Layer,
-        MetalPlate,
         Radar,
         Scenario,
         Snowpack,
