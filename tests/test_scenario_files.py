@@ -311,8 +311,8 @@ FIELD_ERRORS = [
     (["scenario", "radar", "stacking"], "16",
      'scenario.radar.stacking: expected an integer, got "16"'),
     (["scenario", "radar", "dt_s"], None, "scenario.radar.dt_s: expected a number, got null"),
-    (["scenario", "radar", "center_frequency_hz"], 5e9,
-     "scenario.radar: center_frequency_hz = 5e+09 Hz is outside the allowed range"),
+    (["scenario", "radar", "center_frequency_hz"], 7e9,
+     "scenario.radar: center_frequency_hz = 7e+09 Hz is outside the allowed range"),
     (["scenario", "persons", 0, "depth_m"], 3.0,
      "scenario: persons[0] (person 'p') at depth_m = 3 m reaches down to 3.25 m, deeper "
      "than the 2.5 m snowpack"),

@@ -31,8 +31,8 @@ from snowprobe_widgets.processing import ProcessingChain
 from snowprobe_widgets.radargram import Radargram
 from snowprobe_widgets.scene import Scenario
 from snowprobe_widgets.synthesis import column_optics, simulate
-from snowprobe_widgets.targets import validity_warnings
 from snowprobe_widgets.trace import echo_times, synthesize_trace
+from snowprobe_widgets.validity import scenario_warnings
 from snowprobe_widgets.widgets import exports
 from snowprobe_widgets.widgets._common import (
     caution_box,
@@ -329,6 +329,7 @@ class ScenarioExplorer(widgets.VBox):
         self.section.update(scenario)
         if pick_m is not None:
             self.radargram_view.picked_position_m = None
+        self.processing.follow_antenna_height(scenario.radar.antenna_height_m)
         self._process(pick_m)
         self._stale = {"budget": True, "materials": True}
         self._refresh_lazy()
@@ -338,7 +339,7 @@ class ScenarioExplorer(widgets.VBox):
                              f"{runs['column']}x, objects {runs['objects']}x, noise "
                              f"{runs['noise']}x</small>")
         self.validity.value = "".join(f"<small>&#9888; {html.escape(w)}</small><br>"
-                                      for w in validity_warnings(scenario))
+                                      for w in scenario_warnings(scenario))
 
     def _fill_tab(self) -> None:
         i = self.lower.selected_index
