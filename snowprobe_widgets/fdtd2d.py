@@ -72,6 +72,7 @@ COURANT = 0.99 / math.sqrt(2.0)
 PML_CELLS = 12
 _ETA0 = 376.730313668
 _SUB = 4  # sub-samples per cell side for averaging
+_DTYPE = np.float32
 _MU0 = _ETA0 / C0_M_S
 
 
@@ -226,6 +227,33 @@ def grid_step_m(f_high_hz: float, max_index: float, cells_per_wavelength: float,
     return dx
 
 
+class _Slabs:
+    """CPML memory of one difference array along one axis, kept only in the two PML
+    slabs (b = 1, c = 0 elsewhere): ``slabs(d)`` updates psi = b psi + c d there, adds
+    psi to d in place and returns d."""
+
+    def __init__(self, shape: tuple[int, ...], axis: int, b: np.ndarray, c: np.ndarray
+                 ) -> None:
+        n = shape[axis]
+        width = min(PML_CELLS + 1, n)
+        self.parts = []
+        for sl in (slice(0, width), slice(n - width, n)):
+            idx = (sl, slice(None)) if axis == 0 else (slice(None), sl)
+            coef_shape = (-1, 1) if axis == 0 else (1, -1)
+            bb = b[sl].reshape(coef_shape).astype(_DTYPE)
+            cc = c[sl].reshape(coef_shape).astype(_DTYPE)
+            psi = np.zeros(np.empty(shape)[idx].shape, _DTYPE)
+            self.parts.append((idx, bb, cc, psi))
+
+    def __call__(self, d: np.ndarray) -> np.ndarray:
+        for idx, bb, cc, psi in self.parts:
+            v = d[idx]
+            psi *= bb
+            psi += cc * v
+            v += psi
+        return d
+
+
 def _cpml(n: int, pml: int, half: bool, dt: float, dx: float, f0: float
           ) -> tuple[np.ndarray, np.ndarray]:
     """CPML update coefficients (b, c) along one axis at its n integer nodes (or its n - 1
@@ -338,38 +366,36 @@ def solve_scene(
     rec_at = np.column_stack([x0 + shift + ri * dx, z0 + shift + rk * dx])
     out = np.empty((rec_pts.shape[0], n_steps))
     every = max(n_steps // 50, 1)
+    # fields in single precision (ample for a reference at 10+ cells per wavelength and
+    # halves the memory traffic); H is stored as eta0 H / S so its update needs no factor
     s = COURANT
     if pol == "TE":
         ca, cb, sf = _coefficients(*_averaged(scene, xi, zk, dx, False), dt)
-        ey = np.zeros((nx, nz))
-        hx = np.zeros((nx, nz - 1))
-        hz = np.zeros((nx - 1, nz))
-        p_hx = np.zeros_like(hx)
-        p_hz = np.zeros_like(hz)
-        p_ex = np.zeros((nx - 2, nz - 2))
-        p_ez = np.zeros((nx - 2, nz - 2))
-        bz_h, cz_h = bzh[None, :], czh[None, :]
-        bx_h, cx_h = bxh[:, None], cxh[:, None]
-        bz_i, cz_i = bzi[None, 1:-1], czi[None, 1:-1]
-        bx_i, cx_i = bxi[1:-1, None], cxi[1:-1, None]
-        ca_in, cb_in = ca[1:-1, 1:-1], cb[1:-1, 1:-1]
+        ey = np.zeros((nx, nz), _DTYPE)
+        hx = np.zeros((nx, nz - 1), _DTYPE)
+        hz = np.zeros((nx - 1, nz), _DTYPE)
+        buf_hx, buf_hz = np.empty_like(hx), np.empty_like(hz)
+        buf_z, buf_x = np.empty((nx - 2, nz - 2), _DTYPE), np.empty((nx - 2, nz - 2), _DTYPE)
+        pml_hx = _Slabs(hx.shape, 1, bzh, czh)
+        pml_hz = _Slabs(hz.shape, 0, bxh, cxh)
+        pml_ez = _Slabs(buf_z.shape, 1, bzi[1:-1], czi[1:-1])
+        pml_ex = _Slabs(buf_x.shape, 0, bxi[1:-1], cxi[1:-1])
+        ca_in = ca[1:-1, 1:-1].astype(_DTYPE)
+        cb_in = (cb[1:-1, 1:-1] * s).astype(_DTYPE)
+        inner = ey[1:-1, 1:-1]
         j_fac = sf[i_s, k_s] / (dx * dx)  # line current spread over one cell
         for n in range(n_steps):
-            d = ey[:, 1:] - ey[:, :-1]
-            p_hx *= bz_h
-            p_hx += cz_h * d
-            hx += s * (d + p_hx)
-            d = ey[1:, :] - ey[:-1, :]
-            p_hz *= bx_h
-            p_hz += cx_h * d
-            hz -= s * (d + p_hz)
-            dz_ = hx[1:-1, 1:] - hx[1:-1, :-1]
-            dx_ = hz[1:, 1:-1] - hz[:-1, 1:-1]
-            p_ez *= bz_i
-            p_ez += cz_i * dz_
-            p_ex *= bx_i
-            p_ex += cx_i * dx_
-            ey[1:-1, 1:-1] = ca_in * ey[1:-1, 1:-1] + cb_in * (dz_ + p_ez - dx_ - p_ex)
+            np.subtract(ey[:, 1:], ey[:, :-1], out=buf_hx)
+            hx += pml_hx(buf_hx)
+            np.subtract(ey[1:, :], ey[:-1, :], out=buf_hz)
+            hz -= pml_hz(buf_hz)
+            np.subtract(hx[1:-1, 1:], hx[1:-1, :-1], out=buf_z)
+            np.subtract(hz[1:, 1:-1], hz[:-1, 1:-1], out=buf_x)
+            pml_ez(buf_z)
+            buf_z -= pml_ex(buf_x)
+            buf_z *= cb_in
+            inner *= ca_in
+            inner += buf_z
             ey[i_s, k_s] -= j_fac * src_t[n]
             out[:, n] = ey[ri, rk]
             if progress is not None and n % every == 0:
@@ -377,38 +403,36 @@ def solve_scene(
     else:
         ca_x, cb_x, _ = _coefficients(*_averaged(scene, xh, zk, dx, False), dt)
         ca_z, cb_z, _ = _coefficients(*_averaged(scene, xi, zh, dx, True), dt)
-        ca_x, cb_x = ca_x[:, 1:-1], cb_x[:, 1:-1]
-        ca_z, cb_z = ca_z[1:-1, :], cb_z[1:-1, :]
-        hy = np.zeros((nx - 1, nz - 1))
-        ex = np.zeros((nx - 1, nz))
-        ez = np.zeros((nx, nz - 1))
-        p_hyx = np.zeros_like(hy)
-        p_hyz = np.zeros_like(hy)
-        p_ex = np.zeros((nx - 1, nz - 2))
-        p_ez = np.zeros((nx - 2, nz - 1))
-        bx_h, cx_h = bxh[:, None], cxh[:, None]
-        bz_h, cz_h = bzh[None, :], czh[None, :]
-        bz_i, cz_i = bzi[None, 1:-1], czi[None, 1:-1]
-        bx_i, cx_i = bxi[1:-1, None], cxi[1:-1, None]
-        m_fac = C0_M_S * dt / (dx * dx)  # eta0 dt / mu0 = c dt, over one cell
+        ca_x, cb_x = ca_x[:, 1:-1].astype(_DTYPE), (cb_x[:, 1:-1] * s).astype(_DTYPE)
+        ca_z, cb_z = ca_z[1:-1, :].astype(_DTYPE), (cb_z[1:-1, :] * s).astype(_DTYPE)
+        hy = np.zeros((nx - 1, nz - 1), _DTYPE)
+        ex = np.zeros((nx - 1, nz), _DTYPE)
+        ez = np.zeros((nx, nz - 1), _DTYPE)
+        buf_a, buf_b = np.empty_like(hy), np.empty_like(hy)
+        buf_x, buf_z = np.empty((nx - 1, nz - 2), _DTYPE), np.empty((nx - 2, nz - 1), _DTYPE)
+        pml_hyx = _Slabs(hy.shape, 0, bxh, cxh)
+        pml_hyz = _Slabs(hy.shape, 1, bzh, czh)
+        pml_ex = _Slabs(buf_x.shape, 1, bzi[1:-1], czi[1:-1])
+        pml_ez = _Slabs(buf_z.shape, 0, bxi[1:-1], cxi[1:-1])
+        ex_in, ez_in = ex[:, 1:-1], ez[1:-1, :]
+        m_fac = C0_M_S * dt / (dx * dx) / s  # eta0 dt / mu0 = c dt, over one cell
         for n in range(n_steps):
-            a = ez[1:, :] - ez[:-1, :]
-            p_hyx *= bx_h
-            p_hyx += cx_h * a
-            b = ex[:, 1:] - ex[:, :-1]
-            p_hyz *= bz_h
-            p_hyz += cz_h * b
-            hy += s * (a + p_hyx - b - p_hyz)
+            np.subtract(ez[1:, :], ez[:-1, :], out=buf_a)
+            np.subtract(ex[:, 1:], ex[:, :-1], out=buf_b)
+            hy += pml_hyx(buf_a)
+            hy -= pml_hyz(buf_b)
             hy[i_s, k_s] -= m_fac * src_t[n]
-            d = hy[:, 1:] - hy[:, :-1]
-            p_ex *= bz_i
-            p_ex += cz_i * d
-            ex[:, 1:-1] = ca_x * ex[:, 1:-1] - cb_x * (d + p_ex)
-            d = hy[1:, :] - hy[:-1, :]
-            p_ez *= bx_i
-            p_ez += cx_i * d
-            ez[1:-1, :] = ca_z * ez[1:-1, :] + cb_z * (d + p_ez)
-            out[:, n] = hy[ri, rk]
+            np.subtract(hy[:, 1:], hy[:, :-1], out=buf_x)
+            pml_ex(buf_x)
+            buf_x *= cb_x
+            ex_in *= ca_x
+            ex_in -= buf_x
+            np.subtract(hy[1:, :], hy[:-1, :], out=buf_z)
+            pml_ez(buf_z)
+            buf_z *= cb_z
+            ez_in *= ca_z
+            ez_in += buf_z
+            out[:, n] = s * hy[ri, rk]
             if progress is not None and n % every == 0:
                 progress(n / n_steps)
     if progress is not None:
@@ -571,9 +595,9 @@ def _to_point_source(amp: np.ndarray, dt_s: float) -> np.ndarray:
     return out * (float(np.max(np.abs(amp))) / peak) if peak > 0 else out
 
 
-#: Largest run the scenario check accepts: cells times time steps of one run (measured
-#: 6.5e8 cell-steps in 92 s for both runs on the loaded 2-core development machine; see
-#: tests/benchmarks/bench_fdtd2d.py).
+#: Largest run the scenario check accepts: cells times time steps of one run (at about
+#: 10 ns of CPU per cell-step, some 20 s of CPU for both runs; tests/benchmarks/bench_fdtd2d.py
+#: measures it).
 MAX_CELL_STEPS = 1e9
 
 

@@ -51,22 +51,25 @@ def speed() -> None:
     scene = Scene2D((-1.0, 1.0), (-0.6, 1.4), ((0.5, 1.4, 0.0), (2.0, 1.8, 1e-4)),
                     cylinder=(0.2, 0.8, 0.15, 6.0, 1e-3, False))
     print("1. speed: 2 m x 2 m, two snow layers, rock cylinder, 8 ns")
-    print("   pol  cells/wl    cells   steps   time (s)   ns/cell-step   x TE@10")
+    print("   pol  cells/wl    cells   steps   wall (s)   cpu (s)   ns/cell-step (cpu)   "
+          "x TE@10")
     base = None
     for pol in ("TE", "TM"):
         for cpw in (8.0, 10.0, 14.0):
             dx = grid_step_m(f_hi, scene.max_index(), cpw, 0.15)
             t = time.perf_counter()
+            c = time.process_time()
             res = solve_scene(scene, polarization=pol, source_m=(0.0, -0.5),
                               receivers_m=[(0.0, -0.5)], current=pulse.waveform,
                               duration_s=8e-9, dx_m=dx, center_frequency_hz=800e6)
             el = time.perf_counter() - t
-            per = el / (res.grid.cells * res.grid.n_steps) * 1e9
+            cpu = time.process_time() - c
+            per = cpu / (res.grid.cells * res.grid.n_steps) * 1e9
             if pol == "TE" and cpw == 10.0:
                 base = per
             ratio = f"{per / base:6.2f}" if base else "   -  "
             print(f"   {pol}   {cpw:6.0f}   {res.grid.cells:7d}  {res.grid.n_steps:6d}  "
-                  f"{el:8.2f}   {per:10.1f}     {ratio}")
+                  f"{el:8.2f}  {cpu:8.2f}   {per:10.1f}             {ratio}")
 
 
 def flank() -> None:
@@ -110,13 +113,16 @@ def demos() -> None:
         if not s.targets:
             continue
         try:
+            c = time.process_time()
             r = scenario_check(s, s.targets[0].position_m + 0.3)
+            cpu = time.process_time() - c
         except ValueError as exc:
             print(f"   {name:20s} refused: {exc}")
             continue
         g = r.fdtd.grid
         print(f"   {name:20s} {s.targets[0].kind:8s} agreement {r.agreement:+.3f}  "
-              f"{g.nx}x{g.nz} cells x {g.n_steps} steps  {r.fdtd.elapsed_s:6.1f} s")
+              f"{g.nx}x{g.nz} cells x {g.n_steps} steps  wall {r.fdtd.elapsed_s:6.1f} s  "
+              f"cpu {cpu:6.1f} s")
 
 
 if __name__ == "__main__":
