@@ -281,7 +281,7 @@ def _averaged(scene: Scene2D, x: np.ndarray, z: np.ndarray, dx: float, harmonic:
     keep = ~pec
     count = np.maximum(keep.sum(axis=(2, 3)), 1)
     if harmonic:
-        e = count / np.where(keep, 1.0 / eps, 0.0).sum(axis=(2, 3))
+        e = count / np.maximum(np.where(keep, 1.0 / eps, 0.0).sum(axis=(2, 3)), 1e-30)
     else:
         e = np.where(keep, eps, 0.0).sum(axis=(2, 3)) / count
     s = np.where(keep, sig, 0.0).sum(axis=(2, 3)) / count
@@ -453,14 +453,15 @@ class CylinderTrace:
         antenna, for a source current equal to the pulse waveform there; E_y (TE) or
         eta0 H_y (TM), V/m. Zero after ``computed_until_s``.
     point_source : ndarray
-        The same echo converted from a line source to a point source, for comparing
-        shapes with the 3-D model, whose pulse is the radiated field: divided by
-        -sqrt(j f) in the frequency domain, at the same peak as ``amplitude``. A line
-        current I radiates ``-(omega mu0 I / 4) H0^(2)(k rho)``, which far out is
-        ``-sqrt(j omega)`` times I up to real geometric factors (Balanis 1989, eq. 11-10
-        with the large-argument Hankel form); so a reflector of coefficient r returns r
-        times the pulse, as in the model (the filter as used in 2-D GPR modelling is
-        common practice).
+        The same echo converted from a line source to a point source and to the field
+        the radar receives, for comparing shapes with the 3-D model, whose pulse is the
+        radiated field: at the same peak as ``amplitude``. A line current I radiates
+        ``-(omega mu0 I / 4) H0^(2)(k rho)``, far out ``-sqrt(j omega)`` times I up to
+        real geometric factors (Balanis 1989, eq. 11-10 with the large-argument Hankel
+        form), so TE divides by ``-sqrt(j f)``; in TM the received E_x of an upgoing wave
+        is ``-eta0 H_y`` while the downgoing one is ``+eta0 H_y``, so TM divides by
+        ``+sqrt(j f)``. A reflector of coefficient r then returns r times the pulse, as in
+        the model (the sqrt(j f) filter as used in 2-D GPR modelling is common practice).
     computed_until_s : float
         The last two-way time the run reached, s (the echo plus six pulse periods).
     polarization : str
@@ -579,17 +580,18 @@ def cylinder_trace(
     t_out = np.arange(n_samples) * dt_out
     amp = np.interp(t_out + t0, t, echo, left=0.0, right=0.0)
     amp[t_out > until] = 0.0
-    return CylinderTrace(t_out, amp, _to_point_source(amp, dt_out), float(until), pol,
+    sign = -1.0 if pol == "TE" else 1.0
+    return CylinderTrace(t_out, amp, _to_point_source(amp, dt_out, sign), float(until), pol,
                          runs[0].grid, time.perf_counter() - start)
 
 
-def _to_point_source(amp: np.ndarray, dt_s: float) -> np.ndarray:
-    """``amp`` divided by -sqrt(j f) (zero at f = 0), scaled to the same peak."""
+def _to_point_source(amp: np.ndarray, dt_s: float, sign: float) -> np.ndarray:
+    """``amp`` divided by ``sign * sqrt(j f)`` (zero at f = 0), scaled to the same peak."""
     n = 2 * amp.size
     spec = np.fft.rfft(amp, n)
     f = np.fft.rfftfreq(n, dt_s)
     filt = np.zeros(f.size, complex)
-    filt[1:] = -1.0 / np.sqrt(1j * f[1:] / f[1])
+    filt[1:] = sign / np.sqrt(1j * f[1:] / f[1])
     out = np.fft.irfft(spec * filt, n)[: amp.size]
     peak = float(np.max(np.abs(out)))
     return out * (float(np.max(np.abs(amp))) / peak) if peak > 0 else out
@@ -666,10 +668,19 @@ def scenario_cylinder(scenario: object) -> tuple[BuriedCylinder, str]:
         raise ValueError(f"the 2-D check has no cylinder stand-in for a {kind} (a flat "
                          "plate); put a person, boulder or branch first")
     cyl = BuriedCylinder(obj.position_m, obj.depth_m + d / 2, d / 2, material)
+    pol = _scenario_polarization(scenario)
+    field = "E along the axis" if pol == "TE" else "E along the line, H along the axis"
     text = (f"{what}, infinitely long across the survey line (a 2-D cross-section: its "
-            "across-line offset and length are ignored), under the same snow layers, TE "
-            "(E along the axis), line source converted to a point source")
+            "across-line offset and length are ignored), under the same snow layers, "
+            f"{pol} ({field}), line source converted to a point source")
     return cyl, text
+
+
+def _scenario_polarization(scenario: object) -> str:
+    """TE when the radar's field lies across the line (along the stand-in's axis), TM when
+    it lies along the line."""
+    radar = getattr(scenario, "radar", None)
+    return "TM" if getattr(radar, "polarization", "across_line") == "along_line" else "TE"
 
 
 def scenario_check(scenario: object, position_m: float, *,
@@ -713,7 +724,8 @@ def scenario_check(scenario: object, position_m: float, *,
             f"{cyl.position_m:g} m) or lower the centre frequency")
     fd = cylinder_trace(mats, thick, cyl, antenna_x_m=x,
                         antenna_height_m=radar.antenna_height_m, pulse=pulse,
-                        dt_s=radar.dt_s, n_samples=radar.n_samples, progress=progress)
+                        dt_s=radar.dt_s, n_samples=radar.n_samples,
+                        polarization=_scenario_polarization(scenario), progress=progress)
     obj = scenario.targets[0]
     one = dc.replace(scenario, persons=(obj,) if obj.kind == "person" else (),
                      objects=() if obj.kind == "person" else (obj,),
