@@ -66,6 +66,7 @@ __all__ = [
     "Choice",
     "sweep",
     "resume",
+    "empty_sweep",
     "roc",
     "wilson_interval",
     "save",
@@ -624,6 +625,16 @@ def sweep(base: Scenario, vary: Mapping[str, Sequence[Any]], *,
     """
     plan = _make_plan(base, vary, uncertain, realizations, seed, level_db, floor_db, reduced)
     return _run(plan, _Records(plan), executor, progress, on_progress, cancel, chunk_size)
+
+
+def empty_sweep(base: Scenario, vary: Mapping[str, Sequence[Any]], *,
+                uncertain: Mapping[str, Any] | None = None, realizations: int = 50,
+                seed: int = 0, level_db: float = DEFAULT_THRESHOLD_DB,
+                floor_db: float = 10.0, reduced: bool = True) -> Any:
+    """The dataset of a sweep with nothing run yet (checked as :func:`sweep` checks);
+    :func:`resume` runs it."""
+    plan = _make_plan(base, vary, uncertain, realizations, seed, level_db, floor_db, reduced)
+    return _dataset(plan, _Records(plan), complete=False)
 
 
 def resume(dataset: Any, *, executor: Any = None, progress: bool = True,
