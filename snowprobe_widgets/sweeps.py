@@ -72,6 +72,9 @@ __all__ = [
     "save",
     "load",
     "realization_scenario",
+    "UNCERTAINTY_PRESETS",
+    "uncertainty_preset",
+    "local_pool",
 ]
 
 #: ``attrs["format"]`` of a sweep dataset.
@@ -86,6 +89,45 @@ _MAX_CHECKED_CELLS = 5000
 #: Most realizations in one sweep (memory of the records stays below ~1 GB).
 _MAX_REALIZATIONS_TOTAL = 2_000_000
 _CLUTTER_SEED = "clutter.seed"
+
+
+# --------------------------------------------------------------------------- presets
+
+#: Named uncertainty presets: field path -> distribution. Ranges: dry avalanche debris
+#: about 300-500 kg/m3, wet debris 500-600 kg/m3 or more (FIELD_FACTS 1.8, from memory);
+#: moist snow holds under 3 % liquid water, wet snow 3-8 % (Fierz et al. 2009, UNESCO-IHP
+#: Tech. Doc. Hydrol. 83); the buried person's heading, posture and offset from the line
+#: are not known at a real avalanche (invented spreads: any heading, either posture,
+#: offset about +-0.5 m within +-1 m).
+UNCERTAINTY_PRESETS: dict[str, dict[str, Distribution]] = {
+    "typical dry debris": {
+        "snowpack.layers[*].density_kg_m3": Uniform(300.0, 500.0),
+        "persons[0].heading_deg": Uniform(0.0, 180.0),
+        "persons[0].posture": Choice(("lying_flat", "curled")),
+        "persons[0].offset_m": Normal(0.0, 0.5, -1.0, 1.0),
+    },
+    "wet spring debris": {
+        "snowpack.layers[*].density_kg_m3": Uniform(450.0, 600.0),
+        "snowpack.layers[*].lwc_percent": Uniform(1.0, 6.0),
+        "persons[0].heading_deg": Uniform(0.0, 180.0),
+        "persons[0].posture": Choice(("lying_flat", "curled")),
+        "persons[0].offset_m": Normal(0.0, 0.5, -1.0, 1.0),
+    },
+}
+
+
+def uncertainty_preset(name: str, vary: Sequence[str] = ()) -> dict[str, Distribution]:
+    """The preset ``name`` without the fields in ``vary`` (a varied field is not drawn).
+
+    Raises
+    ------
+    ValueError
+        If ``name`` is not one of :data:`UNCERTAINTY_PRESETS`.
+    """
+    if name not in UNCERTAINTY_PRESETS:
+        raise ValueError(f"uncertainty preset {name!r} is not one of: "
+                         f"{', '.join(map(repr, UNCERTAINTY_PRESETS))}")
+    return {p: d for p, d in UNCERTAINTY_PRESETS[name].items() if p not in vary}
 
 
 # --------------------------------------------------------------------------- plan
@@ -281,7 +323,7 @@ def _is_dask_client(executor: Any) -> bool:
         executor, "submit")
 
 
-def _local_pool(workers: int) -> cf.ProcessPoolExecutor:
+def local_pool(workers: int) -> cf.ProcessPoolExecutor:
     """A process pool whose workers start from a server that imported the model once."""
     if "forkserver" in multiprocessing.get_all_start_methods():
         ctx = multiprocessing.get_context("forkserver")
@@ -339,7 +381,7 @@ def _execute(plan: _Plan, items: list[tuple[int, int]], executor: Any, progress:
                 sink(_run_items(plan, [item]))
                 progress.update(1)
             return True
-        with _local_pool(workers) as pool:
+        with local_pool(workers) as pool:
             return _execute(plan, items, pool, progress, stop, chunk_size, sink)
     n_workers = _worker_count(executor)
     size = chunk_size or max(1, min(32, math.ceil(len(items) / (8 * n_workers))))
@@ -405,7 +447,7 @@ class _Records:
             "line_length_m": np.full(shape, np.nan),
             "echo_to_noise_db": np.full(shape + (npers,), np.nan),
             "echo_to_clutter_db": np.full(shape + (npers,), np.nan),
-            "clutter_seed": np.full(shape, -1, np.int64),
+            "clutter_seed": np.full(shape, -1.0),
         }
         self.drawn = {}
         for p, d in plan.uncertain:
@@ -449,7 +491,8 @@ _UNITS = {
     "echo_to_clutter_db": ("dB", "peak of the person's raw echo over the rms of clutter "
                                  "and debris echoes within one period of its time; NaN: "
                                  "no clutter echo there"),
-    "clutter_seed": ("1", "clutter seed of the realization (-1: not run)"),
+    "clutter_seed": ("1", "clutter seed of the realization (a whole number kept exactly as "
+                          "a float; -1: not run)"),
     "trials": ("1", "person-realizations that ran"),
     "detection_probability": ("1", "fraction of persons found at the level"),
     "detection_probability_lower": ("1", "Wilson 95 % interval, lower end"),
@@ -526,7 +569,7 @@ def _dataset(plan: _Plan, rec: _Records, complete: bool) -> Any:
     for name, (unit, what) in _UNITS.items():
         ds[name].attrs.update(units=unit, description=what)
     for path, dist in plan.uncertain:
-        ds[_drawn_name(path)].attrs.update(description=f"value drawn for {path}",
+        ds[_drawn_name(path.text)].attrs.update(description=f"value drawn for {path.text}",
                                            distribution=json.dumps(dist.to_dict()))
     ds.attrs.update(_attrs(plan, complete))
     return ds
@@ -729,7 +772,7 @@ def save(dataset: Any, path: str | os.PathLike[str]) -> None:
     fd, tmp = tempfile.mkstemp(prefix=".sweep-", suffix=".nc", dir=folder)
     os.close(fd)
     try:
-        dataset.to_netcdf(tmp, engine="h5netcdf")
+        dataset.to_netcdf(tmp, engine="scipy")
         os.replace(tmp, target)
     except BaseException:
         if os.path.exists(tmp):
@@ -747,7 +790,7 @@ def load(path: str | os.PathLike[str]) -> Any:
     """
     import xarray as xr
 
-    ds = xr.load_dataset(os.fspath(path), engine="h5netcdf")
+    ds = xr.load_dataset(os.fspath(path), engine="scipy")
     if ds.attrs.get("format") != FORMAT or int(ds.attrs.get("version", -1)) != VERSION:
         raise ValueError(f"{os.fspath(path)} is not a {FORMAT} version {VERSION} file")
     return ds
