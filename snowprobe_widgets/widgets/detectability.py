@@ -470,10 +470,12 @@ class DetectabilityView(widgets.VBox):
                                           "detection_probability_upper")] \
             if self.summary is not None else []
         level = float(self.contour.value)
+        # one field: the strip's two edges carry the same values, so the contour crosses
+        # it as vertical lines where the probability passes the level
         zy = ys if ys.size > 1 else np.array([ey[0], ey[1]])
-        zz = (lambda z: z if ys.size > 1 else np.vstack([z, z]))
-        seg = contour_segments(zz(p), xs, zy, level)
-        band = [contour_segments(zz(z), xs, zy, level) for z in lo_hi]
+        rows = [z if ys.size > 1 else np.vstack([z, z]) for z in [p, *lo_hi]]
+        seg = contour_segments(rows[0], xs, zy, level)
+        band = [contour_segments(z, xs, zy, level) for z in rows[1:]]
         band_seg = np.concatenate(band) if band else np.zeros((0, 2, 2))
         fa_max = float(np.nanmax(fa)) if np.any(np.isfinite(fa)) else 1.0
         with self.map_figure.hold_sync():
