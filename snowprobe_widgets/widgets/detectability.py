@@ -270,7 +270,7 @@ class DetectabilityView(widgets.VBox):
         self._mx = bqplot.LinearScale()
         self._my = bqplot.LinearScale()
         self._ax_x = bqplot.Axis(scale=self._mx, label="", grid_lines="none")
-        self._ax_y = bqplot.Axis(scale=self._my, orientation="vertical", label="",
+        self._ax_y = bqplot.Axis(scale=self._my, side="left", label="",
                                  grid_lines="none")
         self._palette = colour_map("lichen").copy()
         self._palette[_NAN_INDEX] = (205, 205, 205)
@@ -302,7 +302,7 @@ class DetectabilityView(widgets.VBox):
                                          scales={"x": self._fx, "y": self._fy},
                                          x=[0.0, 1.0], y=[0.0, 1.0])
         self._fa_ax_x = bqplot.Axis(scale=self._fx, label="", grid_lines="none")
-        self._fa_ax_y = bqplot.Axis(scale=self._fy, orientation="vertical", label="",
+        self._fa_ax_y = bqplot.Axis(scale=self._fy, side="left", label="",
                                     grid_lines="none")
         self.alarm_figure = bqplot.Figure(
             marks=[self._alarm_image], axes=[self._fa_ax_x, self._fa_ax_y],
@@ -320,7 +320,7 @@ class DetectabilityView(widgets.VBox):
         self.roc_figure = bqplot.Figure(
             marks=[self._roc_line, self._roc_point],
             axes=[bqplot.Axis(scale=self._rx, label="false alarms per 100 m"),
-                  bqplot.Axis(scale=self._ry, orientation="vertical",
+                  bqplot.Axis(scale=self._ry, side="left",
                               label="detection probability")],
             title="ROC of the selected cell (dot: detector level)",
             fig_margin={"top": 40, "bottom": 50, "left": 60, "right": 20},
