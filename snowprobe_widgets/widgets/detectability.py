@@ -134,7 +134,7 @@ class _SweepSlots:
 class _FieldRow(widgets.HBox):
     """One field of the grid: which field, from, to, how many values."""
 
-    def __init__(self, label: str, allow_none: bool, default: str) -> None:
+    def __init__(self, label: str, allow_none: bool, default: str, css_class: str) -> None:
         options = ([_NONE] if allow_none else []) + list(SWEEP_FIELDS)
         self.field = dropdown(label, options, default)
         self.low = widgets.FloatText(description="from", layout=widgets.Layout(width="150px"),
@@ -144,9 +144,11 @@ class _FieldRow(widgets.HBox):
         self.steps = widgets.BoundedIntText(value=6, min=2, max=40, description="values",
                                             layout=widgets.Layout(width="140px"),
                                             style={"description_width": "50px"})
+        self.steps.add_class("sp-field-steps")
         self.field.observe(lambda _: self._defaults(), names="value")
         self._defaults()
         super().__init__([self.field, self.low, self.high, self.steps])
+        self.add_class(css_class)
 
     def _defaults(self) -> None:
         on = self.field.value != _NONE
@@ -213,11 +215,14 @@ class DetectabilityView(widgets.VBox):
         self.base_choice = dropdown("base scene", list(Scenario.examples()),
                                     self.base.name if self.base.name in Scenario.examples()
                                     else Scenario.examples()[0])
-        self.field_x = _FieldRow("field across", False, "burial depth (m)")
-        self.field_y = _FieldRow("field up", True, "liquid water, every layer (%)")
+        self.field_x = _FieldRow("field across", False, "burial depth (m)", "sp-field-x")
+        self.field_y = _FieldRow("field up", True, "liquid water, every layer (%)",
+                                 "sp-field-y")
         self.preset = dropdown("uncertain", [_PRESET_NONE, *sweeps.UNCERTAINTY_PRESETS],
                                "typical dry debris")
+        self.preset.add_class("sp-preset")
         self.realizations = int_slider("realizations", 10, 2, 200)
+        self.realizations.add_class("sp-realizations")
         self.run_button = widgets.Button(description="run sweep", button_style="primary")
         self.run_button.add_class("sp-sweep-run")
         self.cancel_button = widgets.Button(description="cancel", disabled=True)
