@@ -21,6 +21,7 @@ import os
 import tempfile
 import threading
 import time
+from collections.abc import Callable
 from typing import Any
 
 import bqplot
@@ -38,6 +39,7 @@ from snowprobe_widgets.widgets._common import (
     int_slider,
     message_line,
     section_title,
+    set_visible,
     share_plain_styles,
     show_message,
 )
@@ -197,12 +199,17 @@ class DetectabilityView(widgets.VBox):
         map the first time a cell is clicked.
     max_at_once : int
         Most sweeps at once on this machine (all sessions together).
+    base_from : callable, optional
+        Returns the base scene when a sweep starts (the design app passes its scene on
+        screen); the demo chooser is then hidden.
     """
 
     def __init__(self, base: Scenario | None = None, *, explorer: Any = None,
-                 max_at_once: int = MAX_SWEEPS_AT_ONCE, **kwargs: Any) -> None:
+                 max_at_once: int = MAX_SWEEPS_AT_ONCE,
+                 base_from: Callable[[], Scenario] | None = None, **kwargs: Any) -> None:
         self.base = Scenario.default() if base is None else base
         self.explorer = explorer
+        self._base_from = base_from
         self.dataset: Any = None
         self.summary: Any = None
         self.draws = 0
@@ -267,6 +274,8 @@ class DetectabilityView(widgets.VBox):
         super().__init__(children=[header, caution_box(), controls, views,
                                    self.explorer_slot], **kwargs)
         share_plain_styles(self)
+        if base_from is not None:
+            set_visible(self.base_choice, False)
         self._plan_axes()
         self._draw()
 
@@ -378,6 +387,8 @@ class DetectabilityView(widgets.VBox):
         if self.running:
             show_message(self.message, "a sweep is already running; cancel it first")
             return False
+        if self._base_from is not None:
+            self.base = self._base_from()
         try:
             vary, uncertain, shown = self._request()
             sweeps.empty_sweep(self.base, vary, uncertain=uncertain,

@@ -113,3 +113,23 @@ def test_contour_of_a_ramp_crosses_where_it_should():
     assert seg.shape == (1, 2, 2)
     np.testing.assert_allclose(seg[0, :, 0], [0.5, 0.5])
     assert contour_segments(np.full((2, 2), np.nan), x[:2], y, 0.5).shape == (0, 2, 2)
+
+
+def test_the_design_app_has_the_view_in_a_tab_on_its_own_scene():
+    app = ScenarioExplorer()
+    titles = list(app.lower.titles)
+    assert titles[-1] == "Detection probability" and app.detectability is None
+    app.lower.selected_index = len(titles) - 1
+    view = app.detectability
+    assert isinstance(view, DetectabilityView) and view.explorer is app
+    deeper = app.scenario.persons[0].depth_m + 0.1
+    import dataclasses
+
+    app.scenario = dataclasses.replace(app.scenario, persons=(dataclasses.replace(
+        app.scenario.persons[0], depth_m=deeper),))
+    _small(view)
+    view.field_x.field.value = "liquid water, every layer (%)"
+    view.field_x.low.value, view.field_x.high.value = 0.0, 2.0
+    assert view.run(wait=True)
+    assert view.base == app.scenario and view.dataset is not None
+    assert view.select_cell(2.0) and app.scenario.snowpack.layers[0].lwc_percent == 2.0
