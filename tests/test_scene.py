@@ -290,6 +290,8 @@ def test_radar_defaults_and_derived_figures():
     (dict(antenna_height_m=-0.1), ["antenna_height_m = -0.1 m"]),
     (dict(beamwidth_deg=0.0), ["beamwidth_deg = 0 deg"]),
     (dict(bandwidth_hz=-1.0), ["bandwidth_hz = -1 Hz"]),
+    (dict(polarization="vertical"), ["polarization = 'vertical' is not one of",
+                                     "'across_line'", "'along_line'"]),
 ])
 def test_radar_bad_values_name_the_field(kwargs, words):
     with pytest.raises(ValueError) as info:
