@@ -134,6 +134,20 @@ class Scene2D:
     upper: tuple[float, float] = (1.0, 0.0)
     cylinder: tuple[float, float, float, float, float, bool] | None = None
 
+    def __post_init__(self) -> None:
+        for name in ("x_range_m", "z_range_m"):
+            lo, hi = getattr(self, name)
+            check_range(f"{name}[0]", lo, -1e4, 1e4, unit="m")
+            check_range(f"{name}[1]", hi, float(lo), 1e4, unit="m", low_open=True)
+        for j, (d, e, sg) in enumerate(self.layers):
+            check_range(f"layers[{j}] thickness", d, 0.0, 1e4, unit="m", low_open=True)
+            check_range(f"layers[{j}] eps_r", e, 1.0, 100.0)
+            check_range(f"layers[{j}] sigma", sg, 0.0, 100.0, unit="S/m")
+        check_range("upper eps_r", self.upper[0], 1.0, 100.0)
+        check_range("upper sigma", self.upper[1], 0.0, 100.0, unit="S/m")
+        if not self.layers:
+            raise ValueError("layers must hold at least one layer (the last extends down)")
+
     def sample(self, x: np.ndarray, z: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """(eps_r, sigma, perfect-conductor flag) at points (x, z), arrays of their shape."""
         eps = np.full(z.shape, float(self.upper[0]))
@@ -334,11 +348,14 @@ def solve_scene(
     """
     pol = check_choice("polarization", polarization, POLARIZATIONS)
     start = time.perf_counter()
-    dx = float(dx_m)
+    dx = check_range("dx_m", dx_m, 1e-4, 1.0, unit="m")
+    check_range("duration_s", duration_s, 0.0, 1e-6, unit="s", low_open=True)
+    check_range("center_frequency_hz", center_frequency_hz, 1e6, 1e11, unit="Hz")
     dt = COURANT * dx / C0_M_S
     pml = PML_CELLS
     (x_lo, x_hi), (z_lo, z_hi) = scene.x_range_m, scene.z_range_m
-    sx, sz = (float(v) for v in source_m)
+    sx = check_range("source_m[0]", source_m[0], x_lo, x_hi, unit="m")
+    sz = check_range("source_m[1]", source_m[1], z_lo, z_hi, unit="m")
     shift = 0.5 * dx if pol == "TM" else 0.0  # the H_y node is at (i + 1/2, k + 1/2)
     i_s = int(math.ceil((sx - x_lo) / dx)) + pml
     k_s = int(math.ceil((sz - z_lo) / dx)) + pml
