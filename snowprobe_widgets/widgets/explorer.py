@@ -32,8 +32,8 @@ from snowprobe_widgets.processing import ProcessingChain
 from snowprobe_widgets.radargram import Radargram
 from snowprobe_widgets.scene import Scenario
 from snowprobe_widgets.synthesis import column_optics, simulate
-from snowprobe_widgets.targets import validity_warnings
 from snowprobe_widgets.trace import echo_times, synthesize_trace
+from snowprobe_widgets.validity import scenario_warnings
 from snowprobe_widgets.widgets import exports
 from snowprobe_widgets.widgets._common import (
     caution_box,
@@ -191,10 +191,13 @@ class ScenarioExplorer(widgets.VBox):
         self._lower_views = [self.trace_view, self.spectrum_view, self.budget_view,
                              self.materials]
         self._lower_slots = [widgets.VBox([self.trace_view])] + [widgets.VBox()
-                                                                 for _ in range(3)]
+                                                                 for _ in range(4)]
+        #: The "Detection probability" tab's view, made when the tab is first shown.
+        self.detectability: Any = None
         self.lower = widgets.Tab(
             children=self._lower_slots,
-            titles=["Trace", "Spectrum", "Link budget", "Materials lab"])
+            titles=["Trace", "Spectrum", "Link budget", "Materials lab",
+                    "Detection probability"])
         self.lower.observe(lambda _: self._fill_tab(), names="selected_index")
         self.show_processed.observe(lambda _: self._show_section(), names="value")
         self.mark_detections.observe(lambda _: self._update_detections(), names="value")
@@ -331,6 +334,7 @@ class ScenarioExplorer(widgets.VBox):
         self.section.update(scenario)
         if pick_m is not None:
             self.radargram_view.picked_position_m = None
+        self.processing.follow_antenna_height(scenario.radar.antenna_height_m)
         self._process(pick_m)
         self._stale = {"budget": True, "materials": True}
         self._refresh_lazy()
@@ -340,11 +344,19 @@ class ScenarioExplorer(widgets.VBox):
                              f"{runs['column']}x, objects {runs['objects']}x, noise "
                              f"{runs['noise']}x</small>")
         self.validity.value = "".join(f"<small>&#9888; {html.escape(w)}</small><br>"
-                                      for w in validity_warnings(scenario))
+                                      for w in scenario_warnings(scenario))
 
     def _fill_tab(self) -> None:
         i = self.lower.selected_index
-        if i is not None and not self._lower_slots[i].children:
+        if i == len(self._lower_views) and self.detectability is None:
+            from snowprobe_widgets.widgets.detectability import DetectabilityView
+
+            # sweeps start from the scene on screen; a clicked cell comes back here
+            self.detectability = DetectabilityView(explorer=self,
+                                                   base_from=lambda: self.scenario)
+            self._lower_slots[i].children = [self.detectability]
+        elif i is not None and i < len(self._lower_views) \
+                and not self._lower_slots[i].children:
             self._lower_slots[i].children = [self._lower_views[i]]
 
     def _process(self, pick_m: float | None = None) -> None:
