@@ -260,7 +260,7 @@ class ScenarioExplorer(widgets.VBox):
             raise ValueError(f"scenario must be a Scenario, got {type(scenario).__name__}")
         for p in self._panels:
             p.show(scenario)
-        self.processing.show(ProcessingChain.default(scenario.radar.center_frequency_hz))
+        self.processing.show(ProcessingChain.for_radar(scenario.radar))
         first = scenario.persons[0].position_m if scenario.persons else \
             0.5 * (scenario.survey.start_m + scenario.survey.end_m)
         self._accept(scenario, pick_m=first)
