@@ -54,9 +54,9 @@ def test_css_hooks_and_cautions_are_present(app: ScenarioExplorer) -> None:
     assert "sp-radargram-status" == STATUS_CLASS
     assert STATUS_CLASS in app.radargram_view.status._dom_classes
     assert (SAVE_CLASS, OPEN_CLASS, PATH_CLASS) == ("sp-save", "sp-open", "sp-file-path")
-    assert SAVE_CLASS in app.save_button._dom_classes
-    assert OPEN_CLASS in app.open_button._dom_classes
-    assert PATH_CLASS in app.path._dom_classes
+    assert SAVE_CLASS in app.files.save_button._dom_classes
+    assert OPEN_CLASS in app.files.open_button._dom_classes
+    assert PATH_CLASS in app.files.path._dom_classes
     texts = [c.value for c in app.children if hasattr(c, "value")]
     assert any(CAUTION_TEXT[:50] in t for t in texts)
     assert not app.person.depth.continuous_update  # heavy slider: released value only
@@ -374,11 +374,11 @@ def test_save_then_open_restores_the_scenario(app: ScenarioExplorer, tmp_path) -
     app.snowpack.density.value = 260.0
     saved = app.scenario
     path = tmp_path / "plan.json"
-    app.path.value = str(path)
-    app.save_button.click()
-    assert path.exists() and "saved" in app.file_status.value
+    app.files.path.value = str(path)
+    app.files.save_button.click()
+    assert path.exists() and "saved" in app.files.status.value
     app.scenario = Scenario.example("two_burials")
-    app.open_button.click()
+    app.files.open_button.click()
     assert app.scenario == saved
     assert app.person.depth.value == 1.1
 
@@ -387,16 +387,16 @@ def test_opening_a_bad_file_shows_a_message(app: ScenarioExplorer, tmp_path) -> 
     good = app.scenario
     bad = tmp_path / "bad.json"
     bad.write_text("{not json")
-    app.path.value = str(bad)
+    app.files.path.value = str(bad)
     assert not app.open_file()
-    assert app.file_message.value != "" and app.scenario is good
-    app.path.value = str(tmp_path / "missing.json")
+    assert app.files.message.value != "" and app.scenario is good
+    app.files.path.value = str(tmp_path / "missing.json")
     assert not app.open_file()
-    assert "No such file" in app.file_message.value and app.scenario is good
+    assert "No such file" in app.files.message.value and app.scenario is good
 
 
 def test_exports_parse_back(app: ScenarioExplorer, tmp_path) -> None:
-    app.path.value = str(tmp_path / "plan.json")
+    app.files.path.value = str(tmp_path / "plan.json")
     paths = {k: app.export(k) for k in ("csv", "npz", "png", "report")}
     rg = app.radargram
     table = np.loadtxt(paths["csv"], delimiter=",")
