@@ -30,6 +30,7 @@ from snowprobe_widgets.fdtd import fdtd_trace, frozen_at
 from snowprobe_widgets.processing import ProcessingChain
 from snowprobe_widgets.radargram import Radargram
 from snowprobe_widgets.scene import Scenario
+from snowprobe_widgets.serving import work_limits
 from snowprobe_widgets.synthesis import column_optics, simulate
 from snowprobe_widgets.trace import echo_times, synthesize_trace
 from snowprobe_widgets.widgets import exports
@@ -191,13 +192,15 @@ class ScenarioExplorer(widgets.VBox):
         self.lower = widgets.Tab(
             children=self._lower_slots,
             titles=["Trace", "Spectrum", "Link budget", "Materials lab"])
-        self.lower.observe(lambda _: self._fill_tab(), names="selected_index")
-        self.show_processed.observe(lambda _: self._show_section(), names="value")
-        self.mark_detections.observe(lambda _: self._update_detections(), names="value")
-        self.detection_threshold.observe(lambda _: self._update_detections(), names="value")
-        self.radargram_view.observe(self._on_pick, names="picked_trace_index")
-        self.lower.observe(lambda _: self._refresh_lazy(), names="selected_index")
-        self.trace_view.fdtd_button.on_click(lambda _: self.run_fdtd())
+        # every callback runs guarded: a fault shows a plain message, never a traceback
+        self.lower.observe(self._safe(self._fill_tab), names="selected_index")
+        self.show_processed.observe(self._safe(self._show_section), names="value")
+        self.mark_detections.observe(self._safe(self._update_detections), names="value")
+        self.detection_threshold.observe(self._safe(self._update_detections), names="value")
+        self.radargram_view.observe(self._safe(self._on_pick, True),
+                                    names="picked_trace_index")
+        self.lower.observe(self._safe(self._refresh_lazy), names="selected_index")
+        self.trace_view.fdtd_button.on_click(self._safe(self.run_fdtd))
 
         # files: upload/download when served, paths in a notebook (widgets/file_panel.py)
         self.files = FilePanel(get_scenario=lambda: self.scenario,
@@ -269,12 +272,29 @@ class ScenarioExplorer(widgets.VBox):
         self.scenario = scenario
 
     # ------------------------------------------------------------------ pipeline
+    def _safe(self, action: Any, pass_change: bool = False) -> Any:
+        """A widget callback running ``action`` under :func:`guarded`."""
+        def callback(change: Any) -> None:
+            guarded(self.message, (lambda: action(change)) if pass_change else action,
+                    self._restore_controls)
+
+        return callback
+
+    def _restore_controls(self) -> None:
+        """Put every control back to the scenario and chain on screen."""
+        if self._scenario is not None:
+            for p in self._panels:
+                p.show(self._scenario)
+        if self._chain is not None:
+            self.processing.show(self._chain)
+
     def _on_controls(self) -> None:
         base = self._scenario
         if base is None:
             return
         new: list[Scenario] = []
-        if guarded(self.message, lambda: new.append(build_scenario(base, self._panels))):
+        if guarded(self.message, lambda: new.append(build_scenario(base, self._panels)),
+                   self._restore_controls):
             self._accept(new[0])
 
     def _on_processing(self) -> None:
@@ -283,11 +303,21 @@ class ScenarioExplorer(widgets.VBox):
 
     def _accept(self, scenario: Scenario, pick_m: float | None = None) -> None:
         raw: list[Radargram] = []
-        if not guarded(self.message, lambda: raw.append(self.simulation(scenario))):
+
+        def run() -> None:
+            work_limits().check(scenario)
+            raw.append(self.simulation(scenario))
+
+        if not guarded(self.message, run, self._restore_controls):
             return
+        if not guarded(self.message, lambda: self._show_accepted(scenario, raw[0], pick_m),
+                       self._restore_controls):
+            return
+
+    def _show_accepted(self, scenario: Scenario, raw: Radargram, pick_m: float | None) -> None:
         old = self._scenario
         self._scenario = scenario
-        self._raw = raw[0]
+        self._raw = raw
         if old is None or _column_media_key(old) != _column_media_key(scenario):
             self.trace_view.clear_reference()
         self.section.update(scenario)
@@ -319,7 +349,7 @@ class ScenarioExplorer(widgets.VBox):
             done.append(c.apply(raw))
             chain.append(c)
 
-        if not guarded(self.message, run):
+        if not guarded(self.message, run, self._restore_controls):
             return
         self._chain = chain[0]
         self._processed = done[0]

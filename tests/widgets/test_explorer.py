@@ -500,3 +500,55 @@ def test_the_app_sends_few_widget_models() -> None:
     before = len(ipywidgets.widgets.widget._instances)
     ScenarioExplorer()
     assert len(ipywidgets.widgets.widget._instances) - before < 420
+
+
+# --------------------------------------------------------------------------- bounded work
+
+
+def test_work_over_the_page_limit_is_refused_saying_what_to_reduce(monkeypatch) -> None:
+    from snowprobe_widgets import serving
+
+    monkeypatch.setenv(serving.MAX_CELLS_ENV, str(512 * 300))  # the default: 512 x 201
+    monkeypatch.setenv(serving.MAX_WORK_ENV, "1e12")
+    app = ScenarioExplorer()
+    assert app.message_text == ""
+    first = app.scenario
+    picture = app.radargram_view.image_mark.image.value
+    app.radar.window.value = app.radar.window.value * 2  # twice the samples
+    text = app.message_text
+    assert "over this page's limit" in text and "fewer traces" in text
+    assert "shorter time window" in text
+    assert app.scenario is first
+    assert app.radargram_view.image_mark.image.value == picture
+    monkeypatch.setenv(serving.MAX_WORK_ENV, "10")
+    monkeypatch.setenv(serving.MAX_CELLS_ENV, str(10**9))
+    app.radar.window.value = app.radar.window.value / 2 * 1.01
+    assert "clutter scatterer density" in app.message_text
+
+
+def test_a_fault_in_a_callback_shows_a_plain_message_and_keeps_the_last_state(
+        app: ScenarioExplorer, monkeypatch) -> None:
+    good = app.scenario
+    depth = app.person.depth.value
+    picture = app.radargram_view.image_mark.image.value
+
+    def broken(*args, **kwargs):
+        raise RuntimeError("a fault deep in the model")
+
+    monkeypatch.setattr(app.simulation, "__call__", broken, raising=False)
+    monkeypatch.setattr(type(app.simulation), "__call__", broken)
+    app.person.depth.value = depth + 0.2
+    assert "Something went wrong here (RuntimeError)" in app.message_text
+    assert "Traceback" not in app.message.value
+    assert app.scenario is good
+    assert app.person.depth.value == depth  # controls back beside the picture they made
+    assert app.radargram_view.image_mark.image.value == picture
+    monkeypatch.undo()
+
+    def no_memory(*args, **kwargs):
+        raise MemoryError
+
+    monkeypatch.setattr(type(app.simulation), "__call__", no_memory)
+    app.person.depth.value = depth + 0.2
+    assert "more memory than this session may use" in app.message_text
+    assert app.scenario is good
