@@ -33,7 +33,6 @@ import json
 import math
 import multiprocessing
 import os
-import sys
 import tempfile
 import threading
 from collections.abc import Callable, Mapping, Sequence
@@ -703,10 +702,6 @@ def _run(plan: _Plan, rec: _Records, executor: Any, progress: bool,
     finally:
         bar.close()
     complete = complete and bool(rec.arrays["done"].all())
-    if not complete:
-        print(f"sweep stopped: {int(rec.arrays['done'].sum())} of "
-              f"{rec.arrays['done'].size} realizations finished; resume() completes it",
-              file=sys.stderr)
     return _dataset(plan, rec, complete)
 
 
