@@ -536,8 +536,8 @@ class SearchPlan:
     @property
     def pod(self) -> float:
         """Probability of detection once the area is covered (form used, all depths)."""
-        return float(np.interp(self.coverage.time_s / 60.0, self.curves["minute"].values,
-                               self.curves["pod"].values))
+        per_depth = self.pod_parallel if self.form == "parallel sweep" else self.pod_random
+        return float(per_depth @ self.depth_weights)
 
 
 def _form(spacing_m: float, w_median: float) -> tuple[str, str]:
@@ -590,7 +590,7 @@ def plan_search(lateral: LateralRange, area: DebrisArea, platform: Platform, spa
     heading_deg : float
         Lane direction over a polygon, deg.
     n_times : int
-        Points of the time curves, in [11, 5001].
+        Points of the time curves, in [11, 5001] (plus the end of the coverage).
     """
     if not isinstance(lateral, LateralRange):
         raise ValueError(f"lateral must be a LateralRange, got {type(lateral).__name__}")
@@ -610,7 +610,7 @@ def plan_search(lateral: LateralRange, area: DebrisArea, platform: Platform, spa
     form, reason = _form(s, w_med)
     cover_min = cov.time_s / 60.0
     horizon = max(1.25 * cover_min, 30.0)
-    minute = np.linspace(0.0, horizon, n_t)
+    minute = np.unique(np.append(np.linspace(0.0, horizon, n_t), cover_min))
     done = cov.track_done_m(minute * 60.0)
     frac = done / cov.track_m if cov.track_m > 0 else np.zeros_like(done)
     pod_par_d = frac[:, None] * par[None, :]
