@@ -3,8 +3,9 @@
 This is the only package that imports ipywidgets or bqplot; the model layer below it
 never imports this package.
 
-Apps: :class:`ScenarioExplorer` (everything around one scenario) and
-:class:`MaterialsExplorer`; their pieces (control panels, views) are importable too.
+Apps: :class:`ScenarioExplorer` (everything around one scenario), :class:`MaterialsExplorer`
+and :class:`SearchPlanBoard` (the search plan); their pieces (control panels, views) are
+importable too.
 """
 
 from __future__ import annotations
@@ -24,6 +25,7 @@ from snowprobe_widgets.widgets.panels import (
     RadarPanel,
     SnowpackEditor,
 )
+from snowprobe_widgets.widgets.plan import SearchPlanBoard
 from snowprobe_widgets.widgets.processing_panel import ProcessingPanel
 from snowprobe_widgets.widgets.radargram_view import RadargramView
 from snowprobe_widgets.widgets.views import BudgetView, CrossSectionView, SpectrumView, TraceView
@@ -41,6 +43,7 @@ __all__ = [
     "RadarPanel",
     "RadargramView",
     "ScenarioExplorer",
+    "SearchPlanBoard",
     "SnowpackEditor",
     "SpectrumView",
     "TraceView",
