@@ -224,7 +224,7 @@ class SearchPlanBoard(widgets.VBox):
         left = widgets.VBox([self.spacing, tabs, self.message, self.report_button,
                              self.download, self.status],
                             layout=widgets.Layout(width="440px"))
-        right = widgets.VBox([self.summary, self.time_figure, self.spacing_figure,
+        right = widgets.VBox([self.time_figure, self.summary, self.spacing_figure,
                               self.lateral_figure, self.table],
                              layout=widgets.Layout(width="530px"))
         header = widgets.HTML(
