@@ -50,6 +50,7 @@ from .synthesis import (
     index_offsets,
     target_reflection_spectrum,
 )
+from .targets import kind_of
 
 __all__ = [
     "BudgetRow",
@@ -203,39 +204,13 @@ def _two_way_transmission(optics: ColumnOptics, depth_m: float) -> float:
 
 def _radii_m(target: Any) -> tuple[float, float]:
     """Principal radii of curvature of the target's top, m (inf: flat direction)."""
-    kind = target.kind
-    if kind == "person":
-        a, b, c = target.body_length_m / 2, target.body_width_m / 2, target.body_thickness_m / 2
-        return a * a / c, b * b / c
-    if kind == "boulder":
-        return target.diameter_m / 2, target.diameter_m / 2
-    if kind == "branch":
-        return math.inf, target.diameter_m / 2
-    return math.inf, math.inf
-
-
-def _strip_factor(width_m: float, wavelength0_m: float, r_e_m: float) -> float:
-    """Echo of a strip of ``width_m`` over that of an infinite plane, in one direction.
-
-    Stationary phase across the strip: |integral of exp(-j pi x^2 / F^2) dx over the
-    width| / F with F^2 = lambda_0 R_e / 2, i.e. sqrt(2) |C(u) - j S(u)| with
-    u = (w / 2) sqrt(2) / F (Fresnel integrals; Born & Wolf 1999 sec. 8.7).
-    """
-    from scipy.special import fresnel
-
-    F = math.sqrt(wavelength0_m * r_e_m / 2.0)
-    s_u, c_u = fresnel(width_m / 2.0 * math.sqrt(2.0) / F)
-    return float(math.sqrt(2.0) * abs(complex(c_u, -s_u)))
+    return kind_of(target).principal_radii_m(target)
 
 
 def _plate_factor(target: Any, wavelength_m: float, r_e_m: float, n: float) -> float:
-    """A metal plate narrower than the first Fresnel zone returns less than a flat
-    interface: the product of the two strip factors of its length and width."""
-    if target.kind != "metal":
-        return 1.0
-    lam0 = wavelength_m * n
-    length = target.length_m * math.cos(math.radians(target.tilt_deg))
-    return _strip_factor(length, lam0, r_e_m) * _strip_factor(target.width_m, lam0, r_e_m)
+    """The kind's extra echo factor (a metal plate narrower than the first Fresnel zone
+    returns less than a flat interface; 1 for the other built-in kinds)."""
+    return kind_of(target).budget_factor(target, wavelength_m, r_e_m, n)
 
 
 @dataclass(frozen=True)
@@ -276,7 +251,8 @@ class _EchoModel:
         self.r_fc = []
         for m in self.opt.materials:
             r = target_reflection_spectrum(target, complex(m.permittivity(fc)),
-                                           np.append(fb, fc))
+                                           np.append(fb, fc),
+                                           polarization=radar.polarization)
             self.r_f.append(r[:-1])
             self.r_fc.append(abs(complex(r[-1])))
         self.radii = _radii_m(target)
@@ -360,7 +336,7 @@ class _ClutterModel:
 
 
 def _label(target: Any, scenario: Any) -> str:
-    if target.kind == "person":
+    if kind_of(target).placement == "persons":
         i = scenario.persons.index(target) + 1 if target in scenario.persons else 1
         return target.label or f"person {i}"
     return getattr(target, "label", "") or target.kind

@@ -31,6 +31,7 @@ from .scene_objects import (
     Person,
     Snowpack,
 )
+from .targets import POLARIZATIONS, kinds_in
 
 __all__ = [
     "Layer",
@@ -129,6 +130,11 @@ class Radar:
         (height 0) is outside it and refused.
     beamwidth_deg : float
         Full -3 dB beamwidth in air, deg, in [5, 180].
+    polarization : {"across_line", "along_line"}
+        Direction of the antenna's electric field over the snow, relative to the survey
+        line. Default "across_line": the antennas' long axes across the line, the usual
+        broadside arrangement of a survey (common practice). Matters for objects whose
+        echo depends on it (a thin branch along or across the field).
     """
 
     pulse: str = "ricker"
@@ -142,6 +148,7 @@ class Radar:
     time_window_s: float = 51.2e-9
     antenna_height_m: float = 0.5
     beamwidth_deg: float = 60.0
+    polarization: str = "across_line"
 
     def __post_init__(self) -> None:
         from . import pulses
@@ -175,6 +182,7 @@ class Radar:
             "antenna_height_m", self.antenna_height_m, 0.05, 30.0, unit="m"))
         _set(self, "beamwidth_deg",
              check_range("beamwidth_deg", self.beamwidth_deg, 5.0, 180.0, unit="deg"))
+        check_choice("polarization", self.polarization, POLARIZATIONS)
         f_high = _band_high_hz(self.make_pulse())
         if self.dt_s > 1.0 / (2.0 * f_high) * (1 + 1e-9):
             raise ValueError(
@@ -415,8 +423,9 @@ class Scenario:
     ground : Ground
     persons : sequence of Person
         Buried people (empty when nobody is buried); at most 50.
-    objects : sequence of Boulder, Branch or MetalPlate
-        Debris and equipment; at most 1000.
+    objects : sequence of Boulder, Branch, MetalPlate (or a plugin kind's object)
+        Debris and equipment; at most 1000. Every object's ``kind`` must be registered in
+        :data:`snowprobe_widgets.targets.TARGETS`.
     radar : Radar
     survey : Survey
     clutter : Clutter
@@ -449,9 +458,10 @@ class Scenario:
             value = getattr(self, fname)
             if not isinstance(value, cls):
                 raise ValueError(f"{fname} must be a {cls.__name__}, got {type(value).__name__}")
-        persons = self._tuple_of("persons", self.persons, (Person,), _MAX_PERSONS)
-        objects = self._tuple_of("objects", self.objects, (Boulder, Branch, MetalPlate),
-                                 _MAX_OBJECTS)
+        persons = self._tuple_of("persons", self.persons,
+                                 tuple(k.value_type for k in kinds_in("persons")), _MAX_PERSONS)
+        objects = self._tuple_of("objects", self.objects,
+                                 tuple(k.value_type for k in kinds_in("objects")), _MAX_OBJECTS)
         _set(self, "persons", persons)
         _set(self, "objects", objects)
         _set(self, "name", _check_text("name", self.name, 200))

@@ -3,8 +3,9 @@
 This is the only package that imports ipywidgets or bqplot; the model layer below it
 never imports this package.
 
-Apps: :class:`ScenarioExplorer` (everything around one scenario), :class:`MaterialsExplorer`
-and :class:`SearchPlanBoard` (the search plan); their pieces (control panels, views) are
+Apps: :class:`ScenarioExplorer` (everything around one scenario),
+:class:`MaterialsExplorer`, :class:`TrainingSession` (blind radargram exercises) and
+:class:`SearchPlanBoard` (the search plan); their pieces (control panels, views) are
 importable too.
 """
 
@@ -28,6 +29,7 @@ from snowprobe_widgets.widgets.panels import (
 from snowprobe_widgets.widgets.plan import SearchPlanBoard
 from snowprobe_widgets.widgets.processing_panel import ProcessingPanel
 from snowprobe_widgets.widgets.radargram_view import RadargramView
+from snowprobe_widgets.widgets.training import TrainingSession
 from snowprobe_widgets.widgets.views import BudgetView, CrossSectionView, SpectrumView, TraceView
 
 __all__ = [
@@ -47,6 +49,7 @@ __all__ = [
     "SnowpackEditor",
     "SpectrumView",
     "TraceView",
+    "TrainingSession",
     "colour_map",
     "encode_palette_png",
     "scale_to_index",

@@ -31,6 +31,7 @@ from snowprobe_widgets.processing import ProcessingChain
 from snowprobe_widgets.radargram import Radargram
 from snowprobe_widgets.scene import Scenario
 from snowprobe_widgets.synthesis import column_optics, simulate
+from snowprobe_widgets.targets import validity_warnings
 from snowprobe_widgets.trace import echo_times, synthesize_trace
 from snowprobe_widgets.widgets import exports
 from snowprobe_widgets.widgets._common import (
@@ -226,6 +227,8 @@ class ScenarioExplorer(widgets.VBox):
         self.export_png.on_click(lambda _: self._export("png"))
         self.export_report.on_click(lambda _: self._export("report"))
         self.status = widgets.HTML()
+        #: where a buried object's scattering method is outside its domain (model's words)
+        self.validity = widgets.HTML()
 
         file_bar = widgets.VBox([
             widgets.HBox([self.path, self.open_button, self.save_button, self.demo,
@@ -233,7 +236,7 @@ class ScenarioExplorer(widgets.VBox):
             widgets.HBox([widgets.HTML("export next to the file:"), self.export_csv,
                           self.export_npz, self.export_png, self.export_report]),
             self.file_message, self.file_status])
-        left = widgets.VBox([self.controls, self.message, self.status])
+        left = widgets.VBox([self.controls, self.message, self.status, self.validity])
         right = widgets.VBox([
             self.section, self.radargram_view,
             widgets.HBox([self.show_processed, self.mark_detections, self.detection_threshold]),
@@ -334,6 +337,8 @@ class ScenarioExplorer(widgets.VBox):
         self.status.value = (f"<small>updates={self.updates} | simulated: column "
                              f"{runs['column']}x, objects {runs['objects']}x, noise "
                              f"{runs['noise']}x</small>")
+        self.validity.value = "".join(f"<small>&#9888; {html.escape(w)}</small><br>"
+                                      for w in validity_warnings(scenario))
 
     def _fill_tab(self) -> None:
         i = self.lower.selected_index

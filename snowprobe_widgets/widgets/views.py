@@ -19,6 +19,7 @@ import numpy as np
 
 from snowprobe_widgets import raypaths
 from snowprobe_widgets.synthesis import column_optics
+from snowprobe_widgets.targets import kind_of
 from snowprobe_widgets.widgets._common import as_f32, message_line, show_message
 
 _NS, _MHZ = 1e-9, 1e6
@@ -28,7 +29,8 @@ _CRUST_COLOUR = "#9fd6e8"
 _SOIL_COLOUR = "#8b6b4a"
 _ROCK_COLOUR = "#7d7d7d"
 _PERSON_COLOUR = "#d9480f"
-_DEBRIS_COLOURS = {"boulder": "#5f5f5f", "branch": "#6b4f1d", "metal": "#111111"}
+_KIND_COLOURS = {"person": _PERSON_COLOUR, "boulder": "#5f5f5f", "branch": "#6b4f1d",
+                 "metal": "#111111"}
 _GROUND_SHOWN_M = 0.5
 _WETNESS_FULL_PERCENT = 12.0
 _SPECTRUM_FLOOR_DB = -80.0
@@ -41,41 +43,6 @@ def wetness_colour(lwc_percent: float, ice_crust: bool = False) -> str:
     f = float(np.clip(lwc_percent / _WETNESS_FULL_PERCENT, 0.0, 1.0))
     r, g, b = (_DRY_RGB + f * (_WET_RGB - _DRY_RGB)).round().astype(int)
     return f"#{r:02x}{g:02x}{b:02x}"
-
-
-def _ellipse(cx: float, cz: float, a: float, b: float, n: int = 40) -> tuple[np.ndarray, ...]:
-    t = np.linspace(0.0, 2 * np.pi, n)
-    return cx + a * np.cos(t), cz + b * np.sin(t)
-
-
-def _outline(obj: Any) -> tuple[np.ndarray, np.ndarray]:
-    """Outline of a buried thing in the vertical plane of the line (x along, z down), m.
-
-    The along-line half length is the horizontal footprint projected on the line
-    (drawing geometry only).
-    """
-    kind = obj.kind
-    if kind == "person":
-        h = math.radians(obj.heading_deg)
-        half = 0.5 * math.hypot(obj.body_length_m * math.cos(h), obj.body_width_m * math.sin(h))
-        c = 0.5 * obj.body_thickness_m
-        return _ellipse(obj.position_m, obj.depth_m + c, half, c)
-    if kind == "boulder":
-        r = 0.5 * obj.diameter_m
-        return _ellipse(obj.position_m, obj.depth_m + r, r, r)
-    if kind == "branch":
-        h = math.radians(obj.heading_deg)
-        half = max(0.5 * abs(obj.length_m * math.cos(h)), 0.5 * obj.diameter_m)
-        r = 0.5 * obj.diameter_m
-        return _ellipse(obj.position_m, obj.depth_m + r, half, r)
-    # metal plate: a tilted segment
-    h, tilt = math.radians(obj.heading_deg), math.radians(obj.tilt_deg)
-    half = 0.5 * obj.length_m * math.cos(tilt) * abs(math.cos(h))
-    dz = obj.length_m * abs(math.sin(tilt))
-    x = np.array([obj.position_m - half, obj.position_m + half])
-    z = np.array([obj.depth_m, obj.depth_m + dz]) if tilt >= 0 else np.array(
-        [obj.depth_m + dz, obj.depth_m])
-    return x, z
 
 
 def _stack(polys: list[tuple[np.ndarray, np.ndarray]]) -> tuple[np.ndarray, np.ndarray]:
@@ -186,9 +153,8 @@ class CrossSectionView(widgets.VBox):
                  for t, la in zip(tops, snow.layers, strict=True)]
         lx, lz = _stack(polys)
         g_colour = _SOIL_COLOUR if scenario.ground.kind == "soil" else _ROCK_COLOUR
-        bx, bz = _stack([_outline(t) for t in targets])
-        colours = [_PERSON_COLOUR if t.kind == "person" else _DEBRIS_COLOURS.get(t.kind, "#333")
-                   for t in targets] or [_PERSON_COLOUR]
+        bx, bz = _stack([kind_of(t).outline(t) for t in targets])
+        colours = [_KIND_COLOURS.get(t.kind, "#333") for t in targets] or [_PERSON_COLOUR]
         with self.figure.hold_sync():
             with self.layers.hold_sync():
                 self.layers.x, self.layers.y = as_f32(lx), as_f32(lz)
