@@ -19,7 +19,7 @@ from snowprobe_widgets import __version__
 from snowprobe_widgets.cautions import CAUTION_TEXT
 from snowprobe_widgets.plan import PLAN_CAUTIONS, SearchPlan
 
-_W, _H, _PAD = 640, 220, 36
+_W, _H, _PAD = 640, 190, 36
 
 
 def _polyline(x: np.ndarray, y: np.ndarray, x_max: float, colour: str,
@@ -50,7 +50,8 @@ def chart_svg(plan: SearchPlan) -> str:
     for frac in (0.0, 0.5, 1.0):
         y = _H - _PAD - frac * (_H - 2 * _PAD)
         parts.append(f'<text x="4" y="{y + 4:.0f}" font-size="10">{100 * frac:.0f} %</text>')
-    for t in np.linspace(0.0, x_max, 5):
+    step = next(m for m in (5, 10, 15, 20, 30, 60, 120, 240, 600) if x_max / m <= 8)
+    for t in np.arange(0.0, x_max + 1e-9, step):
         x = _PAD + t / x_max * (_W - 2 * _PAD)
         parts.append(f'<text x="{x - 8:.0f}" y="{_H - 18}" font-size="10">{t:.0f}</text>')
     parts.append(f'<text x="{_W / 2 - 60:.0f}" y="{_H - 4}" font-size="10">'
@@ -58,6 +59,9 @@ def chart_svg(plan: SearchPlan) -> str:
     parts.append(_polyline(burial, c["pod"].values, x_max, "#1f5fa8"))
     parts.append(_polyline(burial, c["pod_probe_line"].values, x_max, "#2f855a", "6,4"))
     parts.append(_polyline(table_m, table_f, x_max, "#c2410c", "2,3"))
+    for t, f in zip(table_m, table_f, strict=True):  # the sourced points; lines between
+        parts.append(f'<circle cx="{_PAD + t / x_max * (_W - 2 * _PAD):.1f}" '
+                     f'cy="{_H - _PAD - f * (_H - 2 * _PAD):.1f}" r="3" fill="#c2410c"/>')
     parts.append('<text x="44" y="30" font-size="10" fill="#1f5fa8">radar plan: found</text>'
                  '<text x="170" y="30" font-size="10" fill="#2f855a">probe line: found</text>'
                  f'<text x="300" y="30" font-size="10" fill="#c2410c">survival '
@@ -108,7 +112,9 @@ table {{ border-collapse: collapse; font-size: 10pt; }}
 td, th {{ border: 1px solid #bbb; padding: 2px 6px; text-align: left; }}
 .caution {{ background: #fff8e1; border: 1px solid #e0b84c; padding: 6px 10px; }}
 ul {{ margin: 2px 0 2px 1.2em; padding: 0; }} small {{ color: #555; }}
-@media print {{ body {{ margin: 0; max-width: none; }} }}
+@page {{ margin: 12mm; }}
+@media print {{ body {{ margin: 0; max-width: none; font-size: 8pt; }}
+  table, small {{ font-size: 7.5pt; }} h2 {{ margin: 5px 0 2px; }} p {{ margin: 3px 0; }} }}
 </style></head><body>
 <h1>Radar search plan: {html.escape(scenario_name)}</h1>
 <div class="caution"><b>Caution.</b> {html.escape(CAUTION_TEXT)}<ul>{cautions}</ul></div>
@@ -119,6 +125,8 @@ starts {plan.arrival_min:g} min after the burial, digging out takes {plan.dig_mi
 <ul>{sentences}</ul>
 <h2>Finding the person and survival</h2>
 {chart_svg(plan)}
+<p><small>Blue: chance the radar plan has found the person; green: the probe line; orange
+dots: the published survival points, the dotted line between them interpolated.</small></p>
 <h2>Side by side</h2>
 {table}
 <h2>Sources</h2>

@@ -89,6 +89,9 @@ def test_printable_plan_downloads_and_opens(page, browser):
         assert view.locator("h1").inner_text().startswith("Radar search plan")
         assert view.locator("svg").count() == 1
         assert "lane spacing" in view.locator("body").inner_text()
+        # printed, it is one page (A4, headless Chromium's PDF printer)
+        pdf = view.pdf(format="A4")
+        assert pdf.count(b"/Type /Page") - pdf.count(b"/Type /Pages") == 1
     finally:
         view.close()
     assert record.foreign_requests(launcher.base_url) == []
