@@ -12,7 +12,9 @@ A file holds one JSON object::
     }
 
 Every field of every value object is written explicitly and must be present on reading,
-except fields added after schema version 1 was first written (``radar.polarization``),
+except fields added after schema version 1 was first written (``radar.polarization``,
+``radar.antenna_band_low_hz`` / ``_high_hz``, ``dynamic_range_db``, ``ringing_level_db``,
+``ringing_time_s``),
 which an older file may lack and then take their default; ``objects`` entries carry a
 ``"type"`` tag: the name of a registered buried object kind (``"boulder"``, ``"branch"``,
 ``"metal"``, or a plugin's, see :mod:`snowprobe_widgets.targets`), whose fields the
@@ -148,7 +150,11 @@ _RADAR = _Spec(Radar, {
     "pulse": _STR, "center_frequency_hz": _NUM, "bandwidth_hz": _OPT_NUM,
     "transmit_power_dbm": _NUM, "noise_floor_dbm": _NUM, "stacking": _INT,
     "antenna_gain_dbi": _NUM, "dt_s": _NUM, "time_window_s": _NUM, "antenna_height_m": _NUM,
-    "beamwidth_deg": _NUM, "polarization": _STR}, added=("polarization",))
+    "beamwidth_deg": _NUM, "polarization": _STR, "antenna_band_low_hz": _OPT_NUM,
+    "antenna_band_high_hz": _OPT_NUM, "dynamic_range_db": _NUM, "ringing_level_db": _NUM,
+    "ringing_time_s": _OPT_NUM},
+    added=("polarization", "antenna_band_low_hz", "antenna_band_high_hz", "dynamic_range_db",
+           "ringing_level_db", "ringing_time_s"))
 _SURVEY = _Spec(Survey, {"start_m": _NUM, "end_m": _NUM, "trace_spacing_m": _NUM})
 _CLUTTER = _Spec(Clutter, {"scatterer_density_per_m3": _NUM, "scatterer_size_m": _NUM,
                            "thin_layer_count": _INT, "thin_layer_contrast": _NUM,

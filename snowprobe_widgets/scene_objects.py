@@ -121,11 +121,13 @@ class Layer:
                     f"allowed range (0, {_MAX_CRUST_THICKNESS_M:g}] m when ice_crust is True"
                 )
 
-    def material(self) -> Any:
-        """The layer's dielectric model, from :func:`snowprobe_widgets.materials.snow`."""
+    def material(self, temperature_c: float = -5.0) -> Any:
+        """The layer's dielectric model at ``temperature_c`` (degC; the snowpack's, which
+        :meth:`Snowpack.materials` passes), from :func:`snowprobe_widgets.materials.snow`."""
         from . import materials
 
-        return materials.snow(self.density_kg_m3, self.lwc_percent)
+        return materials.snow(self.density_kg_m3, self.lwc_percent,
+                              temperature_c=temperature_c)
 
 
 @dataclass(frozen=True)
@@ -138,7 +140,8 @@ class Snowpack:
         From the surface down; 1 to 200 layers, total depth at most 100 m. A list is
         stored as a tuple so the snowpack stays hashable.
     temperature_c : float
-        Snow temperature, degC, in [-50, 0] (used for the loss of dry snow and ice).
+        Snow temperature, degC, in [-50, 0]: every layer's material is made at it
+        (:meth:`materials`), so it sets the ice loss of dry snow and crusts.
     """
 
     layers: tuple[Layer, ...]
@@ -178,8 +181,9 @@ class Snowpack:
         return np.array([layer.thickness_m for layer in self.layers])
 
     def materials(self) -> tuple[Any, ...]:
-        """Dielectric model of each layer, surface first (via ``materials.snow``)."""
-        return tuple(layer.material() for layer in self.layers)
+        """Dielectric model of each layer at the snowpack's temperature, surface first
+        (via ``materials.snow``, the one place that makes a layer's material)."""
+        return tuple(layer.material(self.temperature_c) for layer in self.layers)
 
     def layer_index(self, depth_m: float) -> int:
         """Index of the layer holding ``depth_m`` (a depth on an interface belongs to the

@@ -207,3 +207,20 @@ def test_cylinder_trace_refuses_bad_input_with_the_field_named() -> None:
         BuriedCylinder(0.0, 0.05, 0.1, mat.metal())
     with pytest.raises(ValueError, match="below the 1 m snowpack"):
         cylinder_trace([snow, snow], [1.0], BuriedCylinder(0.0, 0.9, 0.2, mat.metal()), **kw)
+
+
+@pytest.mark.parametrize("pol", ["TE", "TM"])
+def test_point_source_echo_has_the_reflection_coefficient_sign(pol: str) -> None:
+    # The model's convention: a reflector of coefficient r returns r times the pulse. A
+    # metal cylinder (r = -1) must return an inverted pulse, an air-filled one in dense
+    # snow (r = (n_snow - 1) / (n_snow + 1) > 0, Born & Wolf 1999 sect. 1.5) an upright
+    # one, in both polarisations (TM records eta0 H_y, whose upgoing echo has the
+    # opposite sign of the received E_x)
+    snow = mat.snow(450.0)
+    kw = dict(antenna_x_m=0.0, antenna_height_m=0.3, pulse=PULSE, dt_s=2e-11,
+              n_samples=600, polarization=pol)
+    for material, sign in ((mat.metal(), -1.0), (mat.air(), 1.0)):
+        tr = cylinder_trace([snow, snow], [1.0], BuriedCylinder(0.0, 0.4, 0.12, material),
+                            **kw)
+        peak = tr.point_source[np.argmax(np.abs(tr.point_source))]
+        assert np.sign(peak) == sign, (material.name, peak)
