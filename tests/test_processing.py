@@ -575,6 +575,7 @@ def test_velocity_analysis_recovers_material_model_velocity_on_simulated_data(
         Clutter,
         Ground,
         Layer,
+        MetalPlate,
         Radar,
         Scenario,
         Snowpack,
