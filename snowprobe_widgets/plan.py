@@ -60,7 +60,6 @@ from .search_theory import (
     parallel_sweep_pod,
     random_search_pod,
     sweep_width_m,
-    wilson_interval,
 )
 
 __all__ = [
@@ -175,7 +174,10 @@ class LateralRange:
         p = np.atleast_2d(np.asarray(probability, float))
         lo = hi = None
         if realizations is not None:
-            lo, hi = wilson_interval(p, realizations)
+            from .sweeps import wilson_interval
+
+            n = int(check_range("realizations", realizations, 1, 1e9))
+            lo, hi = wilson_interval(np.round(p * n), np.full(p.shape, n))
             source = f"{source} ({int(realizations)} realizations per point)"
         return cls(np.atleast_1d(np.asarray(depth_m, float)), np.asarray(offset_m, float),
                    p, lo, hi, source)
@@ -451,11 +453,8 @@ def lateral_range_from_sweep(scenario: Any, *, antenna_height_m: float | None = 
     unchanged. Offsets are limited to 5 m by the scenario (a person lies within 5 m of the
     line); a curve still above 2 % there is cut short (:attr:`LateralRange.cut_short`).
     """
-    try:
-        from . import sweep
-    except ImportError as exc:  # the sweep module is a separate part of the package
-        raise ValueError("lateral_range_from_sweep needs snowprobe_widgets.sweep, which "
-                         "this installation lacks") from exc
+    from . import sweep
+
     depths = _check_depths(depths_m)
     offsets = np.asarray(offsets_m, float)
     sc, _person = _search_scenario(scenario, antenna_height_m, float(depths[-1]))

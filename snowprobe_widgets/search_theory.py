@@ -32,7 +32,6 @@ from ._validate import check_range
 __all__ = [
     "lateral_curve_arrays",
     "sweep_width_m",
-    "wilson_interval",
     "parallel_sweep_pod",
     "random_search_pod",
 ]
@@ -92,20 +91,6 @@ def sweep_width_m(offset_m: object, probability: object) -> float:
     x, p = lateral_curve_arrays(offset_m, probability)
     w = float(trapezoid(p, x))
     return 2.0 * w if x[0] >= 0.0 else w
-
-
-def wilson_interval(probability: object, realizations: int,
-                    z: float = 1.959964) -> tuple[np.ndarray, np.ndarray]:
-    """Wilson score interval of a Monte Carlo probability (95 % by default).
-
-    E. B. Wilson, J. Am. Stat. Assoc. 22:209-212 (1927). Returns ``(lower, upper)``.
-    """
-    n = check_range("realizations", realizations, 1, 1e9)
-    p = np.asarray(probability, float)
-    denom = 1.0 + z * z / n
-    centre = (p + z * z / (2 * n)) / denom
-    half = z * np.sqrt(p * (1 - p) / n + z * z / (4 * n * n)) / denom
-    return np.clip(centre - half, 0.0, 1.0), np.clip(centre + half, 0.0, 1.0)
 
 
 def parallel_sweep_pod(offset_m: object, probability: object, spacing_m: float,

@@ -207,3 +207,20 @@ def test_spacing_tradeoff_time_against_probability():
     assert ds.attrs["sweep_width_median_m"] == pytest.approx(4.0, rel=0.01)
     # the form used switches to random search beyond W
     assert ds["pod"].values[3] == pytest.approx(ds["pod_random"].values[3])
+
+
+def test_lateral_range_from_a_real_sweep():
+    # the whole path through snowprobe_widgets.sweep (simulate, detect, score): a person on
+    # the line 0.6 m down in dry powder is found, one 5 m to the side (outside the 60 deg
+    # beam's footprint at 0.5 m height) is not; one realization per cell, in this process
+    from snowprobe_widgets.plan import lateral_range_from_sweep
+
+    sc = Scenario.example("shallow_dry_powder")
+    lr = lateral_range_from_sweep(sc, depths_m=[0.6], offsets_m=[0.0, 5.0], realizations=1,
+                                  executor=1, progress=False)
+    assert lr.source == "Monte Carlo sweep, 1 realizations per point"
+    assert list(lr.probability[0]) == [1.0, 0.0]
+    assert lr.lower is not None and lr.upper is not None
+    assert lr.upper[0, 1] > 0.0  # one realization leaves a wide interval
+    lo, hi = lr.sweep_width_interval_m
+    assert lo[0] <= lr.sweep_width_m[0] <= hi[0]

@@ -19,7 +19,6 @@ from snowprobe_widgets.plan import sweep_width_m
 from snowprobe_widgets.search_theory import (
     parallel_sweep_pod,
     random_search_pod,
-    wilson_interval,
 )
 
 
@@ -101,10 +100,3 @@ def test_random_search_hand_worked():
     assert float(random_search_pod(4.0, 2.0 * 600.0, 1e4)) == pytest.approx(0.3812, abs=1e-4)
     with pytest.raises(ValueError, match="area_m2"):
         random_search_pod(4.0, 100.0, 0.0)
-
-
-def test_wilson_interval_brackets_the_estimate():
-    # Wilson 1927: for 8 of 10 the 95 % interval is [0.490, 0.943] (worked by hand)
-    lo, hi = wilson_interval(0.8, 10)
-    assert float(lo) == pytest.approx(0.490, abs=0.002)
-    assert float(hi) == pytest.approx(0.943, abs=0.002)
