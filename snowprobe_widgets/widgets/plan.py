@@ -22,6 +22,7 @@ from snowprobe_widgets.burial_statistics import (
     DEPTH_DISTRIBUTIONS,
     SURVIVAL_TABLES,
 )
+from snowprobe_widgets.coverage import ICAR_RATE_M2_MIN
 from snowprobe_widgets.plan import (
     PLAN_CAUTIONS,
     PLATFORMS,
@@ -176,10 +177,12 @@ class SearchPlanBoard(widgets.VBox):
         self._time_line = _line({"x": sx, "y": st}, _BLUE, "time to clear (min)")
         self._pod_line = _line({"x": sx, "y": sp}, _ORANGE, "found, form used (%)")
         self._spacing_rule = _line({"x": sx, "y": sp}, _GREY, "chosen spacing", "dashed")
+        self._icar_line = _line({"x": sx, "y": st}, _GREEN, "ICAR 2006: 100 m2/min", "dashed")
         pod_axis = bqplot.Axis(scale=sp, side="right",
                                label="found (%)", grid_lines="none", tick_format=".0f")
         self.spacing_figure = _figure("lane spacing (m)", "time to clear (min)",
-                                      [self._time_line, self._pod_line, self._spacing_rule],
+                                      [self._time_line, self._pod_line, self._spacing_rule,
+                                       self._icar_line],
                                       {"x": sx, "y": st}, extra_axes=(pod_axis,))
         bx, by = bqplot.LinearScale(min=0.0), bqplot.LinearScale(min=0.0, max=100.0)
         s = {"x": bx, "y": by}
@@ -372,6 +375,11 @@ class SearchPlanBoard(widgets.VBox):
         with self._spacing_rule.hold_sync():
             self._spacing_rule.x = as_f32([self.spacing.value] * 2)
             self._spacing_rule.y = as_f32([0.0, 100.0])
+        # below this line the coverage rate meets the ICAR guideline (area / 100 m2/min)
+        icar_min = self._plan.coverage.area_m2 / ICAR_RATE_M2_MIN
+        with self._icar_line.hold_sync():
+            self._icar_line.x = as_f32([x[0], x[-1]])
+            self._icar_line.y = as_f32([icar_min, icar_min])
 
     def _draw_time(self, plan: SearchPlan) -> None:
         c = plan.curves

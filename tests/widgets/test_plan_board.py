@@ -58,6 +58,9 @@ def test_spacing_changes_the_plan_and_the_curves(app):
     assert app.plan.coverage.time_s < old_time
     assert not np.array_equal(np.asarray(app._found_line.y), old_curve)
     assert float(app._spacing_rule.x[0]) == pytest.approx(app.spacing.value)
+    # the ICAR 2006 line: the time at which the area is cleared at 100 m2/min
+    assert float(app._icar_line.y[0]) == pytest.approx(
+        app.length.value * app.width.value / 100.0, rel=1e-6)
 
 
 def test_no_nan_reaches_a_plot(app):
