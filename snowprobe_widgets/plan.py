@@ -481,6 +481,7 @@ class SearchPlan:
         Probability that the burial is deeper than the computed depths (counted as not
         found).
     median_depth_m : float
+        Median of the depth distribution (for curves at one depth only: that depth), m.
     sweep_width_m : ndarray, shape (n_depths,)
     sweep_width_median_m : float
         Sweep width interpolated to the median burial depth.
@@ -539,17 +540,26 @@ class SearchPlan:
         return float(per_depth @ self.depth_weights)
 
 
-def _form(spacing_m: float, w_median: float) -> tuple[str, str]:
+def _form(spacing_m: float, w_median: float, where: str = "the median burial depth"
+          ) -> tuple[str, str]:
     if spacing_m <= w_median:
         return ("parallel sweep",
                 f"lanes {spacing_m:g} m apart are no wider than the {w_median:.1f} m sweep "
-                "width at the median burial depth, so they overlap and a lane flown a "
-                "little off its line leaves no gap: the parallel-sweep form is used")
+                f"width at {where}, so they overlap and a lane flown a little off its line "
+                "leaves no gap: the parallel-sweep form is used")
     return ("random search",
             f"lanes {spacing_m:g} m apart are wider than the {w_median:.1f} m sweep width "
-            "at the median burial depth, so gaps remain between them and, with navigation "
+            f"at {where}, so gaps remain between them and, with navigation "
             "errors over rough debris, where they fall is random: Koopman's random-search "
             "form 1 - exp(-W v t / A) is used (the conservative case)")
+
+
+def _depth_weights(lateral: LateralRange, dist: DepthDistribution) -> tuple[np.ndarray, float]:
+    """Weights of the computed depths under ``dist``; curves at one depth only stand for
+    every burial (the distribution cannot be used)."""
+    if lateral.depth_m.size == 1:
+        return np.ones(1), 0.0
+    return dist.weights(lateral.depth_m)
 
 
 def _pod_depths(lateral: LateralRange, spacing_m: float) -> tuple[np.ndarray, np.ndarray]:
@@ -602,11 +612,12 @@ def plan_search(lateral: LateralRange, area: DebrisArea, platform: Platform, spa
     probes = probe_line if probe_line is not None else ProbeLine()
     cov = coverage(area, platform, s, heading_deg)
 
-    weights, deeper = dist.weights(lateral.depth_m)
+    weights, deeper = _depth_weights(lateral, dist)
     w, par = _pod_depths(lateral, s)
-    med = dist.median_m
+    med = dist.median_m if lateral.depth_m.size > 1 else float(lateral.depth_m[0])
     w_med = float(np.interp(med, lateral.depth_m, w))
-    form, reason = _form(s, w_med)
+    form, reason = _form(s, w_med, "the median burial depth" if lateral.depth_m.size > 1
+                         else "that depth")
     cover_min = cov.time_s / 60.0
     horizon = max(1.25 * cover_min, 30.0)
     minute = np.unique(np.append(np.linspace(0.0, horizon, n_t), cover_min))
@@ -683,12 +694,15 @@ def _summary(plan: SearchPlan) -> tuple[str, ...]:
         lo = float(np.interp(plan.median_depth_m, plan.lateral.depth_m, interval[0]))
         hi = float(np.interp(plan.median_depth_m, plan.lateral.depth_m, interval[1]))
         w_txt += f" (95 % interval {lo:.1f} to {hi:.1f} m)"
-    out.append(f"Sweep width at the median burial depth of {plan.median_depth_m:.2f} m "
-               f"({plan.depths.name}): {w_txt}, from the {plan.lateral.source}. "
+    where = (f"the median burial depth of {plan.median_depth_m:.2f} m ({plan.depths.name})"
+             if plan.lateral.depth_m.size > 1 else
+             f"the one depth computed, {plan.median_depth_m:.2f} m (every burial is taken "
+             "at this depth; the depth distribution is not used)")
+    out.append(f"Sweep width at {where}: {w_txt}, from the {plan.lateral.source}. "
                f"{plan.form_reason[0].upper()}{plan.form_reason[1:]}.")
     pod_med = float(np.interp(minutes, c["minute"].values, c["pod_median_depth"].values))
     pod_all = float(np.interp(minutes, c["minute"].values, c["pod"].values))
-    out.append(f"By minute {minutes:.0f} of the search a person at the median burial depth "
+    out.append(f"By minute {minutes:.0f} of the search a person at that depth "
                f"would be found with {_pct(pod_med)} probability; over the whole depth "
                f"distribution {_pct(pod_all)}.")
     end = plan.arrival_min + minutes + plan.dig_min
@@ -749,7 +763,7 @@ def spacing_tradeoff(lateral: LateralRange, area: DebrisArea, platform: Platform
     if sp.size < 1:
         raise ValueError("spacings_m is empty; give at least one lane spacing")
     dist = depth_distribution(depths)
-    weights, _deeper = dist.weights(lateral.depth_m)
+    weights, _deeper = _depth_weights(lateral, dist)
     w = lateral.sweep_width_m
     w_med = float(np.interp(dist.median_m, lateral.depth_m, w))
     rows = []

@@ -224,3 +224,13 @@ def test_lateral_range_from_a_real_sweep():
     assert lr.upper[0, 1] > 0.0  # one realization leaves a wide interval
     lo, hi = lr.sweep_width_interval_m
     assert lo[0] <= lr.sweep_width_m[0] <= hi[0]
+
+
+def test_curves_at_one_depth_stand_for_every_burial():
+    lr = _cookie_cutter(2.0, depths=(1.0,))
+    walker = Platform("walker", 1.0, 0.3, 20.0, 0.0)
+    plan = plan_search(lr, DebrisArea.rectangle(40.0, 40.0), walker, 8.0)
+    assert list(plan.depth_weights) == [1.0] and plan.mass_deeper == 0.0
+    assert plan.median_depth_m == 1.0
+    assert plan.pod == pytest.approx(1 - np.exp(-4.01 * 200.0 / 1600.0), abs=1e-3)
+    assert any("depth distribution is not used" in s for s in plan.summary)
