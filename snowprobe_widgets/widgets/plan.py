@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import base64
 import html
+import tempfile
 from typing import Any
 
 import bqplot
@@ -65,6 +66,8 @@ _BLUE, _ORANGE, _GREEN, _GREY = "#1f5fa8", "#c2410c", "#2f855a", "#888888"
 _SPACINGS_M = np.geomspace(0.5, 30.0, 16)
 _DEMO = "demo: "
 _FILE = "file: "
+_ESTIMATE = "link-budget estimate (fast)"
+_SWEEP = "sweep: "
 
 
 def _figure(x_label: str, y_label: str, marks: list, scales: dict, *,
@@ -116,6 +119,7 @@ class SearchPlanBoard(widgets.VBox):
         self._designs: dict[str, Scenario] = {
             _DEMO + name: Scenario.example(name) for name in Scenario.examples()}
         self._lateral: dict[tuple, LateralRange] = {}
+        self._sweeps: dict[str, LateralRange] = {}
         self._plan: SearchPlan | None = None
         self._others: list[tuple[str, SearchPlan]] = []
         if scenario is not None:
@@ -143,6 +147,9 @@ class SearchPlanBoard(widgets.VBox):
         self.design = dropdown("radar design", list(self._designs), first)
         self.upload = widgets.FileUpload(accept=".json", multiple=False,
                                          description="open saved scenario")
+        self.lateral_source = dropdown("lateral range", [_ESTIMATE], _ESTIMATE)
+        self.sweep_upload = widgets.FileUpload(accept=".nc", multiple=False,
+                                               description="open saved sweep")
         self.threshold = float_slider("call level (dB)", 10.0, 0.0, 40.0, 1.0,
                                       readout_format=".0f",
                                       tooltip="echo over noise and clutter that an operator "
@@ -213,7 +220,12 @@ class SearchPlanBoard(widgets.VBox):
                                  self.length, self.width, self.corners, self.platform,
                                  self.speed, self.height, self.trace_rate, self.turn])
         radar_box = widgets.VBox([section_title("Radar design and time"), self.design,
-                                  self.upload, self.threshold, self.arrival, self.dig,
+                                  self.upload, self.lateral_source, self.sweep_upload,
+                                  widgets.HTML(
+                                      "<small>A saved sweep over persons[0].offset_m (and "
+                                      "persons[0].depth_m) gives Monte Carlo curves with an "
+                                      "interval, at the sweep's own antenna height.</small>"),
+                                  self.threshold, self.arrival, self.dig,
                                   self.survival, self.depths])
         probe_box = widgets.VBox([section_title("Probe line"), self.team, self.probe_first,
                                   self.probe_full, widgets.HTML(
@@ -241,11 +253,13 @@ class SearchPlanBoard(widgets.VBox):
         self._sync_shape()
         for w in (self.spacing, self.shape, self.length, self.width, self.corners,
                   self.speed, self.height, self.trace_rate, self.turn, self.design,
+                  self.lateral_source,
                   self.threshold, self.arrival, self.dig, self.survival, self.depths,
                   self.team, self.probe_first, self.probe_full):
             w.observe(self._on_control, names="value")
         self.platform.observe(self._on_platform, names="value")
         self.upload.observe(self._on_upload, names="value")
+        self.sweep_upload.observe(self._on_sweep_upload, names="value")
         self.report_button.on_click(lambda _b: self.report())
         self._apply_preset(self.platform.value)
         self.redraw()
@@ -279,6 +293,25 @@ class SearchPlanBoard(widgets.VBox):
         try:
             self.design.options = list(self._designs)
             self.design.value = key
+        finally:
+            self._busy = False
+        self.redraw()
+
+    def add_sweep(self, label: str, dataset: Any) -> None:
+        """Offer the lateral range curves of a sweep dataset (over ``persons[0].offset_m``,
+        optionally ``persons[0].depth_m``) as ``sweep: label`` and choose them."""
+        lateral = LateralRange.from_dataset(dataset)
+        height = Scenario.from_json(dataset.attrs["base_scenario"]).radar.antenna_height_m
+        lateral = LateralRange(lateral.depth_m, lateral.offset_m, lateral.probability,
+                               lateral.lower, lateral.upper,
+                               f"{lateral.source} ({label}, antenna {height:g} m above the "
+                               "snow: the platform height is not used)")
+        key = _SWEEP + label
+        self._sweeps[key] = lateral
+        self._busy = True
+        try:
+            self.lateral_source.options = [_ESTIMATE, *self._sweeps]
+            self.lateral_source.value = key
         finally:
             self._busy = False
         self.redraw()
@@ -342,7 +375,10 @@ class SearchPlanBoard(widgets.VBox):
         options = {"arrival_min": self.arrival.value, "dig_min": self.dig.value,
                    "depths": self.depths.value, "survival": self.survival.value,
                    "probe_line": probes}
-        lateral = self._lateral_for(scenario, platform.antenna_height_m)
+        if self.lateral_source.value == _ESTIMATE:
+            lateral = self._lateral_for(scenario, platform.antenna_height_m)
+        else:
+            lateral = self._sweeps[self.lateral_source.value]
         plan = plan_search(lateral, area, platform, self.spacing.value, **options)
         trade = spacing_tradeoff(lateral, area, platform,
                                  np.union1d(_SPACINGS_M, [self.spacing.value]),
@@ -352,7 +388,7 @@ class SearchPlanBoard(widgets.VBox):
             if name == self.platform.value:
                 continue
             lr = self._lateral_for(scenario, preset.antenna_height_m)
-            others.append((f"this radar, {name}",
+            others.append((f"this radar, {name} (link-budget estimate)",
                            plan_search(lr, area, preset, self.spacing.value, **options)))
         self._plan, self._others = plan, others
         self._draw_spacing(trade)
@@ -489,6 +525,27 @@ class SearchPlanBoard(widgets.VBox):
             self.add_design(name, Scenario.from_json(content))
         except ValueError as exc:  # the design on screen stays as it was
             show_message(self.message, f"{name} was not opened: {exc}")
+
+    def _on_sweep_upload(self, change: dict[str, Any]) -> None:
+        files = change["new"]
+        if not files:
+            return
+        item = files[-1]
+        name = str(item.get("name", "sweep.nc"))
+        content = bytes(item.get("content", b""))
+        self.sweep_upload.value = ()
+        from snowprobe_widgets.sweeps import load
+
+        try:
+            # sweeps.load reads a file: a private temporary one, deleted on closing
+            with tempfile.NamedTemporaryFile(suffix=".nc") as tmp:
+                tmp.write(content)
+                tmp.flush()
+                dataset = load(tmp.name)
+            self.add_sweep(name, dataset)
+        except (ValueError, OSError, KeyError, TypeError) as exc:
+            show_message(self.message, f"{name} was not opened as a sweep: "
+                         f"{str(exc).replace(tmp.name, name)}")
 
 
 __all__ = ["DOWNLOAD_CLASS", "PLAN_STATUS_CLASS", "REPORT_BUTTON_CLASS", "SPACING_CLASS",

@@ -121,3 +121,30 @@ def test_printable_plan_carries_the_cautions_and_the_plan(app):
     # a new plan withdraws the old download
     app.dig.value = 15.0
     assert app.download.value == ""
+
+
+def test_a_saved_sweep_gives_the_lateral_range(app, tmp_path):
+    from snowprobe_widgets import sweep
+    from snowprobe_widgets.sweeps import save
+
+    ds = sweep(Scenario.example("shallow_dry_powder"),
+               {"persons[0].offset_m": [0.0, 5.0], "persons[0].depth_m": [0.6, 1.2]},
+               realizations=1, executor=1, progress=False)
+    save(ds, tmp_path / "lanes.nc")
+    data = (tmp_path / "lanes.nc").read_bytes()
+    app.sweep_upload.value = ({"name": "lanes.nc", "content": memoryview(data),
+                               "size": len(data), "type": "", "last_modified":
+                               datetime.datetime.now(datetime.timezone.utc)},)
+    assert message_text(app.message) == ""
+    assert app.lateral_source.value == "sweep: lanes.nc"
+    assert "Monte Carlo sweep" in app.plan.lateral.source
+    assert app.plan.lateral.upper is not None
+    assert any("interval" in s for s in app.plan.summary)
+    # a file that is no sweep is refused by its own name, the sweep stays chosen
+    app.sweep_upload.value = ({"name": "junk.nc", "content": memoryview(b"CDF\x01junk"),
+                               "size": 8, "type": "", "last_modified":
+                               datetime.datetime.now(datetime.timezone.utc)},)
+    text = message_text(app.message)
+    assert "junk.nc was not opened as a sweep" in text and "/tmp" not in text
+    assert app.lateral_source.value == "sweep: lanes.nc"
+    app.lateral_source.value = "link-budget estimate (fast)"
