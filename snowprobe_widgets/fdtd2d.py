@@ -25,7 +25,8 @@ Scheme (Yee 1966; Taflove & Hagness, *Computational Electrodynamics*, 3rd ed. 20
 - square cells dx, time step at Courant number ``COURANT`` (0.99 of the 2-D limit
   1/sqrt(2)); lossy media by the semi-implicit conductivity update (T&H eq. 3.28); media
   frozen at the pulse centre frequency as in the 1-D solver
-  (:func:`snowprobe_widgets.fdtd.frozen_at`);
+  (``eps'(f0)`` and ``sigma = 2 pi f0 eps0 eps''(f0)``, as
+  :func:`snowprobe_widgets.fdtd.frozen_at`);
 - absorbing boundaries: a convolutional PML (Roden & Gedney, Microw. Opt. Technol. Lett.
   27, 2000; T&H sect. 7.9) of ``PML_CELLS`` cells on all four sides, polynomial grading
   m = 3, sigma_max = 0.8 (m + 1) / (eta0 dx), kappa = 1, alpha falling from
@@ -56,12 +57,13 @@ import numpy as np
 
 from ._validate import check_choice, check_range
 from .constants import C0_M_S, EPS0_F_M
-from .fdtd import frozen_at
+from .fdtd import _frozen_params
 from .materials import Material
 from .pulses import Pulse
 
 __all__ = ["POLARIZATIONS", "COURANT", "PML_CELLS", "BuriedCylinder", "Scene2D", "Fdtd2dGrid",
-           "Fdtd2dResult", "grid_step_m", "solve_scene", "CylinderTrace", "cylinder_trace"]
+           "Fdtd2dResult", "grid_step_m", "solve_scene", "CylinderTrace", "cylinder_trace",
+           "MAX_CELL_STEPS", "ScenarioCheck", "scenario_cylinder", "scenario_check"]
 
 #: The two polarisations, relative to the plane of incidence (see the module notes).
 POLARIZATIONS: tuple[str, ...] = ("TE", "TM")
@@ -71,6 +73,7 @@ COURANT = 0.99 / math.sqrt(2.0)
 PML_CELLS = 12
 _ETA0 = 376.730313668
 _SUB = 4  # sub-samples per cell side for averaging
+_DTYPE = np.float32
 _MU0 = _ETA0 / C0_M_S
 
 
@@ -130,6 +133,20 @@ class Scene2D:
     layers: tuple[tuple[float, float, float], ...]
     upper: tuple[float, float] = (1.0, 0.0)
     cylinder: tuple[float, float, float, float, float, bool] | None = None
+
+    def __post_init__(self) -> None:
+        for name in ("x_range_m", "z_range_m"):
+            lo, hi = getattr(self, name)
+            check_range(f"{name}[0]", lo, -1e4, 1e4, unit="m")
+            check_range(f"{name}[1]", hi, float(lo), 1e4, unit="m", low_open=True)
+        for j, (d, e, sg) in enumerate(self.layers):
+            check_range(f"layers[{j}] thickness", d, 0.0, 1e4, unit="m", low_open=True)
+            check_range(f"layers[{j}] eps_r", e, 1.0, 100.0)
+            check_range(f"layers[{j}] sigma", sg, 0.0, 100.0, unit="S/m")
+        check_range("upper eps_r", self.upper[0], 1.0, 100.0)
+        check_range("upper sigma", self.upper[1], 0.0, 100.0, unit="S/m")
+        if not self.layers:
+            raise ValueError("layers must hold at least one layer (the last extends down)")
 
     def sample(self, x: np.ndarray, z: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """(eps_r, sigma, perfect-conductor flag) at points (x, z), arrays of their shape."""
@@ -225,6 +242,33 @@ def grid_step_m(f_high_hz: float, max_index: float, cells_per_wavelength: float,
     return dx
 
 
+class _Slabs:
+    """CPML memory of one difference array along one axis, kept only in the two PML
+    slabs (b = 1, c = 0 elsewhere): ``slabs(d)`` updates psi = b psi + c d there, adds
+    psi to d in place and returns d."""
+
+    def __init__(self, shape: tuple[int, ...], axis: int, b: np.ndarray, c: np.ndarray
+                 ) -> None:
+        n = shape[axis]
+        width = min(PML_CELLS + 1, n)
+        self.parts = []
+        for sl in (slice(0, width), slice(n - width, n)):
+            idx = (sl, slice(None)) if axis == 0 else (slice(None), sl)
+            coef_shape = (-1, 1) if axis == 0 else (1, -1)
+            bb = b[sl].reshape(coef_shape).astype(_DTYPE)
+            cc = c[sl].reshape(coef_shape).astype(_DTYPE)
+            psi = np.zeros(np.empty(shape)[idx].shape, _DTYPE)
+            self.parts.append((idx, bb, cc, psi))
+
+    def __call__(self, d: np.ndarray) -> np.ndarray:
+        for idx, bb, cc, psi in self.parts:
+            v = d[idx]
+            psi *= bb
+            psi += cc * v
+            v += psi
+        return d
+
+
 def _cpml(n: int, pml: int, half: bool, dt: float, dx: float, f0: float
           ) -> tuple[np.ndarray, np.ndarray]:
     """CPML update coefficients (b, c) along one axis at its n integer nodes (or its n - 1
@@ -252,7 +296,7 @@ def _averaged(scene: Scene2D, x: np.ndarray, z: np.ndarray, dx: float, harmonic:
     keep = ~pec
     count = np.maximum(keep.sum(axis=(2, 3)), 1)
     if harmonic:
-        e = count / np.where(keep, 1.0 / eps, 0.0).sum(axis=(2, 3))
+        e = count / np.maximum(np.where(keep, 1.0 / eps, 0.0).sum(axis=(2, 3)), 1e-30)
     else:
         e = np.where(keep, eps, 0.0).sum(axis=(2, 3)) / count
     s = np.where(keep, sig, 0.0).sum(axis=(2, 3)) / count
@@ -304,11 +348,14 @@ def solve_scene(
     """
     pol = check_choice("polarization", polarization, POLARIZATIONS)
     start = time.perf_counter()
-    dx = float(dx_m)
+    dx = check_range("dx_m", dx_m, 1e-4, 1.0, unit="m")
+    check_range("duration_s", duration_s, 0.0, 1e-6, unit="s", low_open=True)
+    check_range("center_frequency_hz", center_frequency_hz, 1e6, 1e11, unit="Hz")
     dt = COURANT * dx / C0_M_S
     pml = PML_CELLS
     (x_lo, x_hi), (z_lo, z_hi) = scene.x_range_m, scene.z_range_m
-    sx, sz = (float(v) for v in source_m)
+    sx = check_range("source_m[0]", source_m[0], x_lo, x_hi, unit="m")
+    sz = check_range("source_m[1]", source_m[1], z_lo, z_hi, unit="m")
     shift = 0.5 * dx if pol == "TM" else 0.0  # the H_y node is at (i + 1/2, k + 1/2)
     i_s = int(math.ceil((sx - x_lo) / dx)) + pml
     k_s = int(math.ceil((sz - z_lo) / dx)) + pml
@@ -337,38 +384,36 @@ def solve_scene(
     rec_at = np.column_stack([x0 + shift + ri * dx, z0 + shift + rk * dx])
     out = np.empty((rec_pts.shape[0], n_steps))
     every = max(n_steps // 50, 1)
+    # fields in single precision (ample for a reference at 10+ cells per wavelength and
+    # halves the memory traffic); H is stored as eta0 H / S so its update needs no factor
     s = COURANT
     if pol == "TE":
         ca, cb, sf = _coefficients(*_averaged(scene, xi, zk, dx, False), dt)
-        ey = np.zeros((nx, nz))
-        hx = np.zeros((nx, nz - 1))
-        hz = np.zeros((nx - 1, nz))
-        p_hx = np.zeros_like(hx)
-        p_hz = np.zeros_like(hz)
-        p_ex = np.zeros((nx - 2, nz - 2))
-        p_ez = np.zeros((nx - 2, nz - 2))
-        bz_h, cz_h = bzh[None, :], czh[None, :]
-        bx_h, cx_h = bxh[:, None], cxh[:, None]
-        bz_i, cz_i = bzi[None, 1:-1], czi[None, 1:-1]
-        bx_i, cx_i = bxi[1:-1, None], cxi[1:-1, None]
-        ca_in, cb_in = ca[1:-1, 1:-1], cb[1:-1, 1:-1]
+        ey = np.zeros((nx, nz), _DTYPE)
+        hx = np.zeros((nx, nz - 1), _DTYPE)
+        hz = np.zeros((nx - 1, nz), _DTYPE)
+        buf_hx, buf_hz = np.empty_like(hx), np.empty_like(hz)
+        buf_z, buf_x = np.empty((nx - 2, nz - 2), _DTYPE), np.empty((nx - 2, nz - 2), _DTYPE)
+        pml_hx = _Slabs(hx.shape, 1, bzh, czh)
+        pml_hz = _Slabs(hz.shape, 0, bxh, cxh)
+        pml_ez = _Slabs(buf_z.shape, 1, bzi[1:-1], czi[1:-1])
+        pml_ex = _Slabs(buf_x.shape, 0, bxi[1:-1], cxi[1:-1])
+        ca_in = ca[1:-1, 1:-1].astype(_DTYPE)
+        cb_in = (cb[1:-1, 1:-1] * s).astype(_DTYPE)
+        inner = ey[1:-1, 1:-1]
         j_fac = sf[i_s, k_s] / (dx * dx)  # line current spread over one cell
         for n in range(n_steps):
-            d = ey[:, 1:] - ey[:, :-1]
-            p_hx *= bz_h
-            p_hx += cz_h * d
-            hx += s * (d + p_hx)
-            d = ey[1:, :] - ey[:-1, :]
-            p_hz *= bx_h
-            p_hz += cx_h * d
-            hz -= s * (d + p_hz)
-            dz_ = hx[1:-1, 1:] - hx[1:-1, :-1]
-            dx_ = hz[1:, 1:-1] - hz[:-1, 1:-1]
-            p_ez *= bz_i
-            p_ez += cz_i * dz_
-            p_ex *= bx_i
-            p_ex += cx_i * dx_
-            ey[1:-1, 1:-1] = ca_in * ey[1:-1, 1:-1] + cb_in * (dz_ + p_ez - dx_ - p_ex)
+            np.subtract(ey[:, 1:], ey[:, :-1], out=buf_hx)
+            hx += pml_hx(buf_hx)
+            np.subtract(ey[1:, :], ey[:-1, :], out=buf_hz)
+            hz -= pml_hz(buf_hz)
+            np.subtract(hx[1:-1, 1:], hx[1:-1, :-1], out=buf_z)
+            np.subtract(hz[1:, 1:-1], hz[:-1, 1:-1], out=buf_x)
+            pml_ez(buf_z)
+            buf_z -= pml_ex(buf_x)
+            buf_z *= cb_in
+            inner *= ca_in
+            inner += buf_z
             ey[i_s, k_s] -= j_fac * src_t[n]
             out[:, n] = ey[ri, rk]
             if progress is not None and n % every == 0:
@@ -376,38 +421,36 @@ def solve_scene(
     else:
         ca_x, cb_x, _ = _coefficients(*_averaged(scene, xh, zk, dx, False), dt)
         ca_z, cb_z, _ = _coefficients(*_averaged(scene, xi, zh, dx, True), dt)
-        ca_x, cb_x = ca_x[:, 1:-1], cb_x[:, 1:-1]
-        ca_z, cb_z = ca_z[1:-1, :], cb_z[1:-1, :]
-        hy = np.zeros((nx - 1, nz - 1))
-        ex = np.zeros((nx - 1, nz))
-        ez = np.zeros((nx, nz - 1))
-        p_hyx = np.zeros_like(hy)
-        p_hyz = np.zeros_like(hy)
-        p_ex = np.zeros((nx - 1, nz - 2))
-        p_ez = np.zeros((nx - 2, nz - 1))
-        bx_h, cx_h = bxh[:, None], cxh[:, None]
-        bz_h, cz_h = bzh[None, :], czh[None, :]
-        bz_i, cz_i = bzi[None, 1:-1], czi[None, 1:-1]
-        bx_i, cx_i = bxi[1:-1, None], cxi[1:-1, None]
-        m_fac = C0_M_S * dt / (dx * dx)  # eta0 dt / mu0 = c dt, over one cell
+        ca_x, cb_x = ca_x[:, 1:-1].astype(_DTYPE), (cb_x[:, 1:-1] * s).astype(_DTYPE)
+        ca_z, cb_z = ca_z[1:-1, :].astype(_DTYPE), (cb_z[1:-1, :] * s).astype(_DTYPE)
+        hy = np.zeros((nx - 1, nz - 1), _DTYPE)
+        ex = np.zeros((nx - 1, nz), _DTYPE)
+        ez = np.zeros((nx, nz - 1), _DTYPE)
+        buf_a, buf_b = np.empty_like(hy), np.empty_like(hy)
+        buf_x, buf_z = np.empty((nx - 1, nz - 2), _DTYPE), np.empty((nx - 2, nz - 1), _DTYPE)
+        pml_hyx = _Slabs(hy.shape, 0, bxh, cxh)
+        pml_hyz = _Slabs(hy.shape, 1, bzh, czh)
+        pml_ex = _Slabs(buf_x.shape, 1, bzi[1:-1], czi[1:-1])
+        pml_ez = _Slabs(buf_z.shape, 0, bxi[1:-1], cxi[1:-1])
+        ex_in, ez_in = ex[:, 1:-1], ez[1:-1, :]
+        m_fac = C0_M_S * dt / (dx * dx) / s  # eta0 dt / mu0 = c dt, over one cell
         for n in range(n_steps):
-            a = ez[1:, :] - ez[:-1, :]
-            p_hyx *= bx_h
-            p_hyx += cx_h * a
-            b = ex[:, 1:] - ex[:, :-1]
-            p_hyz *= bz_h
-            p_hyz += cz_h * b
-            hy += s * (a + p_hyx - b - p_hyz)
+            np.subtract(ez[1:, :], ez[:-1, :], out=buf_a)
+            np.subtract(ex[:, 1:], ex[:, :-1], out=buf_b)
+            hy += pml_hyx(buf_a)
+            hy -= pml_hyz(buf_b)
             hy[i_s, k_s] -= m_fac * src_t[n]
-            d = hy[:, 1:] - hy[:, :-1]
-            p_ex *= bz_i
-            p_ex += cz_i * d
-            ex[:, 1:-1] = ca_x * ex[:, 1:-1] - cb_x * (d + p_ex)
-            d = hy[1:, :] - hy[:-1, :]
-            p_ez *= bx_i
-            p_ez += cx_i * d
-            ez[1:-1, :] = ca_z * ez[1:-1, :] + cb_z * (d + p_ez)
-            out[:, n] = hy[ri, rk]
+            np.subtract(hy[:, 1:], hy[:, :-1], out=buf_x)
+            pml_ex(buf_x)
+            buf_x *= cb_x
+            ex_in *= ca_x
+            ex_in -= buf_x
+            np.subtract(hy[1:, :], hy[:-1, :], out=buf_z)
+            pml_ez(buf_z)
+            buf_z *= cb_z
+            ez_in *= ca_z
+            ez_in += buf_z
+            out[:, n] = s * hy[ri, rk]
             if progress is not None and n % every == 0:
                 progress(n / n_steps)
     if progress is not None:
@@ -428,12 +471,15 @@ class CylinderTrace:
         antenna, for a source current equal to the pulse waveform there; E_y (TE) or
         eta0 H_y (TM), V/m. Zero after ``computed_until_s``.
     point_source : ndarray
-        The same echo converted from a line source to a point source, for comparing
-        shapes with the 3-D model: divided by sqrt(j f) in the frequency domain (a line of
-        point sources along the axis sums, by stationary phase, to the line source times
-        sqrt(f)-type factors; Bleistein, *Mathematical Methods for Wave Phenomena*, 1984,
-        ch. 2 for the 2.5-D stationary phase; the filter as used in GPR modelling is
-        common practice), at the same peak as ``amplitude``.
+        The same echo converted from a line source to a point source and to the field
+        the radar receives, for comparing shapes with the 3-D model, whose pulse is the
+        radiated field: at the same peak as ``amplitude``. A line current I radiates
+        ``-(omega mu0 I / 4) H0^(2)(k rho)``, far out ``-sqrt(j omega)`` times I up to
+        real geometric factors (Balanis 1989, eq. 11-10 with the large-argument Hankel
+        form), so TE divides by ``-sqrt(j f)``; in TM the received E_x of an upgoing wave
+        is ``-eta0 H_y`` while the downgoing one is ``+eta0 H_y``, so TM divides by
+        ``+sqrt(j f)``. A reflector of coefficient r then returns r times the pulse, as in
+        the model (the sqrt(j f) filter as used in 2-D GPR modelling is common practice).
     computed_until_s : float
         The last two-way time the run reached, s (the echo plus six pulse periods).
     polarization : str
@@ -449,12 +495,6 @@ class CylinderTrace:
     polarization: str
     grid: Fdtd2dGrid
     elapsed_s: float
-
-
-def _frozen_eps_sigma(material: Material, f0: float) -> tuple[float, float]:
-    m = frozen_at(material, f0)
-    eps = complex(m.permittivity(f0))
-    return eps.real, 2 * math.pi * f0 * EPS0_F_M * max(-eps.imag, 0.0)
 
 
 def cylinder_trace(
@@ -479,9 +519,10 @@ def cylinder_trace(
     materials, thickness_m
         The snow layers, top down, plus the ground (one material more than thicknesses,
         as for :func:`snowprobe_widgets.fdtd.fdtd_trace`); frozen at the pulse centre
-        frequency. The domain ends ``margin_m`` below the cylinder: what lies deeper
-        continues into the absorbing layer (its echoes would be the same in both runs and
-        cancel, apart from multiples between it and the cylinder).
+        frequency. The domain ends ``margin_m`` below the cylinder (at the ground surface
+        when the ground is metal): what lies deeper continues into the absorbing layer
+        (its echoes would be the same in both runs and cancel, apart from multiples
+        between it and the cylinder).
     cylinder : BuriedCylinder
     antenna_x_m, antenna_height_m : float
         Antenna (line source and receiver) position along the line and height, m.
@@ -514,19 +555,20 @@ def cylinder_trace(
     if not isinstance(cylinder, BuriedCylinder):
         raise ValueError(f"cylinder must be a BuriedCylinder, got {type(cylinder).__name__}")
     f0 = pulse.center_frequency_hz
-    layers = tuple((float(t), *_frozen_eps_sigma(m, f0))
+    c = cylinder
+    snow_depth = float(d.sum())
+    if c.centre_depth_m + c.radius_m > snow_depth:
+        raise ValueError(f"the cylinder reaches {c.centre_depth_m + c.radius_m:g} m, "
+                         f"below the {snow_depth:g} m snowpack")
+    bottom = c.centre_depth_m + c.radius_m + margin
+    metal_ground = materials[-1].perfect_conductor
+    if metal_ground:  # left out: the absorbing layer continues the lowest snow layer
+        bottom = min(bottom, snow_depth)
+    layers = tuple((float(t), *_frozen_params(m, f0))
                    for t, m in zip(list(d) + [1.0], materials, strict=True)
                    if not m.perfect_conductor)
-    if materials[-1].perfect_conductor:
-        raise ValueError("cylinder_trace needs a dielectric ground (a metal ground is a 1-D "
-                         "check: use snowprobe_widgets.fdtd.fdtd_trace)")
-    c = cylinder
     pec = c.material.perfect_conductor
-    e_c, s_c = (1.0, 0.0) if pec else _frozen_eps_sigma(c.material, f0)
-    bottom = c.centre_depth_m + c.radius_m + margin
-    if bottom > float(d.sum()):
-        raise ValueError(f"the cylinder reaches {c.centre_depth_m + c.radius_m:g} m, "
-                         f"below the {float(d.sum()):g} m snowpack")
+    e_c, s_c = (1.0, 0.0) if pec else _frozen_params(c.material, f0)
     scene = Scene2D((min(xa, c.position_m - c.radius_m) - margin,
                      max(xa, c.position_m + c.radius_m) + margin),
                     (-h - margin, bottom), layers,
@@ -552,17 +594,168 @@ def cylinder_trace(
     t_out = np.arange(n_samples) * dt_out
     amp = np.interp(t_out + t0, t, echo, left=0.0, right=0.0)
     amp[t_out > until] = 0.0
-    return CylinderTrace(t_out, amp, _to_point_source(amp, dt_out), float(until), pol,
+    sign = -1.0 if pol == "TE" else 1.0
+    return CylinderTrace(t_out, amp, _to_point_source(amp, dt_out, sign), float(until), pol,
                          runs[0].grid, time.perf_counter() - start)
 
 
-def _to_point_source(amp: np.ndarray, dt_s: float) -> np.ndarray:
-    """``amp`` divided by sqrt(j f) (zero at f = 0), scaled to the same peak."""
+def _to_point_source(amp: np.ndarray, dt_s: float, sign: float) -> np.ndarray:
+    """``amp`` divided by ``sign * sqrt(j f)`` (zero at f = 0), scaled to the same peak."""
     n = 2 * amp.size
     spec = np.fft.rfft(amp, n)
     f = np.fft.rfftfreq(n, dt_s)
     filt = np.zeros(f.size, complex)
-    filt[1:] = 1.0 / np.sqrt(1j * f[1:] / f[1])
+    filt[1:] = sign / np.sqrt(1j * f[1:] / f[1])
     out = np.fft.irfft(spec * filt, n)[: amp.size]
     peak = float(np.max(np.abs(out)))
     return out * (float(np.max(np.abs(amp))) / peak) if peak > 0 else out
+
+
+#: Largest run the scenario check accepts: cells times time steps of one run (at about
+#: 10 ns of CPU per cell-step, some 20 s of CPU for both runs; tests/benchmarks/bench_fdtd2d.py
+#: measures it).
+MAX_CELL_STEPS = 1e9
+
+
+@dataclass(frozen=True, eq=False)
+class ScenarioCheck:
+    """The 2-D check of a scenario's first buried object at one antenna position.
+
+    Attributes
+    ----------
+    description : str
+        What the 2-D run stands for, in words for the screen.
+    cylinder : BuriedCylinder
+    fdtd : CylinderTrace
+    model_amplitude : ndarray
+        The model's echo of the object itself (objects only, this object alone) on the
+        radar's time axis.
+    agreement : float
+        Zero-lag normalised cross-correlation of ``fdtd.point_source`` and
+        ``model_amplitude`` (1: the same shape at the same time).
+    delay_difference_s : float
+        Envelope-peak time of the FDTD echo minus that of the model, s.
+    """
+
+    description: str
+    cylinder: BuriedCylinder
+    fdtd: CylinderTrace
+    model_amplitude: np.ndarray
+    agreement: float
+    delay_difference_s: float
+
+
+def scenario_cylinder(scenario: object) -> tuple[BuriedCylinder, str]:
+    """The 2-D stand-in of the scenario's first buried object, and what it approximates.
+
+    The computed plane is the vertical plane of the survey line; the stand-in is an
+    infinitely long circular cylinder across the line, as wide as the object is high and
+    with its top at the object's top. A boulder keeps its rock and a branch its wood; a
+    person becomes a perfect conductor (body tissues reflect about 70 % of the field, and
+    their permittivity near 50 would need a seven times finer grid); a flat metal plate
+    has no circular stand-in and is refused.
+    """
+    targets = getattr(scenario, "targets", ())
+    if not targets:
+        raise ValueError("the 2-D check needs a buried person or object: the scenario has "
+                         "none")
+    obj = targets[0]
+    kind = obj.kind
+    if kind == "person":
+        d = obj.body_thickness_m
+        from .materials import metal
+
+        material = metal()
+        what = (f"the first person as a perfectly conducting cylinder {d:.2f} m across "
+                "(the body's thickness)")
+    elif kind == "boulder":
+        d = obj.diameter_m
+        material = obj.material()
+        what = (f"the boulder as a rock cylinder {d:.2f} m across (a cylinder focuses in "
+                "one plane only: its back-face echo differs from a sphere's in phase and "
+                "strength)")
+    elif kind == "branch":
+        from .materials import rock
+
+        d = obj.diameter_m
+        material = rock(obj.permittivity, 0.0)
+        what = f"the branch as a wood cylinder {d:.2f} m across, lying across the line"
+    else:
+        raise ValueError(f"the 2-D check has no cylinder stand-in for a {kind} (a flat "
+                         "plate); put a person, boulder or branch first")
+    cyl = BuriedCylinder(obj.position_m, obj.depth_m + d / 2, d / 2, material)
+    pol = _scenario_polarization(scenario)
+    field = "E along the axis" if pol == "TE" else "E along the line, H along the axis"
+    text = (f"{what}, infinitely long across the survey line (a 2-D cross-section: its "
+            "across-line offset and length are ignored), under the same snow layers, "
+            f"{pol} ({field}), line source converted to a point source")
+    return cyl, text
+
+
+def _scenario_polarization(scenario: object) -> str:
+    """TE when the radar's field lies across the line (along the stand-in's axis), TM when
+    it lies along the line."""
+    radar = getattr(scenario, "radar", None)
+    return "TM" if getattr(radar, "polarization", "across_line") == "along_line" else "TE"
+
+
+def scenario_check(scenario: object, position_m: float, *,
+                   progress: Callable[[float], None] | None = None) -> ScenarioCheck:
+    """Run the 2-D FDTD for the first object's stand-in (:func:`scenario_cylinder`) with
+    the antenna at ``position_m`` and the model's echo of the object itself there.
+
+    Raises
+    ------
+    ValueError
+        When the scenario has no stand-in, or the run would exceed
+        :data:`MAX_CELL_STEPS` (the message says how to shrink it).
+    """
+    import dataclasses as dc
+
+    from .scene import Clutter, Survey
+    from .synthesis import simulate
+
+    x = check_range("position_m", position_m, -1e4, 1e4, unit="m")
+    cyl, text = scenario_cylinder(scenario)
+    radar = scenario.radar
+    pulse = radar.make_pulse()
+    mats = list(scenario.snowpack.materials()) + [scenario.ground.material()]
+    thick = scenario.snowpack.thicknesses_m
+    # the size of the run before starting it
+    f0 = pulse.center_frequency_hz
+    media = [m for m in mats + [cyl.material] if not m.perfect_conductor]
+    n_max = max([1.0] + [math.sqrt(_frozen_params(m, f0)[0]) for m in media])
+    dx = grid_step_m(pulse.band_hz(1e-2)[1], n_max, 10.0, cyl.radius_m)
+    width = abs(cyl.position_m - x) + cyl.radius_m + 0.6
+    height = radar.antenna_height_m + cyl.centre_depth_m + cyl.radius_m + 0.6
+    steps = min(radar.n_samples * radar.dt_s,
+                2 * math.hypot(width, height) * n_max / C0_M_S + 10.0 / pulse.center_frequency_hz
+                ) / (COURANT * dx / C0_M_S)
+    cost = (width / dx + 2 * PML_CELLS) * (height / dx + 2 * PML_CELLS) * steps
+    if cost > MAX_CELL_STEPS:
+        raise ValueError(
+            f"the 2-D check at {x:g} m would take {cost:.2g} cell-steps per run, more than "
+            f"the {MAX_CELL_STEPS:.2g} allowed: pick a trace nearer the object (at "
+            f"{cyl.position_m:g} m) or lower the centre frequency")
+    fd = cylinder_trace(mats, thick, cyl, antenna_x_m=x,
+                        antenna_height_m=radar.antenna_height_m, pulse=pulse,
+                        dt_s=radar.dt_s, n_samples=radar.n_samples,
+                        polarization=_scenario_polarization(scenario), progress=progress)
+    obj = scenario.targets[0]
+    one = dc.replace(scenario, persons=(obj,) if obj.kind == "person" else (),
+                     objects=() if obj.kind == "person" else (obj,),
+                     survey=Survey(x, x + 0.01, 0.01),
+                     clutter=Clutter(scatterer_density_per_m3=0.0))
+    model = simulate(one, components=("objects",)).data[:, 0]
+    a, b = fd.point_source, model
+    den = math.sqrt(float(a @ a) * float(b @ b))
+    ncc = float(a @ b) / den if den > 0 else 0.0
+    t = fd.time_s
+    delay = float(t[np.argmax(np.abs(_envelope(a)))] - t[np.argmax(np.abs(_envelope(b)))])
+    return ScenarioCheck(text, cyl, fd, model, ncc, delay)
+
+
+def _envelope(x: np.ndarray) -> np.ndarray:
+    from scipy.signal import hilbert
+
+    return np.abs(hilbert(x))

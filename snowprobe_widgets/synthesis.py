@@ -276,7 +276,7 @@ def _column_layers(scenario: Any, with_thin_layers: bool) -> tuple[list, list[fl
                     new.append((bot, b, rho, w))
             pieces = new
     pieces = [p for p in pieces if p[1] - p[0] > 1e-6]
-    mats = [mat.snow(rho, w) for _, _, rho, w in pieces]
+    mats = [mat.snow(rho, w, temperature_c=snowpack.temperature_c) for _, _, rho, w in pieces]
     thick = [b - a for a, b, _, _ in pieces]
     return mats, thick
 

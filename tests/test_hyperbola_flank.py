@@ -105,11 +105,12 @@ TOP_M = 1.2
 
 @pytest.fixture(scope="module")
 def sphere_line() -> tuple[np.ndarray, np.ndarray, list[float]]:
-    # a large lossless rock sphere (ka ~ 11 at 800 MHz): geometrical optics holds at its
-    # specular point; beam 180 deg and divided out below
+    # a large rock sphere (ka ~ 11 at 800 MHz): geometrical optics holds at its specular
+    # point; lossy (0.2 S/m: ~15 Np/m inside) so that no internal echo follows the front
+    # one; the beam is 180 deg wide and divided out below
     sc = Scenario(Snowpack(SNOW), Ground(),
                   objects=(Boulder(0.0, TOP_M, 2 * RADIUS_M, permittivity=6.0,
-                                   conductivity_s_m=0.0),),
+                                   conductivity_s_m=0.2),),
                   radar=Radar(center_frequency_hz=800e6, dt_s=2.5e-11, time_window_s=40e-9,
                               beamwidth_deg=180.0, antenna_height_m=H_M),
                   survey=Survey(-0.02, 2.6, 0.01), clutter=Clutter(scatterer_density_per_m3=0))

@@ -4,12 +4,15 @@ This is the only package that imports ipywidgets or bqplot; the model layer belo
 never imports this package.
 
 Apps: :class:`ScenarioExplorer` (everything around one scenario),
-:class:`MaterialsExplorer` and :class:`TrainingSession` (blind radargram exercises);
-their pieces (control panels, views) are importable too.
+:class:`MaterialsExplorer`, :class:`TrainingSession` (blind radargram exercises),
+:class:`DetectabilityView` (detection probability from Monte Carlo sweeps) and
+:class:`SearchPlanBoard` (the search plan); their pieces (control panels, views) are
+importable too.
 """
 
 from __future__ import annotations
 
+from snowprobe_widgets.widgets.detectability import DetectabilityView
 from snowprobe_widgets.widgets.explorer import CachedSimulation, ScenarioExplorer
 from snowprobe_widgets.widgets.materials_lab import MaterialsExplorer
 from snowprobe_widgets.widgets.palette_png import (
@@ -25,6 +28,7 @@ from snowprobe_widgets.widgets.panels import (
     RadarPanel,
     SnowpackEditor,
 )
+from snowprobe_widgets.widgets.plan import SearchPlanBoard
 from snowprobe_widgets.widgets.processing_panel import ProcessingPanel
 from snowprobe_widgets.widgets.radargram_view import RadargramView
 from snowprobe_widgets.widgets.training import TrainingSession
@@ -37,12 +41,14 @@ __all__ = [
     "CachedSimulation",
     "CrossSectionView",
     "DebrisPanel",
+    "DetectabilityView",
     "MaterialsExplorer",
     "PersonPanel",
     "ProcessingPanel",
     "RadarPanel",
     "RadargramView",
     "ScenarioExplorer",
+    "SearchPlanBoard",
     "SnowpackEditor",
     "SpectrumView",
     "TraceView",

@@ -27,12 +27,14 @@ import ipywidgets as widgets
 import numpy as np
 
 from snowprobe_widgets.fdtd import fdtd_trace, frozen_at
+from snowprobe_widgets.fdtd2d import scenario_check
 from snowprobe_widgets.processing import ProcessingChain
 from snowprobe_widgets.radargram import Radargram
 from snowprobe_widgets.scene import Scenario
+from snowprobe_widgets.serving import work_limits
 from snowprobe_widgets.synthesis import column_optics, simulate
-from snowprobe_widgets.targets import validity_warnings
 from snowprobe_widgets.trace import echo_times, synthesize_trace
+from snowprobe_widgets.validity import scenario_warnings
 from snowprobe_widgets.widgets import exports
 from snowprobe_widgets.widgets._common import (
     caution_box,
@@ -43,6 +45,7 @@ from snowprobe_widgets.widgets._common import (
     share_plain_styles,
     show_message,
 )
+from snowprobe_widgets.widgets.file_panel import OPEN_CLASS, PATH_CLASS, SAVE_CLASS, FilePanel
 from snowprobe_widgets.widgets.materials_lab import MaterialsExplorer
 from snowprobe_widgets.widgets.panels import (
     DebrisPanel,
@@ -60,9 +63,6 @@ from snowprobe_widgets.widgets.views import (
     TraceView,
     budget_table_html,
 )
-
-#: CSS classes of the file controls (browser tests rely on them).
-SAVE_CLASS, OPEN_CLASS, PATH_CLASS = "sp-save", "sp-open", "sp-file-path"
 
 _NS = 1e-9
 
@@ -190,52 +190,32 @@ class ScenarioExplorer(widgets.VBox):
         self._lower_views = [self.trace_view, self.spectrum_view, self.budget_view,
                              self.materials]
         self._lower_slots = [widgets.VBox([self.trace_view])] + [widgets.VBox()
-                                                                 for _ in range(3)]
+                                                                 for _ in range(4)]
+        #: The "Detection probability" tab's view, made when the tab is first shown.
+        self.detectability: Any = None
         self.lower = widgets.Tab(
             children=self._lower_slots,
-            titles=["Trace", "Spectrum", "Link budget", "Materials lab"])
-        self.lower.observe(lambda _: self._fill_tab(), names="selected_index")
-        self.show_processed.observe(lambda _: self._show_section(), names="value")
-        self.mark_detections.observe(lambda _: self._update_detections(), names="value")
-        self.detection_threshold.observe(lambda _: self._update_detections(), names="value")
-        self.radargram_view.observe(self._on_pick, names="picked_trace_index")
-        self.lower.observe(lambda _: self._refresh_lazy(), names="selected_index")
-        self.trace_view.fdtd_button.on_click(lambda _: self.run_fdtd())
+            titles=["Trace", "Spectrum", "Link budget", "Materials lab",
+                    "Detection probability"])
+        # every callback runs guarded: a fault shows a plain message, never a traceback
+        self.lower.observe(self._safe(self._fill_tab), names="selected_index")
+        self.show_processed.observe(self._safe(self._show_section), names="value")
+        self.mark_detections.observe(self._safe(self._update_detections), names="value")
+        self.detection_threshold.observe(self._safe(self._update_detections), names="value")
+        self.radargram_view.observe(self._safe(self._on_pick, True),
+                                    names="picked_trace_index")
+        self.lower.observe(self._safe(self._refresh_lazy), names="selected_index")
+        self.trace_view.fdtd_button.on_click(self._safe(self.run_fdtd))
+        self.trace_view.fdtd2d_button.on_click(self._safe(self.run_fdtd2d))
 
-        # files
-        self.path = widgets.Text(value="scenario.json", description="file",
-                                 placeholder="path/to/scenario.json",
-                                 layout=widgets.Layout(width="360px"))
-        self.path.add_class(PATH_CLASS)
-        self.open_button = widgets.Button(description="open", icon="")
-        self.open_button.add_class(OPEN_CLASS)
-        self.save_button = widgets.Button(description="save")
-        self.save_button.add_class(SAVE_CLASS)
-        self.demo = widgets.Dropdown(options=list(Scenario.examples()), description="demo")
-        self.demo_button = widgets.Button(description="start from demo")
-        self.export_csv = widgets.Button(description="data as CSV")
-        self.export_npz = widgets.Button(description="data as NPZ")
-        self.export_png = widgets.Button(description="picture as PNG")
-        self.export_report = widgets.Button(description="design report (HTML)")
-        self.file_message = message_line()
-        self.file_status = widgets.HTML()
-        self.open_button.on_click(lambda _: self.open_file())
-        self.save_button.on_click(lambda _: self.save_file())
-        self.demo_button.on_click(lambda _: self._load_demo())
-        self.export_csv.on_click(lambda _: self._export("csv"))
-        self.export_npz.on_click(lambda _: self._export("npz"))
-        self.export_png.on_click(lambda _: self._export("png"))
-        self.export_report.on_click(lambda _: self._export("report"))
+        # files: upload/download when served, paths in a notebook (widgets/file_panel.py)
+        self.files = FilePanel(get_scenario=lambda: self.scenario,
+                               set_scenario=self._show_opened,
+                               export_bytes=self.export_bytes)
         self.status = widgets.HTML()
         #: where a buried object's scattering method is outside its domain (model's words)
         self.validity = widgets.HTML()
 
-        file_bar = widgets.VBox([
-            widgets.HBox([self.path, self.open_button, self.save_button, self.demo,
-                          self.demo_button]),
-            widgets.HBox([widgets.HTML("export next to the file:"), self.export_csv,
-                          self.export_npz, self.export_png, self.export_report]),
-            self.file_message, self.file_status])
         left = widgets.VBox([self.controls, self.message, self.status, self.validity])
         right = widgets.VBox([
             self.section, self.radargram_view,
@@ -245,7 +225,7 @@ class ScenarioExplorer(widgets.VBox):
             "<h3 style='margin:4px 0'>Radar search planner</h3><div>Change the snow, the "
             "buried person, the debris and the radar; see the scene, the radargram, a "
             "trace and whether the echo would stand out.</div>")
-        super().__init__(children=[header, caution_box(), file_bar,
+        super().__init__(children=[header, caution_box(), self.files,
                                    widgets.HBox([left, right])], **kwargs)
         share_plain_styles(self)
         self.scenario = scenario
@@ -263,7 +243,7 @@ class ScenarioExplorer(widgets.VBox):
             raise ValueError(f"scenario must be a Scenario, got {type(scenario).__name__}")
         for p in self._panels:
             p.show(scenario)
-        self.processing.show(ProcessingChain.default(scenario.radar.center_frequency_hz))
+        self.processing.show(ProcessingChain.for_radar(scenario.radar))
         first = scenario.persons[0].position_m if scenario.persons else \
             0.5 * (scenario.survey.start_m + scenario.survey.end_m)
         self._accept(scenario, pick_m=first)
@@ -283,34 +263,46 @@ class ScenarioExplorer(widgets.VBox):
         """The section on screen (processed or raw, as chosen)."""
         return self._shown
 
-    def save_file(self, path: str | None = None) -> pathlib.Path | None:
-        """Save the scenario on screen to ``path`` (default: the path field)."""
-        target = pathlib.Path(path or self.path.value).expanduser()
-        ok = guarded(self.file_message, lambda: self._guard_io(
-            lambda: self.scenario.save(target)))
-        if ok:
-            self.file_status.value = f"saved {html.escape(str(target))}"
-            return target
-        return None
+    def save_file(self, path: str | None = None, *,
+                  overwrite: bool | None = None) -> pathlib.Path | None:
+        """Save the scenario on screen to ``path`` (notebook use; see :class:`FilePanel`).
+
+        An existing file is replaced only with ``overwrite=True``. Returns the path written,
+        or None when refused (the reason is shown in ``files.message``).
+        """
+        return self.files.save_file(path, overwrite=overwrite)
 
     def open_file(self, path: str | None = None) -> bool:
-        """Open a scenario file (default: the path field); True on success."""
-        target = pathlib.Path(path or self.path.value).expanduser()
-        loaded: list[Scenario] = []
-        ok = guarded(self.file_message, lambda: self._guard_io(
-            lambda: loaded.append(Scenario.load(target))))
-        if ok:
-            self.scenario = loaded[0]
-            self.file_status.value = f"opened {html.escape(str(target))}"
-        return ok
+        """Open a scenario file (notebook use; see :class:`FilePanel`); True on success."""
+        return self.files.open_file(path)
+
+    def _show_opened(self, scenario: Scenario) -> None:
+        self.scenario = scenario
 
     # ------------------------------------------------------------------ pipeline
+    def _safe(self, action: Any, pass_change: bool = False) -> Any:
+        """A widget callback running ``action`` under :func:`guarded`."""
+        def callback(change: Any) -> None:
+            guarded(self.message, (lambda: action(change)) if pass_change else action,
+                    self._restore_controls)
+
+        return callback
+
+    def _restore_controls(self) -> None:
+        """Put every control back to the scenario and chain on screen."""
+        if self._scenario is not None:
+            for p in self._panels:
+                p.show(self._scenario)
+        if self._chain is not None:
+            self.processing.show(self._chain)
+
     def _on_controls(self) -> None:
         base = self._scenario
         if base is None:
             return
         new: list[Scenario] = []
-        if guarded(self.message, lambda: new.append(build_scenario(base, self._panels))):
+        if guarded(self.message, lambda: new.append(build_scenario(base, self._panels)),
+                   self._restore_controls):
             self._accept(new[0])
 
     def _on_processing(self) -> None:
@@ -319,16 +311,27 @@ class ScenarioExplorer(widgets.VBox):
 
     def _accept(self, scenario: Scenario, pick_m: float | None = None) -> None:
         raw: list[Radargram] = []
-        if not guarded(self.message, lambda: raw.append(self.simulation(scenario))):
+
+        def run() -> None:
+            work_limits().check(scenario)
+            raw.append(self.simulation(scenario))
+
+        if not guarded(self.message, run, self._restore_controls):
             return
+        if not guarded(self.message, lambda: self._show_accepted(scenario, raw[0], pick_m),
+                       self._restore_controls):
+            return
+
+    def _show_accepted(self, scenario: Scenario, raw: Radargram, pick_m: float | None) -> None:
         old = self._scenario
         self._scenario = scenario
-        self._raw = raw[0]
+        self._raw = raw
         if old is None or _column_media_key(old) != _column_media_key(scenario):
             self.trace_view.clear_reference()
         self.section.update(scenario)
         if pick_m is not None:
             self.radargram_view.picked_position_m = None
+        self.processing.follow_antenna_height(scenario.radar.antenna_height_m)
         self._process(pick_m)
         self._stale = {"budget": True, "materials": True}
         self._refresh_lazy()
@@ -338,11 +341,19 @@ class ScenarioExplorer(widgets.VBox):
                              f"{runs['column']}x, objects {runs['objects']}x, noise "
                              f"{runs['noise']}x</small>")
         self.validity.value = "".join(f"<small>&#9888; {html.escape(w)}</small><br>"
-                                      for w in validity_warnings(scenario))
+                                      for w in scenario_warnings(scenario))
 
     def _fill_tab(self) -> None:
         i = self.lower.selected_index
-        if i is not None and not self._lower_slots[i].children:
+        if i == len(self._lower_views) and self.detectability is None:
+            from snowprobe_widgets.widgets.detectability import DetectabilityView
+
+            # sweeps start from the scene on screen; a clicked cell comes back here
+            self.detectability = DetectabilityView(explorer=self,
+                                                   base_from=lambda: self.scenario)
+            self._lower_slots[i].children = [self.detectability]
+        elif i is not None and i < len(self._lower_views) \
+                and not self._lower_slots[i].children:
             self._lower_slots[i].children = [self._lower_views[i]]
 
     def _process(self, pick_m: float | None = None) -> None:
@@ -357,7 +368,7 @@ class ScenarioExplorer(widgets.VBox):
             done.append(c.apply(raw))
             chain.append(c)
 
-        if not guarded(self.message, run):
+        if not guarded(self.message, run, self._restore_controls):
             return
         self._chain = chain[0]
         self._processed = done[0]
@@ -501,57 +512,73 @@ class ScenarioExplorer(widgets.VBox):
         self.fdtd_agreement = ncc
         return ncc
 
-    # ------------------------------------------------------------------ files
-    @staticmethod
-    def _guard_io(action: Any) -> None:
+    def run_fdtd2d(self) -> float | None:
+        """2-D full-wave check of the first buried object at the picked position.
+
+        Runs :func:`snowprobe_widgets.fdtd2d.scenario_check` (the object as a cylinder
+        across the line, said on screen) and overlays its echo and the model's echo of the
+        object; returns their normalised cross-correlation (None if refused).
+        """
+        tv = self.trace_view
+        x = self.radargram_view.picked_position_m
+        x = float(self.scenario.survey.position_m[0]) if x is None else float(x)
+        tv.progress2d.value = 0.0
+        out: list = []
+
+        def progress(fraction: float) -> None:
+            tv.progress2d.value = float(min(max(fraction, 0.0), 1.0))
+
+        tv.fdtd2d_button.disabled = True
         try:
-            action()
-        except OSError as exc:
-            raise ValueError(f"could not use the file: {exc.strerror or exc}") from None
+            ok = guarded(tv.message, lambda: out.append(
+                scenario_check(self.scenario, x, progress=progress)))
+        finally:
+            tv.fdtd2d_button.disabled = False
+        if not ok:
+            return None
+        res = out[0]
+        g = res.fdtd.grid
+        tv.show_reference(
+            res.fdtd.time_s, res.fdtd.point_source, res.model_amplitude,
+            f"2-D check at {x:.2f} m: {html.escape(res.description)}. Agreement with the "
+            f"model's echo of the object itself (normalised cross-correlation) "
+            f"<b>{res.agreement:.3f}</b>; envelope peaks {res.delay_difference_s * 1e9:+.2f}"
+            f" ns apart. Shapes and times compare; amplitudes do not (2-D line source, "
+            f"3-D model). FDTD {g.nx} x {g.nz} cells x {g.n_steps} steps, computed to "
+            f"{res.fdtd.computed_until_s * 1e9:.1f} ns, in {res.fdtd.elapsed_s:.1f} s.",
+            labels=("2-D FDTD, object as a cylinder (normalised)",
+                    "model, object alone (normalised)"))
+        self.fdtd2d_agreement = res.agreement
+        return res.agreement
 
-    def _load_demo(self) -> None:
-        self.scenario = Scenario.example(self.demo.value)
-        self.file_status.value = f"demo {html.escape(self.demo.value)}"
-
+    # ------------------------------------------------------------------ files
     def export_paths(self) -> dict[str, pathlib.Path]:
-        """Where the exports go: next to the path field's file, same stem."""
-        base = pathlib.Path(self.path.value).expanduser()
-        stem = base.with_suffix("") if base.suffix else base
-        return {"csv": stem.with_name(stem.name + ".csv"),
-                "npz": stem.with_name(stem.name + ".npz"),
-                "png": stem.with_name(stem.name + ".png"),
-                "report": stem.with_name(stem.name + "_report.html")}
+        """Where :meth:`export` writes: next to the file panel's path, same stem."""
+        return self.files.export_paths()
 
-    def _export(self, kind: str) -> pathlib.Path | None:
-        target = self.export_paths()[kind]
-        ok = guarded(self.file_message, lambda: self._guard_io(lambda: self._write(kind,
-                                                                                   target)))
-        if ok:
-            self.file_status.value = f"wrote {html.escape(str(target))}"
-            return target
-        return None
+    def export(self, kind: str, *, overwrite: bool | None = None) -> pathlib.Path | None:
+        """Write one export next to the scenario file: ``"csv"``, ``"npz"``, ``"png"`` or
+        ``"report"`` (notebook use; a served page offers downloads instead)."""
+        return self.files.export(kind, overwrite=overwrite)
 
-    def export(self, kind: str) -> pathlib.Path | None:
-        """Write one export: ``"csv"``, ``"npz"``, ``"png"`` or ``"report"``."""
-        if kind not in ("csv", "npz", "png", "report"):
-            raise ValueError(f"kind = {kind!r}; allowed: csv, npz, png, report")
-        return self._export(kind)
-
-    def _write(self, kind: str, target: pathlib.Path) -> None:
+    def export_bytes(self, kind: str) -> bytes:
+        """The bytes of one export of what is on screen (layouts in ``widgets.exports``)."""
         rg, raw = self._shown, self._raw
         if rg is None or raw is None:
             raise ValueError("nothing to export yet")
         view = self.radargram_view
-        name = self.scenario.name or "scenario"
         if kind == "csv":
-            exports.write_csv(rg, target, title=name)
-        elif kind == "npz":
-            exports.write_npz(rg, raw, target, scenario_json=self.scenario.to_json(),
-                              processing_json=self._chain.to_json() if self._chain else "")
-        elif kind == "png":
-            exports.write_png(rg, target, view.colour_dropdown.value, view.clip_slider.value)
-        else:
-            exports.write_report(target, self.report())
+            return exports.csv_bytes(rg, title=self.scenario.name or "scenario")
+        if kind == "npz":
+            return exports.npz_bytes(
+                rg, raw, scenario_json=self.scenario.to_json(),
+                processing_json=self._chain.to_json() if self._chain else "")
+        if kind == "png":
+            return exports.radargram_png(rg, view.colour_dropdown.value,
+                                         view.clip_slider.value)
+        if kind == "report":
+            return self.report().encode("utf-8")
+        raise ValueError(f"kind = {kind!r}; allowed: csv, npz, png, report")
 
     def report(self) -> str:
         """The one-page HTML design report of what is on screen."""

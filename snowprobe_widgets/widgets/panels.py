@@ -502,7 +502,7 @@ class RadarPanel(Panel):
 
     def __init__(self) -> None:
         self.pulse = dropdown("pulse shape", list(pulses.pulse_names()), "ricker")
-        self.frequency = log_slider("centre frequency (MHz)", 800.0, 50.0, 3000.0,
+        self.frequency = log_slider("centre frequency (MHz)", 800.0, 50.0, 6000.0,
                                     readout_format=".0f")
         self.own_bandwidth = widgets.Checkbox(value=True, indent=False,
                                               description="pulse's own bandwidth")

@@ -198,10 +198,13 @@ class CrossSectionView(widgets.VBox):
         if self.true_shape.value:
             width = self.x_scale.max - self.x_scale.min
             height = self.z_scale.min - self.z_scale.max
-            ratio = abs(width / height) if height else 1.0
-            self.figure.min_aspect_ratio = self.figure.max_aspect_ratio = ratio
+            lo = hi = abs(width / height) if height else 1.0
         else:
-            self.figure.min_aspect_ratio, self.figure.max_aspect_ratio = 0.01, 100.0
+            lo, hi = 0.01, 100.0
+        # both bounds at once: bqplot refuses min > max in between (a wider scene after a
+        # narrower one raised TraitError)
+        with self.figure.hold_trait_notifications():
+            self.figure.min_aspect_ratio, self.figure.max_aspect_ratio = lo, hi
 
     def _draw_pick(self) -> None:
         sc = self._scenario
@@ -226,6 +229,10 @@ class CrossSectionView(widgets.VBox):
 
 
 # --------------------------------------------------------------------------- trace
+_REFERENCE_LABELS = ("FDTD (plane wave, normalised)",
+                     "frequency domain, same media (normalised)")
+
+
 class TraceView(widgets.VBox):
     """One trace (A-scan) with its echoes labelled and an optional FDTD overlay."""
 
@@ -244,8 +251,7 @@ class TraceView(widgets.VBox):
         self.reference = bqplot.Lines(
             x=np.zeros((2, 2)), y=np.zeros((2, 2)), scales=nsc,
             colors=["#2f855a", "#b7791f"], line_style="solid", stroke_width=1.2,
-            labels=["FDTD (plane wave, normalised)",
-                    "frequency domain, same media (normalised)"],
+            labels=list(_REFERENCE_LABELS),
             display_legend=True, visible=False)
         axes = [bqplot.Axis(scale=self.t_scale, label="two-way time (ns)", grid_lines="none"),
                 bqplot.Axis(scale=self.a_scale, side="left", label="amplitude (model units)",
@@ -265,10 +271,18 @@ class TraceView(widgets.VBox):
                                           "same snow column")
         self.progress = widgets.FloatProgress(value=0.0, min=0.0, max=1.0,
                                               description="FDTD", bar_style="info")
+        self.fdtd2d_button = widgets.Button(
+            description="run 2-D check (FDTD, first object)",
+            layout=widgets.Layout(width="auto"),
+            tooltip="slow: a 2-D time-domain solution of the first object as a cylinder "
+            "across the line, antenna at this trace")
+        self.progress2d = widgets.FloatProgress(value=0.0, min=0.0, max=1.0,
+                                                description="2-D FDTD", bar_style="info")
         self.agreement = widgets.HTML()
         self.message = message_line()
         super().__init__(children=[self.title, self.figure,
                                    widgets.HBox([self.fdtd_button, self.progress]),
+                                   widgets.HBox([self.fdtd2d_button, self.progress2d]),
                                    self.agreement, self.message], **kwargs)
 
     @property
@@ -302,10 +316,11 @@ class TraceView(widgets.VBox):
         self._ref_axis.visible = False
         self.agreement.value = ""
         self.progress.value = 0.0
+        self.progress2d.value = 0.0
 
     def show_reference(self, time_s: np.ndarray, fdtd_amp: np.ndarray, fd_amp: np.ndarray,
-                       text: str) -> None:
-        """Overlay the FDTD and frequency-domain reference traces, each at peak 1."""
+                       text: str, labels: tuple[str, str] = _REFERENCE_LABELS) -> None:
+        """Overlay a full-wave reference and the model's trace, each at peak 1."""
         def unit(x: np.ndarray) -> np.ndarray:
             m = float(np.max(np.abs(x)))
             return x / m if m > 0 else x
@@ -314,6 +329,7 @@ class TraceView(widgets.VBox):
         with self.reference.hold_sync():
             self.reference.x = as_f32(np.vstack([t_ns, t_ns]))
             self.reference.y = as_f32(np.vstack([unit(fdtd_amp), unit(fd_amp)]))
+            self.reference.labels = list(labels)
             self.reference.visible = True
         self._ref_axis.visible = True
         self.agreement.value = text
