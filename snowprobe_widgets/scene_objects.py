@@ -26,7 +26,7 @@ import numpy as np
 
 from ._validate import check_choice, check_pore_water, check_range
 from .constants import MAX_LWC_PERCENT, RHO_ICE_KG_M3
-from .targets.base import check_bool, set_field
+from .targets.base import MAX_DEPTH_M, check_bool, set_field
 from .targets.boulder import Boulder
 from .targets.branch import DRY_WOOD_PERMITTIVITY, Branch
 from .targets.metal_plate import MetalPlate
@@ -56,7 +56,7 @@ _MIN_DENSITY = 30.0
 _CRUST_DENSITY = (700.0, _MAX_DENSITY)
 _MAX_CRUST_THICKNESS_M = 0.3
 _MAX_LAYERS = 200
-_MAX_SNOW_DEPTH_M = 100.0
+_MAX_SNOW_DEPTH_M = MAX_DEPTH_M
 #: Thinnest layer kept when a crust splits a layer (shorter slivers are dropped).
 _SLIVER_M = 1e-9
 
