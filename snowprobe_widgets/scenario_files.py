@@ -28,11 +28,13 @@ from __future__ import annotations
 import json
 import math
 import os
+import pathlib
 import stat
 import tempfile
 from typing import Any
 
 from .cautions import CAUTION_SHORT
+from .fields import declaration
 from .scene import (
     Boulder,
     Branch,
@@ -59,6 +61,9 @@ __all__ = [
     "load",
     "scenario_to_dict",
     "scenario_from_dict",
+    "json_schema",
+    "write_schema_file",
+    "SCHEMA_FILE",
 ]
 
 FORMAT = "snowprobe-scenario"
@@ -81,11 +86,13 @@ _STR = "string"
 
 
 class _Spec:
-    """How one value object is written and read: its class and each field's kind."""
+    """How one value object is written and read: its class, its group of declarations in
+    :mod:`snowprobe_widgets.fields` and each field's kind."""
 
-    def __init__(self, cls: type, kinds: dict[str, Any]) -> None:
+    def __init__(self, cls: type, kinds: dict[str, Any], group: str) -> None:
         self.cls = cls
         self.kinds = kinds
+        self.group = group
 
 
 class _ListOf:
@@ -101,36 +108,37 @@ class _TaggedListOf:
 
 
 _LAYER = _Spec(Layer, {"thickness_m": _NUM, "density_kg_m3": _NUM, "lwc_percent": _NUM,
-                       "ice_crust": _BOOL})
-_SNOWPACK = _Spec(Snowpack, {"layers": _ListOf(_LAYER, 200), "temperature_c": _NUM})
+                       "ice_crust": _BOOL}, "layer")
+_SNOWPACK = _Spec(Snowpack, {"layers": _ListOf(_LAYER, 200), "temperature_c": _NUM}, "snowpack")
 _GROUND = _Spec(Ground, {"kind": _STR, "water_fraction": _NUM, "permittivity": _NUM,
-                         "conductivity_s_m": _NUM})
+                         "conductivity_s_m": _NUM}, "ground")
 _PERSON = _Spec(Person, {
     "position_m": _NUM, "depth_m": _NUM, "offset_m": _NUM, "heading_deg": _NUM,
     "posture": _STR, "height_m": _NUM, "clothing_m": _NUM, "skin_m": _NUM, "fat_m": _NUM,
-    "muscle_m": _NUM, "label": _STR})
+    "muscle_m": _NUM, "label": _STR}, "person")
 _BOULDER = _Spec(Boulder, {"position_m": _NUM, "depth_m": _NUM, "diameter_m": _NUM,
-                           "offset_m": _NUM, "permittivity": _NUM, "conductivity_s_m": _NUM})
+                           "offset_m": _NUM, "permittivity": _NUM, "conductivity_s_m": _NUM},
+                 "boulder")
 _BRANCH = _Spec(Branch, {"position_m": _NUM, "depth_m": _NUM, "diameter_m": _NUM,
                          "length_m": _NUM, "offset_m": _NUM, "heading_deg": _NUM,
-                         "water_fraction": _NUM, "frozen": _BOOL})
+                         "water_fraction": _NUM, "frozen": _BOOL}, "branch")
 _METAL = _Spec(MetalPlate, {"position_m": _NUM, "depth_m": _NUM, "length_m": _NUM,
                             "width_m": _NUM, "offset_m": _NUM, "heading_deg": _NUM,
-                            "tilt_deg": _NUM, "label": _STR})
+                            "tilt_deg": _NUM, "label": _STR}, "metal")
 _RADAR = _Spec(Radar, {
     "pulse": _STR, "center_frequency_hz": _NUM, "bandwidth_hz": _OPT_NUM,
     "transmit_power_dbm": _NUM, "noise_floor_dbm": _NUM, "stacking": _INT,
     "antenna_gain_dbi": _NUM, "dt_s": _NUM, "time_window_s": _NUM, "antenna_height_m": _NUM,
-    "beamwidth_deg": _NUM})
-_SURVEY = _Spec(Survey, {"start_m": _NUM, "end_m": _NUM, "trace_spacing_m": _NUM})
+    "beamwidth_deg": _NUM}, "radar")
+_SURVEY = _Spec(Survey, {"start_m": _NUM, "end_m": _NUM, "trace_spacing_m": _NUM}, "survey")
 _CLUTTER = _Spec(Clutter, {"scatterer_density_per_m3": _NUM, "scatterer_size_m": _NUM,
                            "thin_layer_count": _INT, "thin_layer_contrast": _NUM,
-                           "seed": _INT})
+                           "seed": _INT}, "clutter")
 _OBJECT_SPECS = {s.cls.kind: s for s in (_BOULDER, _BRANCH, _METAL)}
 _SCENARIO = _Spec(Scenario, {
     "snowpack": _SNOWPACK, "ground": _GROUND, "persons": _ListOf(_PERSON, 50),
     "objects": _TaggedListOf(_OBJECT_SPECS, 1000), "radar": _RADAR, "survey": _SURVEY,
-    "clutter": _CLUTTER, "name": _STR, "notes": _STR})
+    "clutter": _CLUTTER, "name": _STR, "notes": _STR}, "scenario")
 
 #: Every spec, for the test that keeps the schema in step with the dataclasses.
 _SPECS: tuple[_Spec, ...] = (_LAYER, _SNOWPACK, _GROUND, _PERSON, _BOULDER, _BRANCH, _METAL,
@@ -475,3 +483,81 @@ def load(path: str | os.PathLike[str]) -> Scenario:
         raise ScenarioFileError(f"cannot read {where}: {exc.strerror or exc}") from exc
     return loads(data, source=name)
 
+
+
+# --------------------------------------------------------------------------- JSON Schema
+#: The JSON Schema of scenario files, shipped with the package (``json_schema()`` as text).
+SCHEMA_FILE = pathlib.Path(__file__).with_name("data") / "scenario.schema.json"
+
+
+def _field_schema(group: str, name: str, kind: Any) -> dict[str, Any]:
+    if isinstance(kind, _Spec):
+        return _object_schema(kind)
+    if isinstance(kind, _ListOf):
+        return {"type": "array", "maxItems": kind.max_items, "items": _object_schema(kind.spec)}
+    if isinstance(kind, _TaggedListOf):
+        return {"type": "array", "maxItems": kind.max_items,
+                "items": {"oneOf": [_object_schema(spec, tag=tag)
+                                    for tag, spec in kind.specs.items()]}}
+    f = declaration(group, name)
+    out: dict[str, Any] = {"title": f.label, "description": f.help}
+    if f.unit:
+        out["unit"] = f.unit
+    if f.kind in ("number", "optional number", "integer"):
+        out["type"] = {"number": "number", "integer": "integer",
+                       "optional number": ["number", "null"]}[f.kind]
+        if math.isfinite(f.low):
+            out["exclusiveMinimum" if f.low_open else "minimum"] = f.low
+        if math.isfinite(f.high):
+            out["exclusiveMaximum" if f.high_open else "maximum"] = f.high
+    elif f.kind == "boolean":
+        out["type"] = "boolean"
+    elif f.kind == "choice":
+        out["type"] = "string"
+        if not callable(f.choices):  # registries that plugins extend are checked on load
+            out["enum"] = list(f.allowed())
+    else:
+        out["type"] = "string"
+        out["maxLength"] = f.max_length
+    return out
+
+
+def _object_schema(spec: _Spec, tag: str | None = None) -> dict[str, Any]:
+    props = {name: _field_schema(spec.group, name, kind) for name, kind in spec.kinds.items()}
+    required = list(spec.kinds)
+    if tag is not None:
+        props = {"type": {"const": tag}, **props}
+        required = ["type", *required]
+    return {"type": "object", "title": spec.cls.__name__, "properties": props,
+            "required": required, "additionalProperties": False}
+
+
+def json_schema() -> dict[str, Any]:
+    """The JSON Schema (draft 2020-12) of a scenario file, from the field declarations.
+
+    It states the structure, types and each field's hard bounds, label, help and SI unit
+    (the keyword ``unit``). Rules that tie fields together (a person inside the snowpack,
+    enough samples in the window, the pulse's Nyquist limit) are checked on loading, not by
+    the schema. The same schema ships as :data:`SCHEMA_FILE`.
+    """
+    return {
+        "$schema": "https://json-schema.org/draft/2020-12/schema",
+        "title": "snowprobe scenario file",
+        "description": f"A scenario of snowprobe_widgets, schema version {SCHEMA_VERSION}. "
+                       + CAUTION_SHORT,
+        "type": "object",
+        "properties": {
+            "format": {"const": FORMAT},
+            "schema_version": {"const": SCHEMA_VERSION},
+            "caution": {"type": "string"},
+            "scenario": _object_schema(_SCENARIO),
+        },
+        "required": ["format", "schema_version", "scenario"],
+        "additionalProperties": False,
+    }
+
+
+def write_schema_file(path: str | os.PathLike[str] = SCHEMA_FILE) -> None:
+    """Write :func:`json_schema` as indented JSON text (regenerates :data:`SCHEMA_FILE`)."""
+    text = json.dumps(json_schema(), indent=2, ensure_ascii=False) + "\n"
+    pathlib.Path(path).write_text(text, encoding="utf-8")

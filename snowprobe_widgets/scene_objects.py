@@ -24,8 +24,10 @@ from typing import Any, ClassVar
 
 import numpy as np
 
-from ._validate import check_choice, check_range
+from ._validate import check_range
 from .constants import RHO_ICE_KG_M3
+from .fields import FieldError, declaration
+from .fields import check as _check
 
 __all__ = [
     "Layer",
@@ -41,23 +43,17 @@ __all__ = [
     "DRY_WOOD_PERMITTIVITY",
 ]
 
-#: Densest snow is bubble-free ice.
-_MAX_DENSITY = RHO_ICE_KG_M3
-#: Lightest snow accepted (fresh, very light new snow is about 30-50 kg/m3; common practice).
-_MIN_DENSITY = 30.0
-#: Highest liquid water content accepted, percent by volume ("slush" starts near 15 %,
-#: Fierz et al. 2009, UNESCO-IHP Tech. Doc. Hydrol. 83, table of wetness classes).
-_MAX_LWC_PERCENT = 12.0  # the wet-snow models' calibrated range (materials.wet_snow)
+# Field ranges (densities, water content, sizes) are declared in fields.py.
 #: Crust densities: melt-freeze crusts and ice lenses (common practice: 700-917 kg/m3).
-_CRUST_DENSITY = (700.0, _MAX_DENSITY)
+_CRUST_DENSITY = (700.0, RHO_ICE_KG_M3)
 _MAX_CRUST_THICKNESS_M = 0.3
 _MAX_LAYERS = 200
 _MAX_SNOW_DEPTH_M = 100.0
 #: Thinnest layer kept when a crust splits a layer (shorter slivers are dropped).
 _SLIVER_M = 1e-9
 
-GROUND_KINDS: tuple[str, ...] = ("soil", "rock")
-POSTURES: tuple[str, ...] = ("lying_flat", "curled")
+GROUND_KINDS: tuple[str, ...] = declaration("ground", "kind").allowed()
+POSTURES: tuple[str, ...] = declaration("person", "posture").allowed()
 
 #: Relative permittivity of oven-dry wood used for branches (from memory: dry wood has
 #: eps' of about 1.5-3 at radar frequencies depending on density and grain direction,
@@ -81,28 +77,17 @@ def _set(obj: object, name: str, value: Any) -> None:
     object.__setattr__(obj, name, value)
 
 
-def _check_label(name: str, value: object, max_len: int = 100) -> str:
-    if not isinstance(value, str):
-        raise ValueError(f"{name} must be a string, got {value!r}")
-    if len(value) > max_len:
-        raise ValueError(f"{name} is {len(value)} characters long; at most {max_len} allowed")
-    return value
-
-
-def _check_bool(name: str, value: object) -> bool:
-    if not isinstance(value, (bool, np.bool_)):
-        raise ValueError(f"{name} must be True or False, got {value!r}")
-    return bool(value)
+def _check_fields(obj: Any, group: str, names: tuple[str, ...]) -> None:
+    """Check each named field of ``obj`` against its declaration in ``fields``."""
+    for name in names:
+        _set(obj, name, _check(group, name, getattr(obj, name)))
 
 
 def _check_geometry(obj: Any) -> None:
     """Position, offset, depth and heading: the fields every buried thing shares."""
-    _set(obj, "position_m", check_range("position_m", obj.position_m, -1e4, 1e4, unit="m"))
-    _set(obj, "offset_m", check_range("offset_m", obj.offset_m, -100.0, 100.0, unit="m"))
-    _set(obj, "depth_m", check_range("depth_m", obj.depth_m, 0.0, _MAX_SNOW_DEPTH_M, unit="m"))
-    if hasattr(obj, "heading_deg"):
-        _set(obj, "heading_deg",
-             check_range("heading_deg", obj.heading_deg, -360.0, 360.0, unit="deg"))
+    names = ("position_m", "offset_m", "depth_m")
+    _check_fields(obj, obj.kind, names + (("heading_deg",) if hasattr(obj, "heading_deg")
+                                          else ()))
 
 
 # --------------------------------------------------------------------------- snow
@@ -134,32 +119,34 @@ class Layer:
     ice_crust: bool = False
 
     def __post_init__(self) -> None:
-        _set(self, "thickness_m", check_range(
-            "thickness_m", self.thickness_m, 0.0, _MAX_SNOW_DEPTH_M, unit="m", low_open=True))
-        _set(self, "density_kg_m3", check_range(
-            "density_kg_m3", self.density_kg_m3, _MIN_DENSITY, _MAX_DENSITY, unit="kg/m3"))
-        _set(self, "lwc_percent", check_range(
-            "lwc_percent", self.lwc_percent, 0.0, _MAX_LWC_PERCENT, unit="%"))
-        _set(self, "ice_crust", _check_bool("ice_crust", self.ice_crust))
+        _check_fields(self, "layer", ("thickness_m", "density_kg_m3", "lwc_percent",
+                                      "ice_crust"))
         ice = self.density_kg_m3 / RHO_ICE_KG_M3
         if ice + self.lwc_percent / 100.0 > 1.0 + 1e-12:
-            raise ValueError(
+            raise FieldError(
                 f"lwc_percent = {self.lwc_percent:g} % does not fit in the pores of snow of "
                 f"density_kg_m3 = {self.density_kg_m3:g}: the ice already fills "
-                f"{100 * ice:.1f} % of the volume, so at most {100 * (1 - ice):.1f} % water"
-            )
+                f"{100 * ice:.1f} % of the volume, so at most {100 * (1 - ice):.1f} % water",
+                field=declaration("layer", "lwc_percent"), value=self.lwc_percent,
+                screen=f"Liquid water {self.lwc_percent:g} % does not fit in the pores of "
+                       f"{self.density_kg_m3:.0f} kg/m³ snow: use at most "
+                       f"{math.floor(1000 * (1 - ice)) / 10:g} %, or a lower density.")
         if self.ice_crust:
             lo, hi = _CRUST_DENSITY
             if not lo <= self.density_kg_m3 <= hi:
-                raise ValueError(
+                raise FieldError(
                     f"density_kg_m3 = {self.density_kg_m3:g} kg/m3 is too light for an ice "
-                    f"crust; allowed range [{lo:g}, {hi:g}] kg/m3 when ice_crust is True"
-                )
+                    f"crust; allowed range [{lo:g}, {hi:g}] kg/m3 when ice_crust is True",
+                    field=declaration("layer", "density_kg_m3"), value=self.density_kg_m3,
+                    screen=f"Density {self.density_kg_m3:.0f} kg/m³ is too light for an ice "
+                           f"crust: set {lo:.0f} to {hi:.0f} kg/m³, or untick Ice crust.")
             if self.thickness_m > _MAX_CRUST_THICKNESS_M:
-                raise ValueError(
+                raise FieldError(
                     f"thickness_m = {self.thickness_m:g} m is too thick for an ice crust; "
-                    f"allowed range (0, {_MAX_CRUST_THICKNESS_M:g}] m when ice_crust is True"
-                )
+                    f"allowed range (0, {_MAX_CRUST_THICKNESS_M:g}] m when ice_crust is True",
+                    field=declaration("layer", "thickness_m"), value=self.thickness_m,
+                    screen=f"Thickness {self.thickness_m:g} m is too thick for an ice crust: "
+                           f"use at most {_MAX_CRUST_THICKNESS_M:g} m, or untick Ice crust.")
 
     def material(self) -> Any:
         """The layer's dielectric model, from :func:`snowprobe_widgets.materials.snow`."""
@@ -195,8 +182,7 @@ class Snowpack:
             if not isinstance(layer, Layer):
                 raise ValueError(f"layers[{i}] must be a Layer, got {type(layer).__name__}")
         _set(self, "layers", layers)
-        _set(self, "temperature_c",
-             check_range("temperature_c", self.temperature_c, -50.0, 0.0, unit="degC"))
+        _check_fields(self, "snowpack", ("temperature_c",))
         if self.depth_m > _MAX_SNOW_DEPTH_M:
             raise ValueError(
                 f"the layers add up to {self.depth_m:g} m of snow; at most "
@@ -303,12 +289,8 @@ class Ground:
     conductivity_s_m: float = 0.001
 
     def __post_init__(self) -> None:
-        check_choice("kind", self.kind, GROUND_KINDS)
-        _set(self, "water_fraction",
-             check_range("water_fraction", self.water_fraction, 0.0, 0.5, unit="m3/m3"))
-        _set(self, "permittivity", check_range("permittivity", self.permittivity, 2.0, 40.0))
-        _set(self, "conductivity_s_m",
-             check_range("conductivity_s_m", self.conductivity_s_m, 0.0, 1.0, unit="S/m"))
+        _check_fields(self, "ground", ("kind", "water_fraction", "permittivity",
+                                       "conductivity_s_m"))
 
     def material(self) -> Any:
         """The ground's dielectric model (``materials.soil`` or ``materials.rock``)."""
@@ -366,17 +348,19 @@ class Person:
 
     def __post_init__(self) -> None:
         _check_geometry(self)
-        check_choice("posture", self.posture, POSTURES)
-        _set(self, "height_m", check_range("height_m", self.height_m, 0.5, 2.3, unit="m"))
-        for name, lo, hi in (("clothing_m", 0.0, 0.1), ("skin_m", 0.0005, 0.005),
-                             ("fat_m", 0.001, 0.1), ("muscle_m", 0.005, 0.1)):
-            _set(self, name, check_range(name, getattr(self, name), lo, hi, unit="m"))
-        _set(self, "label", _check_label("label", self.label))
+        _check_fields(self, "person", ("posture", "height_m", "clothing_m", "skin_m",
+                                       "fat_m", "muscle_m", "label"))
         shell = self.clothing_m + self.skin_m + self.fat_m + self.muscle_m
         if shell > 0.5 * self.body_thickness_m:
-            raise ValueError(
+            room = 0.5 * self.body_thickness_m - (shell - self.clothing_m)
+            raise FieldError(
                 f"clothing_m + skin_m + fat_m + muscle_m = {shell:g} m does not fit in half "
-                f"the {self.body_thickness_m:g} m body thickness of posture {self.posture!r}")
+                f"the {self.body_thickness_m:g} m body thickness of posture {self.posture!r}",
+                field=declaration("person", "clothing_m"), value=self.clothing_m,
+                screen=f"Clothing, skin, fat and muscle ({100 * shell:.1f} cm) do not fit in "
+                       f"half the body ({50 * self.body_thickness_m:.1f} cm thick when "
+                       f"{self.posture.replace('_', ' ')}): use at most "
+                       f"{max(0.0, math.floor(1000 * room) / 10):g} cm of clothing.")
 
     @property
     def body_thickness_m(self) -> float:
@@ -457,10 +441,7 @@ class Boulder:
 
     def __post_init__(self) -> None:
         _check_geometry(self)
-        _set(self, "diameter_m", check_range("diameter_m", self.diameter_m, 0.05, 5.0, unit="m"))
-        _set(self, "permittivity", check_range("permittivity", self.permittivity, 2.0, 40.0))
-        _set(self, "conductivity_s_m",
-             check_range("conductivity_s_m", self.conductivity_s_m, 0.0, 1.0, unit="S/m"))
+        _check_fields(self, "boulder", ("diameter_m", "permittivity", "conductivity_s_m"))
 
     @property
     def centre_depth_m(self) -> float:
@@ -518,11 +499,7 @@ class Branch:
 
     def __post_init__(self) -> None:
         _check_geometry(self)
-        _set(self, "diameter_m", check_range("diameter_m", self.diameter_m, 0.01, 1.5, unit="m"))
-        _set(self, "length_m", check_range("length_m", self.length_m, 0.1, 20.0, unit="m"))
-        _set(self, "water_fraction",
-             check_range("water_fraction", self.water_fraction, 0.0, 0.6, unit="m3/m3"))
-        _set(self, "frozen", _check_bool("frozen", self.frozen))
+        _check_fields(self, "branch", ("diameter_m", "length_m", "water_fraction", "frozen"))
 
     @property
     def permittivity(self) -> float:
@@ -587,11 +564,10 @@ class MetalPlate:
 
     def __post_init__(self) -> None:
         _check_geometry(self)
-        _set(self, "length_m", check_range("length_m", self.length_m, 0.02, 3.0, unit="m"))
-        _set(self, "width_m",
-             check_range("width_m", self.width_m, 0.01, min(1.0, self.length_m), unit="m"))
-        _set(self, "tilt_deg", check_range("tilt_deg", self.tilt_deg, -90.0, 90.0, unit="deg"))
-        _set(self, "label", _check_label("label", self.label))
+        _check_fields(self, "metal", ("length_m",))
+        _set(self, "width_m", _check("metal", "width_m", self.width_m,
+                                     high=min(1.0, self.length_m)))
+        _check_fields(self, "metal", ("tilt_deg", "label"))
 
     @property
     def centre_depth_m(self) -> float:

@@ -263,7 +263,7 @@ class ScenarioExplorer(widgets.VBox):
         self.processing.show(ProcessingChain.default(scenario.radar.center_frequency_hz))
         first = scenario.persons[0].position_m if scenario.persons else \
             0.5 * (scenario.survey.start_m + scenario.survey.end_m)
-        self._accept(scenario, pick_m=first)
+        self._accept(scenario, pick_m=first, keep_limits=True)
 
     @property
     def chain(self) -> ProcessingChain | None:
@@ -309,16 +309,23 @@ class ScenarioExplorer(widgets.VBox):
         new: list[Scenario] = []
         if guarded(self.message, lambda: new.append(build_scenario(base, self._panels))):
             self._accept(new[0])
+        else:  # the controls go back to the accepted scenario; the message stays
+            for p in self._panels:
+                p.show(base, keep_selection=True)
 
     def _on_processing(self) -> None:
         if self._raw is not None:
             self._process()
 
-    def _accept(self, scenario: Scenario, pick_m: float | None = None) -> None:
+    def _accept(self, scenario: Scenario, pick_m: float | None = None,
+                keep_limits: bool = False) -> None:
         raw: list[Radargram] = []
         if not guarded(self.message, lambda: raw.append(self.simulation(scenario))):
             return
         old = self._scenario
+        if old is not None and not keep_limits:
+            for p in self._panels:  # slider ranges follow the new scenario
+                p.follow(scenario)
         self._scenario = scenario
         self._raw = raw[0]
         if old is None or _column_media_key(old) != _column_media_key(scenario):

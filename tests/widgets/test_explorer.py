@@ -229,32 +229,45 @@ def test_cached_parts_add_up_to_the_full_simulation(name: str) -> None:
 
 
 # --------------------------------------------------------------------------- refusals
-def test_person_below_the_snow_is_refused_with_message_and_last_picture(
+def test_depth_slider_spans_the_snowpack_and_refusal_restores_the_controls(
         app: ScenarioExplorer) -> None:
+    assert app.person.depth.max == pytest.approx(1.75)  # 2 m of snow, a 0.25 m thick body
+    app.person.depth.value = 1.75
     good = app.scenario
     picture = app.radargram_view.image_mark.image.value
     draws = _draws(app)
-    app.person.depth.value = 1.9  # 2 m of snow, a 0.25 m thick body
-    assert "deeper than the 2 m snowpack" in app.message_text
+    thickness = app.snowpack.thickness.value
+    app.snowpack.layer_choice.value = len(good.snowpack.layers) - 1
+    bottom = app.snowpack.thickness.value
+    app.snowpack.thickness.value = 0.1  # the person (1 m down) no longer fits
+    assert app.message_text == ("ski tourer: depth to top 1.75 m puts the bottom at 2 m, below "
+                                "the 1.6 m of snow: use at most 1.35 m, or add snow.")
+    assert "depth_m" not in app.message_text
     assert app.scenario is good
+    assert app.snowpack.thickness.value == bottom  # the control shows the accepted value
     assert app.radargram_view.image_mark.image.value == picture
     assert _draws(app) == draws
-    app.person.depth.value = 1.0
+    app.snowpack.layer_choice.value = 0
+    assert app.snowpack.thickness.value == thickness
+    app.person.depth.value = 1.2
     assert app.message_text == ""
-    assert app.scenario.persons[0].depth_m == 1.0
+    assert app.scenario.persons[0].depth_m == 1.2
 
 
-def test_refused_layer_and_radar_values_show_the_models_message(app: ScenarioExplorer) -> None:
+def test_refused_layer_and_radar_values_show_plain_messages(app: ScenarioExplorer) -> None:
     good = app.scenario
     app.snowpack.crust.value = True  # layer 1 is 120 kg/m3: too light for a crust
     assert "too light for an ice crust" in app.message_text
+    assert "kg/m³" in app.message_text and "untick Ice crust" in app.message_text
     assert app.scenario is good
-    app.snowpack.crust.value = False
+    assert app.snowpack.crust.value is False
+    app.radar.dt.value = 10 ** app.radar.dt.max  # the coarsest interval a Ricker allows
     assert app.message_text == ""
-    app.radar.dt.value = 300.0  # 0.3 ns cannot sample an 800 MHz Ricker pulse
-    assert "dt_s" in app.message_text and "Nyquist" in app.message_text
-    app.radar.dt.value = 100.0
-    assert app.message_text == ""
+    app.radar.pulse.value = "gaussian1"  # a wider band: the interval is too coarse
+    text = app.message_text
+    assert text.startswith("Sample interval") and "is too coarse for a 800 MHz pulse: use" in text
+    assert "or a lower centre frequency" in text and "e-" not in text and "dt_s" not in text
+    assert app.radar.pulse.value == "ricker"
 
 
 def test_no_person_budget_shows_message(app: ScenarioExplorer) -> None:
