@@ -39,7 +39,9 @@ import numpy as np
 import scipy.fft
 
 from ._validate import check_range
+from .budget_checks import CLUTTER_MARGIN_DB, overruling_warnings
 from .constants import C0_M_S
+from .detection import DEFAULT_THRESHOLD_DB
 from .radar_equation import antenna_factor, beam_weight, db20, noise_rms
 from .raypaths import layers_above_m
 from .synthesis import (
@@ -149,6 +151,13 @@ class LinkBudget:
     target_label : str
     verdict : str
         Plain-language summary with numbers.
+    likely_visible : bool
+        The budget's margin is met (echo ``threshold_db`` above the noise, 6 dB above the
+        clutter) and no condition of :attr:`warnings` overrules it.
+    warnings : tuple of str
+        Plain sentences for each condition that overrules the budget (time window, trace
+        spacing, footprint, detection level; :mod:`snowprobe_widgets.budget_checks`);
+        empty when nothing overrules.
     """
 
     rows: tuple[BudgetRow, ...]
@@ -163,6 +172,8 @@ class LinkBudget:
     threshold_db: float
     target_label: str
     verdict: str
+    likely_visible: bool = False
+    warnings: tuple[str, ...] = ()
 
     def row(self, term: str) -> BudgetRow:
         """The row named ``term``."""
@@ -366,7 +377,8 @@ def _label(target: Any, scenario: Any) -> str:
     return getattr(target, "label", "") or target.kind
 
 
-def link_budget(scenario: Any, target: Any = None, *, threshold_db: float = 10.0) -> LinkBudget:
+def link_budget(scenario: Any, target: Any = None, *,
+                threshold_db: float = DEFAULT_THRESHOLD_DB) -> LinkBudget:
     """The link budget of ``target`` (default: the scenario's first buried person).
 
     Parameters
@@ -375,8 +387,10 @@ def link_budget(scenario: Any, target: Any = None, *, threshold_db: float = 10.0
     target : Person, Boulder, Branch or MetalPlate, optional
         Any buried thing, in the scenario or not (placed in the scenario's snowpack).
     threshold_db : float
-        Echo-to-noise ratio a search team needs to call the echo, dB, in [0, 60]
-        (default 10 dB, common practice for a visible hyperbola on a raw display).
+        Detection level: how far the echo must stand above the noise and clutter, dB, in
+        [0, 60]; the automatic detector's default
+        (:data:`snowprobe_widgets.detection.DEFAULT_THRESHOLD_DB`), so that one level
+        serves both.
 
     Raises
     ------
@@ -488,8 +502,15 @@ def link_budget(scenario: Any, target: Any = None, *, threshold_db: float = 10.0
         BudgetRow("time window needed", window * 1e9, "ns",
                   "1.3 x the two-way time to the ground"),
     ]
-    if enr >= thr and ecr >= 6.0:
+    warnings = overruling_warnings(
+        scenario, target, label=label, optics=optics,
+        echo_over_noise_and_clutter_db=float(db20(echo.peak / math.hypot(rms, clutter))),
+        threshold_db=thr, spacing_needed_m=spacing, fresnel_radius_m=fres)
+    likely = bool(enr >= thr and ecr >= CLUTTER_MARGIN_DB and not warnings)
+    if likely:
         call = "likely visible"
+    elif warnings:
+        call = "not likely visible as set up"
     elif enr >= thr:
         call = "above the noise but may be hidden in debris clutter"
     else:
@@ -498,6 +519,7 @@ def link_budget(scenario: Any, target: Any = None, *, threshold_db: float = 10.0
                 f"{abs(ecr):.0f} dB {'above' if ecr >= 0 else 'below'} clutter")
     verdict = (f"{label} at {depth:.1f} m: echo {abs(enr):.0f} dB "
                f"{'above' if enr >= 0 else 'below'} noise, {ecr_text}: {call}. "
-               f"Deepest detectable at this setting: about {max_depth:.1f} m.")
+               f"Deepest detectable at this setting: about {max_depth:.1f} m."
+               + "".join(f" {w}" for w in warnings))
     return LinkBudget(tuple(rows), enr, ecr, max_depth, res, fres, spacing, window, depth,
-                      thr, label, verdict)
+                      thr, label, verdict, likely, warnings)
