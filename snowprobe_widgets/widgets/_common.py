@@ -24,7 +24,7 @@ MESSAGE_CLASS: str = "sp-message"
 CAUTION_CLASS: str = "sp-caution"
 
 _DESCRIPTION_WIDTH = "150px"
-_CONTROL_WIDTH = "380px"
+_CONTROL_WIDTH = "100%"
 _SHARED: dict[str, widgets.Widget] = {}
 
 

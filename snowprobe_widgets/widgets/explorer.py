@@ -26,7 +26,11 @@ from typing import Any
 import ipywidgets as widgets
 import numpy as np
 
+from snowprobe_widgets import presets
+from snowprobe_widgets.budget import link_budget
+from snowprobe_widgets.detection import DEFAULT_THRESHOLD_DB
 from snowprobe_widgets.fdtd import fdtd_trace, frozen_at
+from snowprobe_widgets.fields import screen_message
 from snowprobe_widgets.processing import ProcessingChain
 from snowprobe_widgets.radargram import Radargram
 from snowprobe_widgets.scene import Scenario
@@ -35,13 +39,16 @@ from snowprobe_widgets.trace import echo_times, synthesize_trace
 from snowprobe_widgets.widgets import exports
 from snowprobe_widgets.widgets._common import (
     caution_box,
+    dropdown,
     float_slider,
     guarded,
     message_line,
     message_text,
+    set_visible,
     share_plain_styles,
     show_message,
 )
+from snowprobe_widgets.widgets.glossary import glossary_html, tip
 from snowprobe_widgets.widgets.materials_lab import MaterialsExplorer
 from snowprobe_widgets.widgets.panels import (
     DebrisPanel,
@@ -52,16 +59,44 @@ from snowprobe_widgets.widgets.panels import (
 )
 from snowprobe_widgets.widgets.processing_panel import STEP_TITLES, ProcessingPanel
 from snowprobe_widgets.widgets.radargram_view import RadargramView
+from snowprobe_widgets.widgets.verdict import VerdictCards, budget_table_html
 from snowprobe_widgets.widgets.views import (
     BudgetView,
     CrossSectionView,
     SpectrumView,
     TraceView,
-    budget_table_html,
 )
 
 #: CSS classes of the file controls (browser tests rely on them).
 SAVE_CLASS, OPEN_CLASS, PATH_CLASS = "sp-save", "sp-open", "sp-file-path"
+#: CSS classes of the app, its control column and its view column (layout tests).
+APP_CLASS, CONTROLS_CLASS, VIEWS_CLASS = "sp-app", "sp-controls", "sp-views"
+#: How many accepted scenarios "undo" can step back through.
+UNDO_DEPTH = 50
+
+#: Layout rules of the app, scoped to it: the control column wraps long labels instead of
+#: cutting them, tabs wrap instead of truncating, rows of buttons wrap.
+_APP_CSS = f"""<style>
+.{APP_CLASS} .{CONTROLS_CLASS} {{ min-width: 0; }}
+.{APP_CLASS} .{CONTROLS_CLASS} .jupyter-widgets {{ max-width: calc(100% - 4px); }}
+.{APP_CLASS} .{CONTROLS_CLASS} .widget-label {{ white-space: normal; overflow: visible;
+  text-overflow: clip; line-height: 1.15; height: auto; min-height: 28px;
+  display: flex; align-items: center; }}
+.{APP_CLASS} .{CONTROLS_CLASS} .widget-inline-hbox {{ height: auto; min-height: 28px; }}
+.{APP_CLASS} .{CONTROLS_CLASS} .widget-checkbox {{ height: auto; }}
+.{APP_CLASS} .{CONTROLS_CLASS} .widget-checkbox label {{ white-space: normal; }}
+.{APP_CLASS} .lm-TabBar-content {{ flex-wrap: wrap; }}
+.{APP_CLASS} .lm-TabBar {{ min-height: auto; height: auto; max-height: none; }}
+.{APP_CLASS} .lm-TabBar-tab {{ flex: 0 0 auto !important; max-width: none !important;
+  min-width: 0 !important; }}
+.{APP_CLASS} .{VIEWS_CLASS} {{ min-width: 0; }}
+</style>"""
+
+
+def readable(name: str) -> str:
+    """A demo's registry key as words: "shallow_dry_powder" -> "Shallow dry powder"."""
+    words = name.replace("_", " ").strip()
+    return words[:1].upper() + words[1:]
 
 _NS = 1e-9
 
@@ -167,36 +202,72 @@ class ScenarioExplorer(widgets.VBox):
         self.message = message_line()
         self.controls = widgets.Tab(
             children=[self.person, self.snowpack, self.debris, self.radar, self.processing],
-            titles=["Person", "Snow & ground", "Debris", "Radar", "Processing"],
-            layout=widgets.Layout(width="460px"))
+            titles=["Person", "Snow", "Debris", "Radar", "Processing"],
+            layout=widgets.Layout(width="100%"))
+
+        # presets, undo, reset, the scenario picker
+        self.snow_preset = dropdown("Snow conditions", ["(choose)", *presets.SNOW_PRESETS],
+                                    "(choose)")
+        self.snow_preset.tooltip = ("Set every layer's density and water for typical snow; "
+                                    "the layer thicknesses stay.")
+        self.platform_preset = dropdown("Platform", ["(choose)", *presets.PLATFORM_PRESETS],
+                                        "(choose)")
+        self.platform_preset.tooltip = ("Antenna height and beam of a sled, a drone or a "
+                                        "helicopter; the time window grows to reach the ground.")
+        self.snow_preset.observe(lambda c: self._preset(c, presets.apply_snow), names="value")
+        self.platform_preset.observe(lambda c: self._preset(c, presets.apply_platform),
+                                     names="value")
+        self.undo_button = widgets.Button(description="undo", tooltip="undo the last change",
+                                          layout=widgets.Layout(width="auto"), disabled=True)
+        self.reset_button = widgets.Button(
+            description="reset", tooltip="back to the scenario as it was opened",
+            layout=widgets.Layout(width="auto"))
+        self.undo_button.on_click(lambda _: self.undo())
+        self.reset_button.on_click(lambda _: self.reset())
+        self._history: list[Scenario] = []
+        self._origin = scenario
+        self._examples: dict[str, Scenario] = {}
+        self.demo = widgets.Dropdown(options=self._demo_options(None), description="Scenario",
+                                     style={"description_width": "auto"},
+                                     layout=widgets.Layout(width="auto", max_width="100%"))
+        self.demo.observe(self._on_demo, names="value")
 
         # views
         self.section = CrossSectionView()
         self.radargram_view = RadargramView(show_truth=False)
+        set_visible(self.radargram_view.status, False)  # a developer counter: tests read it
         self.show_processed = widgets.ToggleButtons(
-            options=["processed", "raw"], value="processed", description="section")
+            options=["processed", "raw"], value="processed", description="section",
+            style={"button_width": "auto"})
         self.mark_detections = widgets.Checkbox(value=False, indent=False,
-                                                description="mark automatic detections")
-        self.detection_threshold = float_slider("detection level (dB)", 15.0, 0.0, 60.0, 1.0,
-                                                readout_format=".0f")
+                                                description="mark automatic detections",
+                                                layout=widgets.Layout(width="auto"))
+        self.detection_threshold = float_slider(
+            "Detection level (dB)", DEFAULT_THRESHOLD_DB, 0.0, 60.0, 1.0, readout_format=".0f",
+            tooltip=tip("detection level", "dB"))
+        self.detection_threshold.layout = widgets.Layout(width="320px", max_width="100%")
         self.detection_list = widgets.HTML()
+        self.verdicts = VerdictCards()
+        self._budgets: dict[tuple, Any] = {}
+        self._current_budgets: list[Any] = []
         self.trace_view = TraceView()
         self.spectrum_view = SpectrumView()
         self.budget_view = BudgetView()
         self.materials = MaterialsExplorer()
+        self.glossary = widgets.HTML(glossary_html())
         # plots in a hidden tab have no size and bqplot logs errors drawing them, so each
         # tab gets its view the first time it is shown
         self._lower_views = [self.trace_view, self.spectrum_view, self.budget_view,
-                             self.materials]
-        self._lower_slots = [widgets.VBox([self.trace_view])] + [widgets.VBox()
-                                                                 for _ in range(3)]
+                             self.materials, self.glossary]
+        self._lower_slots = [widgets.VBox([self.trace_view])] + [
+            widgets.VBox() for _ in range(len(self._lower_views) - 1)]
         self.lower = widgets.Tab(
             children=self._lower_slots,
-            titles=["Trace", "Spectrum", "Link budget", "Materials lab"])
+            titles=["Trace", "Spectrum", "Link budget", "Materials lab", "Glossary"])
         self.lower.observe(lambda _: self._fill_tab(), names="selected_index")
         self.show_processed.observe(lambda _: self._show_section(), names="value")
         self.mark_detections.observe(lambda _: self._update_detections(), names="value")
-        self.detection_threshold.observe(lambda _: self._update_detections(), names="value")
+        self.detection_threshold.observe(lambda _: self._on_level(), names="value")
         self.radargram_view.observe(self._on_pick, names="picked_trace_index")
         self.lower.observe(lambda _: self._refresh_lazy(), names="selected_index")
         self.trace_view.fdtd_button.on_click(lambda _: self.run_fdtd())
@@ -204,14 +275,12 @@ class ScenarioExplorer(widgets.VBox):
         # files
         self.path = widgets.Text(value="scenario.json", description="file",
                                  placeholder="path/to/scenario.json",
-                                 layout=widgets.Layout(width="360px"))
+                                 layout=widgets.Layout(width="360px", max_width="100%"))
         self.path.add_class(PATH_CLASS)
         self.open_button = widgets.Button(description="open", icon="")
         self.open_button.add_class(OPEN_CLASS)
         self.save_button = widgets.Button(description="save")
         self.save_button.add_class(SAVE_CLASS)
-        self.demo = widgets.Dropdown(options=list(Scenario.examples()), description="demo")
-        self.demo_button = widgets.Button(description="start from demo")
         self.export_csv = widgets.Button(description="data as CSV")
         self.export_npz = widgets.Button(description="data as NPZ")
         self.export_png = widgets.Button(description="picture as PNG")
@@ -220,30 +289,41 @@ class ScenarioExplorer(widgets.VBox):
         self.file_status = widgets.HTML()
         self.open_button.on_click(lambda _: self.open_file())
         self.save_button.on_click(lambda _: self.save_file())
-        self.demo_button.on_click(lambda _: self._load_demo())
         self.export_csv.on_click(lambda _: self._export("csv"))
         self.export_npz.on_click(lambda _: self._export("npz"))
         self.export_png.on_click(lambda _: self._export("png"))
         self.export_report.on_click(lambda _: self._export("report"))
         self.status = widgets.HTML()
+        set_visible(self.status, False)  # a developer counter: tests read it
 
+        wrap = widgets.Layout(flex_flow="row wrap", align_items="center")
         file_bar = widgets.VBox([
-            widgets.HBox([self.path, self.open_button, self.save_button, self.demo,
-                          self.demo_button]),
+            widgets.HBox([self.path, self.open_button, self.save_button], layout=wrap),
             widgets.HBox([widgets.HTML("export next to the file:"), self.export_csv,
-                          self.export_npz, self.export_png, self.export_report]),
+                          self.export_npz, self.export_png, self.export_report], layout=wrap),
             self.file_message, self.file_status])
-        left = widgets.VBox([self.controls, self.message, self.status])
+        left = widgets.VBox(
+            [widgets.HBox([self.undo_button, self.reset_button], layout=wrap),
+             self.snow_preset, self.platform_preset, self.controls, self.message, self.status],
+            layout=widgets.Layout(flex="0 0 auto", width="38%", min_width="330px",
+                                  max_width="440px"))
+        left.add_class(CONTROLS_CLASS)
         right = widgets.VBox([
             self.section, self.radargram_view,
-            widgets.HBox([self.show_processed, self.mark_detections, self.detection_threshold]),
-            self.detection_list, self.lower], layout=widgets.Layout(flex="1 1 auto"))
+            widgets.HBox([self.show_processed, self.mark_detections, self.detection_threshold],
+                         layout=wrap),
+            self.detection_list, self.lower], layout=widgets.Layout(flex="1 1 0%", min_width="0"))
+        right.add_class(VIEWS_CLASS)
         header = widgets.HTML(
-            "<h3 style='margin:4px 0'>Radar search planner</h3><div>Change the snow, the "
-            "buried person, the debris and the radar; see the scene, the radargram, a "
-            "trace and whether the echo would stand out.</div>")
-        super().__init__(children=[header, caution_box(), file_bar,
-                                   widgets.HBox([left, right])], **kwargs)
+            "<h3 style='margin:2px 0'>Radar search planner</h3><div>Would this radar see a "
+            "person buried here? Change the snow, the person, the debris and the radar.</div>")
+        top = widgets.HBox([header, self.demo],
+                           layout=widgets.Layout(flex_flow="row wrap", align_items="center",
+                                                 justify_content="space-between"))
+        super().__init__(children=[widgets.HTML(_APP_CSS), top, caution_box(),
+                                   self.verdicts, widgets.HBox([left, right]), file_bar],
+                         **kwargs)
+        self.add_class(APP_CLASS)
         share_plain_styles(self)
         self.scenario = scenario
 
@@ -258,12 +338,38 @@ class ScenarioExplorer(widgets.VBox):
     def scenario(self, scenario: Scenario) -> None:
         if not isinstance(scenario, Scenario):
             raise ValueError(f"scenario must be a Scenario, got {type(scenario).__name__}")
+        self._origin = scenario
+        self._show(scenario)
+
+    def _show(self, scenario: Scenario, reset_chain: bool = True, record: bool = True) -> None:
+        """Show ``scenario`` in every control and view (``reset_chain``: the processing
+        goes back to its default; ``record``: the scenario left can be undone)."""
         for p in self._panels:
             p.show(scenario)
-        self.processing.show(ProcessingChain.default(scenario.radar.center_frequency_hz))
+        if reset_chain:
+            self.processing.show(ProcessingChain.default(scenario.radar.center_frequency_hz))
         first = scenario.persons[0].position_m if scenario.persons else \
             0.5 * (scenario.survey.start_m + scenario.survey.end_m)
-        self._accept(scenario, pick_m=first, keep_limits=True)
+        self._accept(scenario, pick_m=first, keep_limits=True, record=record)
+
+    def undo(self) -> bool:
+        """Go back to the scenario before the last accepted change; False if none."""
+        if not self._history:
+            return False
+        self._show(self._history.pop(), reset_chain=False, record=False)
+        show_message(self.message, "")
+        return True
+
+    def reset(self) -> None:
+        """Go back to the scenario as it was opened (the demo, the file or the start)."""
+        self._show(self._origin)
+        show_message(self.message, "")
+
+    @property
+    def budgets(self) -> tuple[Any, ...]:
+        """The link budget of each buried person on screen, in order (None where refused),
+        at the detection level set on screen."""
+        return tuple(self._current_budgets)
 
     @property
     def chain(self) -> ProcessingChain | None:
@@ -318,7 +424,7 @@ class ScenarioExplorer(widgets.VBox):
             self._process()
 
     def _accept(self, scenario: Scenario, pick_m: float | None = None,
-                keep_limits: bool = False) -> None:
+                keep_limits: bool = False, record: bool = True) -> None:
         raw: list[Radargram] = []
         if not guarded(self.message, lambda: raw.append(self.simulation(scenario))):
             return
@@ -326,6 +432,9 @@ class ScenarioExplorer(widgets.VBox):
         if old is not None and not keep_limits:
             for p in self._panels:  # slider ranges follow the new scenario
                 p.follow(scenario)
+        if old is not None and record and old is not scenario:
+            self._history = (self._history + [old])[-UNDO_DEPTH:]
+        self.undo_button.disabled = not self._history
         self._scenario = scenario
         self._raw = raw[0]
         if old is None or _column_media_key(old) != _column_media_key(scenario):
@@ -335,12 +444,84 @@ class ScenarioExplorer(widgets.VBox):
             self.radargram_view.picked_position_m = None
         self._process(pick_m)
         self._stale = {"budget": True, "materials": True}
+        self._update_verdicts()
+        self._sync_demo()
         self._refresh_lazy()
         self.updates += 1
         runs = self.simulation.runs
         self.status.value = (f"<small>updates={self.updates} | simulated: column "
                              f"{runs['column']}x, objects {runs['objects']}x, noise "
                              f"{runs['noise']}x</small>")
+
+    def _update_verdicts(self) -> None:
+        """One verdict card per buried person, from the model's budgets (cached per person
+        and detection level, so a processing or colour change recomputes nothing)."""
+        s, thr = self.scenario, float(self.detection_threshold.value)
+        cache: dict[tuple, Any] = {}
+        budgets, problems = [], []
+        for i, p in enumerate(s.persons):
+            key = (i, p, s.snowpack, s.ground, s.radar, s.survey, s.clutter, thr)
+            hit = self._budgets.get(key)
+            if hit is None:
+                try:
+                    hit = (link_budget(s, p, threshold_db=thr), "")
+                except ValueError as exc:
+                    hit = (None, screen_message(exc))
+            cache[key] = hit
+            budgets.append(hit[0])
+            problems.append(hit[1])
+        self._budgets = cache
+        self._current_budgets = budgets
+        self.verdicts.show(s, budgets, problems)
+
+    def _on_level(self) -> None:
+        self._update_verdicts()
+        self._stale["budget"] = True
+        self._refresh_lazy()
+        self._update_detections()
+
+    def _example(self, name: str) -> Scenario:
+        if name not in self._examples:
+            self._examples[name] = Scenario.example(name)
+        return self._examples[name]
+
+    def _demo_options(self, scenario: Scenario | None) -> list[tuple[str, str]]:
+        names = Scenario.examples()
+        options = [(readable(k), k) for k in names]
+        if scenario is None or (scenario.name in names
+                                and self._example(scenario.name) == scenario):
+            return options
+        label = readable(scenario.name) if scenario.name else "Unnamed scenario"
+        return [(f"{label} (changed)" if scenario.name in names else label, "")] + options
+
+    def _sync_demo(self) -> None:
+        """The scenario picker names the scenario on screen ("... (changed)" after edits)."""
+        s = self.scenario
+        options = self._demo_options(s)
+        value = options[0][1] if options[0][1] == "" else s.name
+        self._quiet_demo = True
+        try:
+            if list(self.demo.options) != options:
+                self.demo.options = options
+            if value in [v for _, v in options]:
+                self.demo.value = value
+        finally:
+            self._quiet_demo = False
+
+    def _on_demo(self, change: Any) -> None:
+        if getattr(self, "_quiet_demo", False) or not change["new"]:
+            return
+        self.scenario = self._example(change["new"])
+        self.file_status.value = f"demo {html.escape(readable(change['new']))}"
+
+    def _preset(self, change: Any, apply: Any) -> None:
+        name = change["new"]
+        if name == "(choose)" or self._scenario is None:
+            return
+        new: list[Scenario] = []
+        if guarded(self.message, lambda: new.append(apply(self.scenario, name))):
+            self._show(new[0], reset_chain=False)
+        change["owner"].value = "(choose)"  # ready for the next choice (fires a no-op)
 
     def _fill_tab(self) -> None:
         i = self.lower.selected_index
@@ -449,7 +630,7 @@ class ScenarioExplorer(widgets.VBox):
     def _refresh_lazy(self) -> None:
         shown = self.lower.selected_index
         if shown == 2 and self._stale["budget"]:
-            self.budget_view.update(self.scenario)
+            self.budget_view.update(self.scenario, self._current_budgets)
             self._stale["budget"] = False
         if shown == 3 and self._stale["materials"]:
             self.materials.scenario = self.scenario
@@ -511,10 +692,6 @@ class ScenarioExplorer(widgets.VBox):
         except OSError as exc:
             raise ValueError(f"could not use the file: {exc.strerror or exc}") from None
 
-    def _load_demo(self) -> None:
-        self.scenario = Scenario.example(self.demo.value)
-        self.file_status.value = f"demo {html.escape(self.demo.value)}"
-
     def export_paths(self) -> dict[str, pathlib.Path]:
         """Where the exports go: next to the path field's file, same stem."""
         base = pathlib.Path(self.path.value).expanduser()
@@ -560,11 +737,11 @@ class ScenarioExplorer(widgets.VBox):
         s, rg, view = self.scenario, self._shown, self.radargram_view
         assert rg is not None
         png = exports.radargram_png(rg, view.colour_dropdown.value, view.clip_slider.value)
-        self.budget_view.update(s)
+        self.budget_view.update(s, self._current_budgets)
         self._stale["budget"] = False
         b = self.budget_view.budget
         if b is not None:
-            budget_html, verdict = budget_table_html(b), b.verdict
+            budget_html, verdict = budget_table_html(b, s), b.verdict
         else:
             verdict = message_text(self.budget_view.message) or "no link budget"
             budget_html = f"<p>{html.escape(verdict)}</p>"

@@ -53,6 +53,8 @@ from snowprobe_widgets.widgets._common import (
 PERSON_DEPTH_CLASS: str = "sp-person-depth"
 
 _BUTTON = widgets.Layout(width="auto")
+#: Rows of buttons wrap in a narrow column.
+_WRAP = widgets.Layout(flex_flow="row wrap")
 
 
 class Panel(widgets.VBox):
@@ -185,6 +187,9 @@ class SnowpackEditor(Panel):
         self.move_up = _button("move up")
         self.move_down = _button("move down")
         self.add_crust = _button("add ice crust below", "a 2 cm, 850 kg/m3 crust")
+        self.all_layers = _button("set for all layers",
+                                  "give every snow layer (not the ice crusts) this layer's "
+                                  "density and liquid water")
         self.temperature = self._control("temperature", "snowpack", "temperature_c", -5.0)
         self.ground_kind = self._control("ground_kind", "ground", "kind", "soil")
         self.soil_water = self._control("soil_water", "ground", "water_fraction", 0.15)
@@ -196,8 +201,8 @@ class SnowpackEditor(Panel):
         super().__init__([
             section_title("Snow layers, surface first"), self.layer_choice,
             widgets.HBox([self.add_layer, self.remove_layer, self.move_up, self.move_down,
-                          self.add_crust]),
-            self.thickness, self.density, self.lwc, self.crust, self.summary,
+                          self.add_crust], layout=_WRAP),
+            self.thickness, self.density, self.lwc, self.all_layers, self.crust, self.summary,
             section_title("Snow and ground"), self.temperature, self.ground_kind,
             self.soil_water, self.rock_permittivity, self.rock_conductivity])
         self.layer_choice.observe(self._on_pick, names="value")
@@ -210,6 +215,7 @@ class SnowpackEditor(Panel):
         self.move_up.on_click(lambda _: self._restructure("up"))
         self.move_down.on_click(lambda _: self._restructure("down"))
         self.add_crust.on_click(lambda _: self._restructure("crust"))
+        self.all_layers.on_click(lambda _: self._restructure("all"))
 
     @property
     def layers(self) -> tuple[Layer, ...]:
@@ -311,6 +317,11 @@ class SnowpackEditor(Panel):
         elif action == "crust":
             layers.insert(i + 1, Layer(0.02, 850.0, 0.0, ice_crust=True))
             i += 1
+        elif action == "all":
+            density, lwc = self._si("density"), self._si("lwc")
+            layers[:] = [la if la.ice_crust else
+                         dataclasses.replace(la, density_kg_m3=density, lwc_percent=lwc)
+                         for la in layers]
         self._refresh_choice(i)
         self._fire()
 
@@ -424,8 +435,8 @@ class PersonPanel(_ListPanel):
         self.height = self._control("height", "person", "height_m", 1.75)
         self.note = widgets.HTML()
         super().__init__([section_title("Buried people"), self.choice,
-                          widgets.HBox([self.add, self.remove]), self.note, self.depth,
-                          self.position, self.offset, self.heading, self.posture,
+                          widgets.HBox([self.add, self.remove], layout=_WRAP), self.note,
+                          self.depth, self.position, self.offset, self.heading, self.posture,
                           self.clothing, self.height])
         self._item_controls = (self.depth, self.position, self.offset, self.heading,
                                self.posture, self.clothing, self.height)
@@ -499,7 +510,8 @@ class DebrisPanel(_ListPanel):
                                self.heading)
         super().__init__([
             section_title("Debris objects"), self.choice,
-            widgets.HBox([self.add_boulder, self.add_branch, self.add_metal, self.remove]),
+            widgets.HBox([self.add_boulder, self.add_branch, self.add_metal, self.remove],
+                         layout=_WRAP),
             *self._item_controls,
             section_title("Debris clutter (seeded)"), self.density, self.block_size,
             self.thin_layers, self.contrast, self.seed])
