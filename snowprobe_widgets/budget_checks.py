@@ -125,7 +125,7 @@ def overruling_warnings(scenario: Any, target: Any, *, label: str, optics: Any,
                    f"than the hyperbola of {label} needs: use {needed:.1f} cm or less "
                    "(a quarter wavelength in the snow).")
     reach = footprint_radius_m(optics, h, radar.beamwidth_deg, depth, fresnel_radius_m)
-    extent = float(target.half_extent_m)
+    extent = float(getattr(target, "half_extent_m", 0.0))  # a plugin kind may not say
     along = max(0.0, survey.start_m - target.position_m, target.position_m - survey.end_m)
     off = max(0.0, math.hypot(along, abs(target.offset_m)) - extent)
     if off > reach:

@@ -257,6 +257,12 @@ SAMPLES = (64, 8192)
 RHO_ICE_KG_M3 = 917.0
 
 
+def _polarizations() -> tuple[str, ...]:
+    from .targets import POLARIZATIONS
+
+    return tuple(POLARIZATIONS)
+
+
 def _pulse_names() -> tuple[str, ...]:
     from .pulses import pulse_names
 
@@ -343,6 +349,9 @@ _DECLARED: list[Field] = [
        low=0.005, high=0.1, step=0.1, decimals=1, help="Thickness of the muscle layer."),
     _f("person", "label", "string", "Name", max_length=100,
        help="A name for the screen and the report."),
+    # ---- any buried object kind without declarations of its own (plugin kinds)
+    *_geometry("object", "object", "Snow surface to the top of the object."),
+    _heading("object", "object"),
     # ---- debris objects
     *_geometry("boulder", "boulder", "Snow surface to the top of the boulder."),
     _f("boulder", "diameter_m", "number", "Size", unit="m", display_unit="m", low=0.05,
@@ -374,8 +383,10 @@ _DECLARED: list[Field] = [
     # ---- radar
     _f("radar", "pulse", "choice", "Pulse shape", choices=_pulse_names,
        help="Shape of the transmitted pulse; plugins can add shapes."),
+    # to 6 GHz the materials hold; drone-borne ultra-wideband radars for avalanche victims
+    # work at 0.7-4.5 GHz (see scene.Radar)
     _f("radar", "center_frequency_hz", "number", "Centre frequency", unit="Hz",
-       display_unit="MHz", scale=1e6, low=50e6, high=3e9, soft=_frequency_for_dt, log=True,
+       display_unit="MHz", scale=1e6, low=50e6, high=6e9, soft=_frequency_for_dt, log=True,
        decimals=0, help="Higher frequencies resolve more detail but are absorbed faster "
                         "in wet snow."),
     _f("radar", "bandwidth_hz", "optional number", "Bandwidth", unit="Hz", display_unit="MHz",
@@ -409,6 +420,29 @@ _DECLARED: list[Field] = [
     _f("radar", "beamwidth_deg", "number", "Beamwidth", unit="deg", display_unit="°",
        low=5.0, high=180.0, step=1.0, decimals=0,
        help="Full width of the antenna beam at half power (-3 dB), in air."),
+    _f("radar", "polarization", "choice", "Polarisation", choices=_polarizations,
+       help="Direction of the antenna's electric field relative to the survey line; it "
+            "matters for long thin objects such as a branch."),
+    _f("radar", "antenna_band_low_hz", "optional number", "Antenna band, low edge",
+       unit="Hz", display_unit="MHz", scale=1e6, low=0.0, high=20e9, low_open=True, log=True,
+       decimals=0, help="Lowest frequency the antenna radiates with its stated gain; empty: "
+                        "the pulse's own half-power band."),
+    _f("radar", "antenna_band_high_hz", "optional number", "Antenna band, high edge",
+       unit="Hz", display_unit="MHz", scale=1e6, low=0.0, high=20e9, low_open=True, log=True,
+       decimals=0, help="Highest frequency the antenna radiates with its stated gain; empty: "
+                        "the pulse's own half-power band."),
+    _f("radar", "dynamic_range_db", "number", "Dynamic range", unit="dB", display_unit="dB",
+       low=20.0, high=200.0, step=1.0, decimals=0,
+       help="How much weaker than the surface echo an echo may be and still be recorded "
+            "(96 dB for a 16-bit digitiser)."),
+    _f("radar", "ringing_level_db", "number", "Antenna ringing", unit="dB", display_unit="dB",
+       low=-200.0, high=0.0, step=1.0, decimals=0,
+       help="What is left of the antenna's own ringing after background removal, relative "
+            "to the transmitted power; it hides echoes that arrive while it lasts."),
+    _f("radar", "ringing_time_s", "optional number", "Ringing time", unit="s",
+       display_unit="ns", scale=1e-9, low=0.0, high=1e-6, decimals=1,
+       help="How long the antenna rings after sending; empty: three periods of the centre "
+            "frequency."),
     # ---- survey
     _f("survey", "start_m", "number", "Line start", unit="m", display_unit="m", low=-1e4,
        high=1e4, soft=(-100.0, 100.0), step=0.5, decimals=1,
@@ -455,15 +489,37 @@ OBJECT_GROUPS: tuple[str, ...] = ("boulder", "branch", "metal")
 def declaration(group: str, name: str) -> Field:
     """The declaration of field ``name`` of ``group``.
 
+    A buried-object kind added by a plugin without declarations of its own gets the
+    generic ``"object"`` declarations of the shared geometry (position, depth, offset,
+    heading); a plugin declares its other fields with :func:`declare`.
+
     Raises
     ------
     KeyError
         If there is no such declaration.
     """
-    try:
-        return FIELDS[group][name]
-    except KeyError:
-        raise KeyError(f"no declared field {group}.{name}") from None
+    found = FIELDS.get(group, {}).get(name)
+    if found is None and group not in FIELDS:
+        found = FIELDS["object"].get(name)
+    if found is None:
+        raise KeyError(f"no declared field {group}.{name}")
+    return found
+
+
+def declare(*new: Field) -> None:
+    """Add declarations (a plugin's buried-object kind declares its own fields so).
+
+    Raises
+    ------
+    ValueError
+        If a field of that group and name is already declared.
+    """
+    for f in new:
+        if f.name in FIELDS.get(f.group, {}):
+            raise ValueError(f"field {f.group}.{f.name} is already declared")
+    for f in new:
+        FIELDS.setdefault(f.group, {})[f.name] = f
+        _DECLARED.append(f)
 
 
 # --------------------------------------------------------------------------- checking
@@ -711,4 +767,4 @@ def iter_declarations() -> list[Field]:
     return list(_DECLARED)
 
 
-__all__ += ["iter_declarations", "refusal", "SAMPLES", "RHO_ICE_KG_M3"]
+__all__ += ["iter_declarations", "declare", "refusal", "SAMPLES", "RHO_ICE_KG_M3"]

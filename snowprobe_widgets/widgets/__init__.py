@@ -3,12 +3,15 @@
 This is the only package that imports ipywidgets or bqplot; the model layer below it
 never imports this package.
 
-Apps: :class:`ScenarioExplorer` (everything around one scenario) and
-:class:`MaterialsExplorer`; their pieces (control panels, views) are importable too.
+Apps: :class:`ScenarioExplorer` (everything around one scenario),
+:class:`MaterialsExplorer`, :class:`TrainingSession` (blind radargram exercises) and
+:class:`DetectabilityView` (detection probability from Monte Carlo sweeps); their pieces
+(control panels, views) are importable too.
 """
 
 from __future__ import annotations
 
+from snowprobe_widgets.widgets.detectability import DetectabilityView
 from snowprobe_widgets.widgets.explorer import CachedSimulation, ScenarioExplorer
 from snowprobe_widgets.widgets.materials_lab import MaterialsExplorer
 from snowprobe_widgets.widgets.palette_png import (
@@ -26,6 +29,7 @@ from snowprobe_widgets.widgets.panels import (
 )
 from snowprobe_widgets.widgets.processing_panel import ProcessingPanel
 from snowprobe_widgets.widgets.radargram_view import RadargramView
+from snowprobe_widgets.widgets.training import TrainingSession
 from snowprobe_widgets.widgets.views import BudgetView, CrossSectionView, SpectrumView, TraceView
 
 __all__ = [
@@ -35,6 +39,7 @@ __all__ = [
     "CachedSimulation",
     "CrossSectionView",
     "DebrisPanel",
+    "DetectabilityView",
     "MaterialsExplorer",
     "PersonPanel",
     "ProcessingPanel",
@@ -44,6 +49,7 @@ __all__ = [
     "SnowpackEditor",
     "SpectrumView",
     "TraceView",
+    "TrainingSession",
     "colour_map",
     "encode_palette_png",
     "scale_to_index",

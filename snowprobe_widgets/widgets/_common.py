@@ -166,9 +166,10 @@ def field_control(field: Field, value: Any = None) -> widgets.Widget:
     if field.soft is not None and not callable(field.soft):
         lo, hi = max(field.low, field.soft[0]), min(field.high, field.soft[1])
     if field.kind == "choice":
-        options = list(field.allowed())
-        w: widgets.Widget = dropdown(field.title, options, value if value in options
-                                     else options[0])
+        allowed = list(field.allowed())
+        options = [(v.replace("_", " "), v) for v in allowed]
+        w: widgets.Widget = dropdown(field.title, options, value if value in allowed
+                                     else allowed[0])
         w.tooltip = field.help
         return w
     if field.kind == "boolean":

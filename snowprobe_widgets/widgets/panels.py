@@ -35,11 +35,11 @@ from snowprobe_widgets.scene import (
     Layer,
     MetalPlate,
     Person,
-    Radar,
     Scenario,
     Snowpack,
     Survey,
 )
+from snowprobe_widgets.targets import kind_of
 from snowprobe_widgets.widgets._common import (
     dropdown,
     field_control,
@@ -479,11 +479,6 @@ class PersonPanel(_ListPanel):
 
 
 # --------------------------------------------------------------------------- debris
-_OBJECT_NAMES = {"boulder": "boulder", "branch": "branch or trunk", "metal": "metal (ski, shovel)"}
-#: The field the "Size" slider edits, by object kind.
-_SIZE_FIELD = {"boulder": "diameter_m", "branch": "diameter_m", "metal": "length_m"}
-
-
 class DebrisPanel(_ListPanel):
     """Boulders, branches and metal objects, and the random debris clutter."""
 
@@ -544,8 +539,9 @@ class DebrisPanel(_ListPanel):
             changes: dict[str, Any] = dict(position_m=self._si("position"),
                                            depth_m=self._si("depth"),
                                            offset_m=self._si("offset"))
-            changes[_SIZE_FIELD[o.kind]] = self._si("size")
-            if o.kind != "boulder":
+            kind = kind_of(o)
+            changes[kind.size_field] = self._si("size")
+            if kind.has_heading:
                 changes["heading_deg"] = self._si("heading")
             objects[i] = dataclasses.replace(o, **changes)
         clutter = Clutter(scatterer_density_per_m3=self._si("density"),
@@ -556,14 +552,15 @@ class DebrisPanel(_ListPanel):
         return {"objects": tuple(objects), "clutter": clutter}
 
     def _label(self, k: int, item: Any) -> str:
-        return f"{k + 1}: {_OBJECT_NAMES.get(item.kind, item.kind)}"
+        return f"{k + 1}: {kind_of(item).title}"
 
     def _show_item(self, o: Any) -> None:
         self._put_geometry(o)
-        self.declared["size"] = declaration(o.kind, _SIZE_FIELD[o.kind])
-        self._put("size", getattr(o, _SIZE_FIELD[o.kind]))
+        kind = kind_of(o)
+        self.declared["size"] = declaration(o.kind, kind.size_field)
+        self._put("size", getattr(o, kind.size_field))
         self._put("heading", float(np.clip(getattr(o, "heading_deg", 0.0), -180, 180)))
-        self.heading.disabled = o.kind == "boulder"
+        self.heading.disabled = not kind.has_heading
 
 
 # --------------------------------------------------------------------------- radar
@@ -583,6 +580,8 @@ class RadarPanel(Panel):
         self.stacking = powers_of_two_control(self.declared["stacking"], 16)
         self.gain = self._control("gain", "radar", "antenna_gain_dbi", 6.0)
         self.beamwidth = self._control("beamwidth", "radar", "beamwidth_deg", 60.0)
+        self.polarization = self._control("polarization", "radar", "polarization",
+                                          "across_line")
         self.dt = self._control("dt", "radar", "dt_s", 1e-10)
         self.window = self._control("window", "radar", "time_window_s", 51.2e-9)
         self.spacing = self._control("spacing", "survey", "trace_spacing_m", 0.05)
@@ -592,10 +591,11 @@ class RadarPanel(Panel):
             section_title("Pulse"), self.pulse, self.frequency, self.own_bandwidth,
             self.bandwidth, section_title("Power and noise"), self.power, self.noise,
             self.stacking, section_title("Antenna"), self.height, self.gain, self.beamwidth,
-            section_title("Recording and survey line"), self.dt, self.window, self.spacing,
-            self.start, self.end])
+            self.polarization, section_title("Recording and survey line"), self.dt,
+            self.window, self.spacing, self.start, self.end])
         self._watch(self.pulse, self.frequency, self.own_bandwidth, self.bandwidth, self.height,
-                    self.power, self.noise, self.stacking, self.gain, self.beamwidth, self.dt,
+                    self.power, self.noise, self.stacking, self.gain, self.beamwidth,
+                    self.polarization, self.dt,
                     self.window, self.spacing, self.start, self.end)
         self.own_bandwidth.observe(
             lambda c: setattr(self.bandwidth, "disabled", bool(c["new"])), names="value")
@@ -623,6 +623,8 @@ class RadarPanel(Panel):
         self._set(self.stacking, int(r.stacking))
         self._put("gain", r.antenna_gain_dbi)
         self._put("beamwidth", r.beamwidth_deg)
+        self._set(self.polarization, r.polarization)
+        self._radar = r
         self._put("dt", r.dt_s, self._field("dt").soft_bounds(scenario))
         self._put("window", r.time_window_s, self._field("window").soft_bounds(scenario))
         self._put("spacing", s.trace_spacing_m)
@@ -636,13 +638,15 @@ class RadarPanel(Panel):
         self._put("noise", self._si("noise"), (self._field("noise").low, min(0.0, tp)))
 
     def parts(self) -> dict[str, Any]:
-        radar = Radar(
-            pulse=self.pulse.value, center_frequency_hz=self._si("frequency"),
+        # fields this panel does not show (antenna band, dynamic range, ringing) are kept
+        radar = dataclasses.replace(
+            self._radar, pulse=self.pulse.value, center_frequency_hz=self._si("frequency"),
             bandwidth_hz=None if self.own_bandwidth.value else self._si("bandwidth"),
             transmit_power_dbm=self._si("power"), noise_floor_dbm=self._si("noise"),
             stacking=int(self.stacking.value), antenna_gain_dbi=self._si("gain"),
             dt_s=self._si("dt"), time_window_s=self._si("window"),
-            antenna_height_m=self._si("height"), beamwidth_deg=self._si("beamwidth"))
+            antenna_height_m=self._si("height"), beamwidth_deg=self._si("beamwidth"),
+            polarization=self.polarization.value)
         survey = Survey(self._si("start"), self._si("end"), self._si("spacing"))
         return {"radar": radar, "survey": survey}
 

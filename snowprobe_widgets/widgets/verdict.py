@@ -33,11 +33,11 @@ def call_of(budget: Any) -> tuple[str, str]:
     """The card's verdict words and its tone ("yes", "maybe", "no") for ``budget``."""
     if budget.likely_visible:
         return "likely visible", "yes"
+    if budget.echo_to_noise_db < budget.threshold_db:
+        return "unlikely to be visible", "no"
     if budget.warnings:
         return "not likely visible as set up", "no"
-    if budget.echo_to_noise_db >= budget.threshold_db:
-        return "above the noise, but may hide in the debris clutter", "maybe"
-    return "unlikely to be visible", "no"
+    return "above the noise, but may hide in the debris clutter", "maybe"
 
 
 def card_sentence(budget: Any, name: str) -> str:
@@ -126,9 +126,10 @@ def _row_cells(budget: Any, row: Any, scenario: Any) -> tuple[str, str, str, str
         # the budget adds it with a minus sign; the table shows the noise power itself
         value = engineering(-row.value, row.unit)
         explanation = f"{row.explanation}; subtracted from the transmit power"
-    if row.term == "deepest detectable burial" and row.value >= _search_limit():
-        value = f"{_search_limit():.0f} m or more"
-        explanation = f"{row.explanation} (the search stops at {_search_limit():.0f} m)"
+    if row.term == "deepest detectable burial" and \
+            getattr(budget, "depth_limited_by", "") == "search limit":
+        value = f"{row.value:.0f} m or more"
+        explanation = f"{row.explanation}: deeper was not evaluated"
     flag = ""
     if scenario is not None and row.term in _NEEDED:
         have = (scenario.survey.trace_spacing_m if row.term == "trace spacing needed"
@@ -138,12 +139,6 @@ def _row_cells(budget: Any, row: Any, scenario: Any) -> tuple[str, str, str, str
         flag = (f"set: {shown}, met" if met else
                 f"<b style='color:#8a1c1c'>set: {shown}, NOT met</b>")
     return html.escape(term), value, html.escape(explanation), flag
-
-
-def _search_limit() -> float:
-    from snowprobe_widgets.budget import MAX_SEARCH_DEPTH_M
-
-    return MAX_SEARCH_DEPTH_M
 
 
 def budget_table_html(budget: Any, scenario: Any = None) -> str:
