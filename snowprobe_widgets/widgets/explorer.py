@@ -50,6 +50,7 @@ from snowprobe_widgets.widgets._common import (
     share_plain_styles,
     show_message,
 )
+from snowprobe_widgets.widgets.compare import Design, DesignComparison
 from snowprobe_widgets.widgets.glossary import glossary_html, tip
 from snowprobe_widgets.widgets.materials_lab import MaterialsExplorer
 from snowprobe_widgets.widgets.panels import (
@@ -187,7 +188,7 @@ class ScenarioExplorer(widgets.VBox):
         self._shown: Radargram | None = None
         self._chain: ProcessingChain | None = None
         self._echoes: tuple[tuple, list] | None = None
-        self._stale = {"budget": True, "materials": True}
+        self._stale = {"budget": True, "materials": True, "compare": True}
         self.simulation = CachedSimulation()
         self.updates = 0
 
@@ -252,23 +253,29 @@ class ScenarioExplorer(widgets.VBox):
         self.verdicts = VerdictCards()
         self._budgets: dict[tuple, Any] = {}
         self._current_budgets: list[Any] = []
+        self._problems: list[str] = []
         self.trace_view = TraceView()
         self.spectrum_view = SpectrumView()
         self.budget_view = BudgetView()
         self.materials = MaterialsExplorer()
         self.glossary = widgets.HTML(glossary_html())
+        self.compare = DesignComparison()
+        self.pin_button = widgets.Button(
+            description="pin as design A", tooltip="keep this design as A to compare the "
+            "next changes with it (tab Compare A/B)", layout=widgets.Layout(width="auto"))
+        self.pin_button.on_click(lambda _: self.pin_design())
         # plots in a hidden tab have no size and bqplot logs errors drawing them, so each
         # tab gets its view the first time it is shown
         self._lower_views = [self.trace_view, self.spectrum_view, self.budget_view,
-                             self.materials, self.glossary]
+                             self.materials, self.compare, self.glossary]
         self._lower_slots = [widgets.VBox([self.trace_view])] + [
             widgets.VBox() for _ in range(len(self._lower_views))]
         #: The "Detection probability" tab's view, made when the tab is first shown.
         self.detectability: Any = None
         self.lower = widgets.Tab(
             children=self._lower_slots,
-            titles=["Trace", "Spectrum", "Link budget", "Materials lab", "Glossary",
-                    "Detection probability"])
+            titles=["Trace", "Spectrum", "Link budget", "Materials lab", "Compare A/B",
+                    "Glossary", "Detection probability"])
         self.lower.observe(lambda _: self._fill_tab(), names="selected_index")
         self.show_processed.observe(lambda _: self._show_section(), names="value")
         self.mark_detections.observe(lambda _: self._update_detections(), names="value")
@@ -291,6 +298,8 @@ class ScenarioExplorer(widgets.VBox):
         self.export_npz = widgets.Button(description="data as NPZ")
         self.export_png = widgets.Button(description="picture as PNG")
         self.export_report = widgets.Button(description="design report (HTML)")
+        self.export_compare = widgets.Button(description="A/B comparison (HTML)")
+        self.export_compare.on_click(lambda _: self._export("compare"))
         self.file_message = message_line()
         self.file_status = widgets.HTML()
         self.open_button.on_click(lambda _: self.open_file())
@@ -308,7 +317,8 @@ class ScenarioExplorer(widgets.VBox):
         file_bar = widgets.VBox([
             widgets.HBox([self.path, self.open_button, self.save_button], layout=wrap),
             widgets.HBox([widgets.HTML("export next to the file:"), self.export_csv,
-                          self.export_npz, self.export_png, self.export_report], layout=wrap),
+                          self.export_npz, self.export_png, self.export_report,
+                          self.export_compare], layout=wrap),
             self.file_message, self.file_status])
         left = widgets.VBox(
             [widgets.HBox([self.undo_button, self.reset_button], layout=wrap),
@@ -326,7 +336,7 @@ class ScenarioExplorer(widgets.VBox):
         header = widgets.HTML(
             "<h3 style='margin:2px 0'>Radar search planner</h3><div>Would this radar see a "
             "person buried here? Change the snow, the person, the debris and the radar.</div>")
-        top = widgets.HBox([header, self.demo],
+        top = widgets.HBox([header, widgets.HBox([self.pin_button, self.demo], layout=wrap)],
                            layout=widgets.Layout(flex_flow="row wrap", align_items="center",
                                                  justify_content="space-between"))
         super().__init__(children=[widgets.HTML(_APP_CSS), top, caution_box(),
@@ -453,7 +463,7 @@ class ScenarioExplorer(widgets.VBox):
             self.radargram_view.picked_position_m = None
         self.processing.follow_antenna_height(scenario.radar.antenna_height_m)
         self._process(pick_m)
-        self._stale = {"budget": True, "materials": True}
+        self._stale = {"budget": True, "materials": True, "compare": True}
         self._update_verdicts()
         self._sync_demo()
         self._refresh_lazy()
@@ -484,11 +494,28 @@ class ScenarioExplorer(widgets.VBox):
             problems.append(hit[1])
         self._budgets = cache
         self._current_budgets = budgets
+        self._problems = problems
         self.verdicts.show(s, budgets, problems)
+
+    def design(self) -> Design:
+        """The design on screen: scenario, section on screen and budgets."""
+        return Design(self.scenario, self._shown, tuple(self._current_budgets),
+                      tuple(self._problems))
+
+    def pin_design(self) -> None:
+        """Keep the design on screen as A of the comparison (tab Compare A/B)."""
+        self.compare.pin(self.design())
+        self._stale["compare"] = False
+        self.file_status.value = "design A pinned: change the design and open Compare A/B"
+
+    def _refresh_compare(self) -> None:
+        view = self.radargram_view
+        self.compare.refresh(self.design(), view.colour_dropdown.value, view.clip_slider.value)
+        self._stale["compare"] = False
 
     def _on_level(self) -> None:
         self._update_verdicts()
-        self._stale["budget"] = True
+        self._stale["budget"] = self._stale["compare"] = True
         self._refresh_lazy()
         self._update_detections()
 
@@ -652,6 +679,8 @@ class ScenarioExplorer(widgets.VBox):
         if shown == 2 and self._stale["budget"]:
             self.budget_view.update(self.scenario, self._current_budgets)
             self._stale["budget"] = False
+        if shown == self._lower_views.index(self.compare) and self._stale["compare"]:
+            self._refresh_compare()
         if shown == 3 and self._stale["materials"]:
             self.materials.scenario = self.scenario
             self._stale["materials"] = False
@@ -758,7 +787,8 @@ class ScenarioExplorer(widgets.VBox):
         return {"csv": stem.with_name(stem.name + ".csv"),
                 "npz": stem.with_name(stem.name + ".npz"),
                 "png": stem.with_name(stem.name + ".png"),
-                "report": stem.with_name(stem.name + "_report.html")}
+                "report": stem.with_name(stem.name + "_report.html"),
+                "compare": stem.with_name(stem.name + "_compare.html")}
 
     def _export(self, kind: str) -> pathlib.Path | None:
         target = self.export_paths()[kind]
@@ -771,8 +801,8 @@ class ScenarioExplorer(widgets.VBox):
 
     def export(self, kind: str) -> pathlib.Path | None:
         """Write one export: ``"csv"``, ``"npz"``, ``"png"`` or ``"report"``."""
-        if kind not in ("csv", "npz", "png", "report"):
-            raise ValueError(f"kind = {kind!r}; allowed: csv, npz, png, report")
+        if kind not in self.export_paths():
+            raise ValueError(f"kind = {kind!r}; allowed: {', '.join(self.export_paths())}")
         return self._export(kind)
 
     def _write(self, kind: str, target: pathlib.Path) -> None:
@@ -788,6 +818,9 @@ class ScenarioExplorer(widgets.VBox):
                               processing_json=self._chain.to_json() if self._chain else "")
         elif kind == "png":
             exports.write_png(rg, target, view.colour_dropdown.value, view.clip_slider.value)
+        elif kind == "compare":
+            self._refresh_compare()
+            exports.write_report(target, self.compare.html())
         else:
             exports.write_report(target, self.report())
 

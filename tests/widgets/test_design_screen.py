@@ -134,3 +134,31 @@ def test_counters_are_hidden_and_the_glossary_is_a_page(app: ScenarioExplorer) -
         assert f"<b>{term}</b>" in app.glossary.value and GLOSSARY[term]
     app.lower.selected_index = 0
     assert "dB" in app.detection_threshold.tooltip
+
+
+def test_pin_a_change_b_and_compare(app: ScenarioExplorer, tmp_path) -> None:
+    from snowprobe_widgets.widgets.compare import budget_differences
+
+    with pytest.raises(ValueError, match="pin a design"):
+        ScenarioExplorer().compare.html()
+    app.pin_design()
+    a_data = app.radargram.data
+    app.radar.frequency.value = 500.0
+    titles = list(app.lower.titles)
+    app.lower.selected_index = titles.index("Compare A/B")
+    view = app.compare
+    assert view.a.radargram.data is a_data and view.b.scenario is app.scenario
+    assert view.pictures.value.count("<img alt='radargram") == 2
+    assert "one scale for A and B" in view.pictures.value
+    assert view.cards.value.count("sp-verdict-card") == 2
+    (name, rows), = budget_differences(view.a, view.b)
+    assert name == "Ski tourer"
+    gain = dict((t, d) for t, _a, _b, d in rows)["antenna gain and aperture"]
+    # G lambda / 4 pi grows by 20 log10(800 / 500) = 4.1 dB at the lower frequency
+    assert gain == "+4.1 dB"
+    app.path.value = str(tmp_path / "plan.json")
+    out = app.export("compare")
+    text = out.read_text(encoding="utf-8")
+    assert "Caution." in text and text.count("data:image/png;base64,") == 3  # A, B, scale
+    assert "B - A" in text
+    app.lower.selected_index = 0
