@@ -243,6 +243,11 @@ class LinkBudget:
     likely_visible: bool = False
     model_warnings: tuple[str, ...] = ()
 
+    def _repr_html_(self) -> str:
+        from .notebook_html import budget_html
+
+        return budget_html(self)
+
     def row(self, term: str) -> BudgetRow:
         """The row named ``term``."""
         for r in self.rows:

@@ -575,6 +575,11 @@ class Scenario:
         """The seeded clutter of this scenario (``clutter.realise(snowpack, survey)``)."""
         return self.clutter.realise(self.snowpack, self.survey)
 
+    def _repr_html_(self) -> str:
+        from .notebook_html import scenario_html
+
+        return scenario_html(self)
+
     # ----------------------------------------------------------------- files
 
     def to_json(self) -> str:
