@@ -33,7 +33,8 @@ from typing import Any
 
 import numpy as np
 
-from ._validate import check_choice, check_range
+from ._validate import check_choice, check_int, check_range
+from .constants import MAX_LWC_PERCENT
 
 __all__ = [
     "Field",
@@ -240,7 +241,7 @@ def _window_for_dt(scenario: Any, item: Any) -> tuple[float, float]:
 
 def _lwc_for_density(scenario: Any, item: Any) -> tuple[float, float]:
     if item is None:
-        return 0.0, 12.0
+        return 0.0, MAX_LWC_PERCENT
     return 0.0, 100.0 * (1.0 - item.density_kg_m3 / RHO_ICE_KG_M3)
 
 
@@ -309,7 +310,7 @@ _DECLARED: list[Field] = [
     # at most 12 %: the wet-snow models' calibrated range (materials.wet_snow); "slush"
     # starts near 15 % (Fierz et al. 2009, UNESCO-IHP Tech. Doc. Hydrol. 83, wetness classes)
     _f("layer", "lwc_percent", "number", "Liquid water", unit="%", display_unit="%",
-       low=0.0, high=12.0, soft=_lwc_for_density, step=0.1, decimals=1,
+       low=0.0, high=MAX_LWC_PERCENT, soft=_lwc_for_density, step=0.1, decimals=1,
        help="Liquid water by volume: 0 % in cold dry snow, 3-8 % in wet spring snow. Wet "
             "snow slows the wave and absorbs it."),
     _f("layer", "ice_crust", "boolean", "Ice crust",
@@ -549,7 +550,7 @@ def check(group: str, name: str, value: Any, *, low: float | None = None,
             return check_range(name, value, lo, hi, unit=f.unit, low_open=lo_open,
                                high_open=hi_open)
         if kind == "integer":
-            return _check_int(name, value, int(lo), int(hi))
+            return check_int(name, value, int(lo), int(hi))
         if kind == "boolean":
             if not isinstance(value, (bool, np.bool_)):
                 raise ValueError(f"{name} must be True or False, got {value!r}")
@@ -563,26 +564,17 @@ def check(group: str, name: str, value: Any, *, low: float | None = None,
         if len(value) > f.max_length:
             raise ValueError(
                 f"{name} is {len(value)} characters long; at most {f.max_length} allowed")
+        try:
+            value.encode("utf-8")
+        except UnicodeEncodeError as exc:
+            raise ValueError(f"{name} holds a character that is not valid Unicode (a lone "
+                             f"surrogate {value[exc.start]!r} at position {exc.start})") from None
         return value
     except FieldError:
         raise
     except ValueError as exc:
         raise FieldError(str(exc), field=f, value=value,
                          screen=_screen_refusal(f, value, lo, hi, lo_open, hi_open)) from None
-
-
-def _check_int(name: str, value: object, low: int, high: int) -> int:
-    if isinstance(value, (bool, np.bool_)):
-        raise ValueError(f"{name} must be a whole number, got {value!r}")
-    if isinstance(value, (int, np.integer)):
-        n = int(value)
-    elif isinstance(value, (float, np.floating)) and math.isfinite(value) and value == int(value):
-        n = int(value)
-    else:
-        raise ValueError(f"{name} must be a whole number, got {value!r}")
-    if not low <= n <= high:
-        raise ValueError(f"{name} = {n} is outside the allowed range [{low}, {high}]")
-    return n
 
 
 def _screen_refusal(f: Field, value: Any, lo: float, hi: float, lo_open: bool,

@@ -126,8 +126,9 @@ class Radargram:
         """Write the radargram as CSV: a header row (``time_ns``, then each trace's
         position in m), one row per sample; ``pandas.read_csv(path)`` reads it with no
         options."""
-        with open(path, "w", encoding="utf-8", newline="") as f:
-            f.write(csv_text(self))
+        from .atomic_files import write_atomically
+
+        write_atomically(path, csv_text(self).encode("utf-8"))
 
     def _repr_html_(self) -> str:
         return repr_html(self)

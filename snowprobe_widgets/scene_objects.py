@@ -24,7 +24,7 @@ from typing import Any
 
 import numpy as np
 
-from ._validate import check_range
+from ._validate import check_pore_water, check_range
 from .constants import RHO_ICE_KG_M3
 from .fields import FieldError, declaration
 from .targets.base import check_fields, set_field
@@ -91,16 +91,15 @@ class Layer:
     def __post_init__(self) -> None:
         check_fields(self, "layer", ("thickness_m", "density_kg_m3", "lwc_percent",
                                      "ice_crust"))
-        ice = self.density_kg_m3 / RHO_ICE_KG_M3
-        if ice + self.lwc_percent / 100.0 > 1.0 + 1e-12:
+        try:
+            check_pore_water(self.density_kg_m3, self.lwc_percent, RHO_ICE_KG_M3)
+        except ValueError as exc:
+            room = max(0.0, 1.0 - self.density_kg_m3 / RHO_ICE_KG_M3)
             raise FieldError(
-                f"lwc_percent = {self.lwc_percent:g} % does not fit in the pores of snow of "
-                f"density_kg_m3 = {self.density_kg_m3:g}: the ice already fills "
-                f"{100 * ice:.1f} % of the volume, so at most {100 * (1 - ice):.1f} % water",
-                field=declaration("layer", "lwc_percent"), value=self.lwc_percent,
+                str(exc), field=declaration("layer", "lwc_percent"), value=self.lwc_percent,
                 screen=f"Liquid water {self.lwc_percent:g} % does not fit in the pores of "
                        f"{self.density_kg_m3:.0f} kg/m³ snow: use at most "
-                       f"{math.floor(1000 * (1 - ice)) / 10:g} %, or a lower density.")
+                       f"{math.floor(1000 * room) / 10:g} %, or a lower density.") from None
         if self.ice_crust:
             lo, hi = _CRUST_DENSITY
             if not lo <= self.density_kg_m3 <= hi:

@@ -35,6 +35,7 @@ from snowprobe_widgets.fields import screen_message
 from snowprobe_widgets.processing import ProcessingChain
 from snowprobe_widgets.radargram import Radargram
 from snowprobe_widgets.scene import Scenario
+from snowprobe_widgets.serving import work_limits
 from snowprobe_widgets.synthesis import column_optics, simulate
 from snowprobe_widgets.trace import echo_times, synthesize_trace
 from snowprobe_widgets.validity import scenario_warnings
@@ -51,6 +52,13 @@ from snowprobe_widgets.widgets._common import (
     show_message,
 )
 from snowprobe_widgets.widgets.compare import Design, DesignComparison
+from snowprobe_widgets.widgets.file_panel import (
+    EXPORT_KINDS,
+    OPEN_CLASS,
+    PATH_CLASS,
+    SAVE_CLASS,
+    FilePanel,
+)
 from snowprobe_widgets.widgets.glossary import glossary_html, tip
 from snowprobe_widgets.widgets.materials_lab import MaterialsExplorer
 from snowprobe_widgets.widgets.panels import (
@@ -62,7 +70,7 @@ from snowprobe_widgets.widgets.panels import (
 )
 from snowprobe_widgets.widgets.processing_panel import STEP_TITLES, ProcessingPanel
 from snowprobe_widgets.widgets.radargram_view import RadargramView
-from snowprobe_widgets.widgets.verdict import VerdictCards, budget_table_html
+from snowprobe_widgets.widgets.verdict import VerdictCards
 from snowprobe_widgets.widgets.views import (
     BudgetView,
     CrossSectionView,
@@ -70,8 +78,6 @@ from snowprobe_widgets.widgets.views import (
     TraceView,
 )
 
-#: CSS classes of the file controls (browser tests rely on them).
-SAVE_CLASS, OPEN_CLASS, PATH_CLASS = "sp-save", "sp-open", "sp-file-path"
 #: CSS classes of the app, its control column and its view column (layout tests).
 APP_CLASS, CONTROLS_CLASS, VIEWS_CLASS = "sp-app", "sp-controls", "sp-views"
 #: How many accepted scenarios "undo" can step back through.
@@ -276,50 +282,31 @@ class ScenarioExplorer(widgets.VBox):
             children=self._lower_slots,
             titles=["Trace", "Spectrum", "Link budget", "Materials lab", "Compare A/B",
                     "Glossary", "Detection probability"])
-        self.lower.observe(lambda _: self._fill_tab(), names="selected_index")
-        self.show_processed.observe(lambda _: self._show_section(), names="value")
-        self.mark_detections.observe(lambda _: self._update_detections(), names="value")
-        self.detection_threshold.observe(lambda _: self._on_level(), names="value")
-        self.radargram_view.observe(self._on_pick, names="picked_trace_index")
-        self.lower.observe(lambda _: self._refresh_lazy(), names="selected_index")
-        self.trace_view.fdtd_button.on_click(lambda _: self.run_fdtd())
-        self.trace_view.fdtd2d_button.on_click(lambda _: self.run_fdtd2d())
+        # every callback runs guarded: a fault shows a plain message, never a traceback
+        self.lower.observe(self._safe(self._fill_tab), names="selected_index")
+        self.show_processed.observe(self._safe(self._show_section), names="value")
+        self.mark_detections.observe(self._safe(self._update_detections), names="value")
+        self.detection_threshold.observe(self._safe(self._on_level), names="value")
+        self.radargram_view.observe(self._safe(self._on_pick, True),
+                                    names="picked_trace_index")
+        self.lower.observe(self._safe(self._refresh_lazy), names="selected_index")
+        self.trace_view.fdtd_button.on_click(self._safe(self.run_fdtd))
+        self.trace_view.fdtd2d_button.on_click(self._safe(self.run_fdtd2d))
 
-        # files
-        self.path = widgets.Text(value="scenario.json", description="file",
-                                 placeholder="path/to/scenario.json",
-                                 layout=widgets.Layout(width="360px", max_width="100%"))
-        self.path.add_class(PATH_CLASS)
-        self.open_button = widgets.Button(description="open", icon="")
-        self.open_button.add_class(OPEN_CLASS)
-        self.save_button = widgets.Button(description="save")
-        self.save_button.add_class(SAVE_CLASS)
-        self.export_csv = widgets.Button(description="data as CSV")
-        self.export_npz = widgets.Button(description="data as NPZ")
-        self.export_png = widgets.Button(description="picture as PNG")
-        self.export_report = widgets.Button(description="design report (HTML)")
-        self.export_compare = widgets.Button(description="A/B comparison (HTML)")
-        self.export_compare.on_click(lambda _: self._export("compare"))
-        self.file_message = message_line()
-        self.file_status = widgets.HTML()
-        self.open_button.on_click(lambda _: self.open_file())
-        self.save_button.on_click(lambda _: self.save_file())
-        self.export_csv.on_click(lambda _: self._export("csv"))
-        self.export_npz.on_click(lambda _: self._export("npz"))
-        self.export_png.on_click(lambda _: self._export("png"))
-        self.export_report.on_click(lambda _: self._export("report"))
+
+        # files: upload/download when served, paths in a notebook (widgets/file_panel.py)
+        self.files = FilePanel(get_scenario=lambda: self.scenario,
+                               set_scenario=self._show_opened,
+                               export_bytes=self.export_bytes)
+        # one scenario picker, in the header (it names the scenario on screen)
+        for w in (self.files.demo, self.files.demo_button):
+            set_visible(w, False)
         self.status = widgets.HTML()
         set_visible(self.status, False)  # a developer counter: tests read it
         #: where a buried object's scattering method is outside its domain (model's words)
         self.validity = widgets.HTML()
 
         wrap = widgets.Layout(flex_flow="row wrap", align_items="center")
-        file_bar = widgets.VBox([
-            widgets.HBox([self.path, self.open_button, self.save_button], layout=wrap),
-            widgets.HBox([widgets.HTML("export next to the file:"), self.export_csv,
-                          self.export_npz, self.export_png, self.export_report,
-                          self.export_compare], layout=wrap),
-            self.file_message, self.file_status])
         left = widgets.VBox(
             [widgets.HBox([self.undo_button, self.reset_button], layout=wrap),
              self.snow_preset, self.platform_preset, self.controls, self.message, self.status,
@@ -340,7 +327,7 @@ class ScenarioExplorer(widgets.VBox):
                            layout=widgets.Layout(flex_flow="row wrap", align_items="center",
                                                  justify_content="space-between"))
         super().__init__(children=[widgets.HTML(_APP_CSS), top, caution_box(),
-                                   self.verdicts, widgets.HBox([left, right]), file_bar],
+                                   self.verdicts, widgets.HBox([left, right]), self.files],
                          **kwargs)
         self.add_class(APP_CLASS)
         share_plain_styles(self)
@@ -366,7 +353,7 @@ class ScenarioExplorer(widgets.VBox):
         for p in self._panels:
             p.show(scenario)
         if reset_chain:
-            self.processing.show(ProcessingChain.default(scenario.radar.center_frequency_hz))
+            self.processing.show(ProcessingChain.for_radar(scenario.radar))
         first = scenario.persons[0].position_m if scenario.persons else \
             0.5 * (scenario.survey.start_m + scenario.survey.end_m)
         self._accept(scenario, pick_m=first, keep_limits=True, record=record)
@@ -405,38 +392,49 @@ class ScenarioExplorer(widgets.VBox):
         """The section on screen (processed or raw, as chosen)."""
         return self._shown
 
-    def save_file(self, path: str | None = None) -> pathlib.Path | None:
-        """Save the scenario on screen to ``path`` (default: the path field)."""
-        target = pathlib.Path(path or self.path.value).expanduser()
-        ok = guarded(self.file_message, lambda: self._guard_io(
-            lambda: self.scenario.save(target)))
-        if ok:
-            self.file_status.value = f"saved {html.escape(str(target))}"
-            return target
-        return None
+    def save_file(self, path: str | None = None, *,
+                  overwrite: bool | None = None) -> pathlib.Path | None:
+        """Save the scenario on screen to ``path`` (notebook use; see :class:`FilePanel`).
+
+        An existing file is replaced only with ``overwrite=True``. Returns the path written,
+        or None when refused (the reason is shown in ``files.message``).
+        """
+        return self.files.save_file(path, overwrite=overwrite)
 
     def open_file(self, path: str | None = None) -> bool:
-        """Open a scenario file (default: the path field); True on success."""
-        target = pathlib.Path(path or self.path.value).expanduser()
-        loaded: list[Scenario] = []
-        ok = guarded(self.file_message, lambda: self._guard_io(
-            lambda: loaded.append(Scenario.load(target))))
-        if ok:
-            self.scenario = loaded[0]
-            self.file_status.value = f"opened {html.escape(str(target))}"
-        return ok
+        """Open a scenario file (notebook use; see :class:`FilePanel`); True on success."""
+        return self.files.open_file(path)
+
+    def _show_opened(self, scenario: Scenario) -> None:
+        self.scenario = scenario
 
     # ------------------------------------------------------------------ pipeline
+    def _safe(self, action: Any, pass_change: bool = False) -> Any:
+        """A widget callback running ``action`` under :func:`guarded`."""
+        def callback(change: Any) -> None:
+            guarded(self.message, (lambda: action(change)) if pass_change else action,
+                    self._restore_controls)
+
+        return callback
+
+    def _restore_controls(self) -> None:
+        """Put every control back to the scenario and chain on screen."""
+        if self._scenario is not None:
+            for p in self._panels:
+                p.show(self._scenario, keep_selection=True)
+        if self._chain is not None:
+            self.processing.show(self._chain)
+
     def _on_controls(self) -> None:
         base = self._scenario
         if base is None:
             return
         new: list[Scenario] = []
-        if guarded(self.message, lambda: new.append(build_scenario(base, self._panels))):
+        if guarded(self.message, lambda: new.append(build_scenario(base, self._panels)),
+                   self._restore_controls):
             self._accept(new[0])
         else:  # the controls go back to the accepted scenario; the message stays
-            for p in self._panels:
-                p.show(base, keep_selection=True)
+            self._restore_controls()
 
     def _on_processing(self) -> None:
         if self._raw is not None:
@@ -445,8 +443,20 @@ class ScenarioExplorer(widgets.VBox):
     def _accept(self, scenario: Scenario, pick_m: float | None = None,
                 keep_limits: bool = False, record: bool = True) -> None:
         raw: list[Radargram] = []
-        if not guarded(self.message, lambda: raw.append(self.simulation(scenario))):
+
+        def run() -> None:
+            work_limits().check(scenario)
+            raw.append(self.simulation(scenario))
+
+        if not guarded(self.message, run, self._restore_controls):
             return
+        if not guarded(self.message, lambda: self._show_accepted(scenario, raw[0], pick_m,
+                                                                 keep_limits, record),
+                       self._restore_controls):
+            return
+
+    def _show_accepted(self, scenario: Scenario, raw: Radargram, pick_m: float | None,
+                       keep_limits: bool, record: bool) -> None:
         old = self._scenario
         if old is not None and not keep_limits:
             for p in self._panels:  # slider ranges follow the new scenario
@@ -455,7 +465,7 @@ class ScenarioExplorer(widgets.VBox):
             self._history = (self._history + [old])[-UNDO_DEPTH:]
         self.undo_button.disabled = not self._history
         self._scenario = scenario
-        self._raw = raw[0]
+        self._raw = raw
         if old is None or _column_media_key(old) != _column_media_key(scenario):
             self.trace_view.clear_reference()
         self.section.update(scenario)
@@ -506,7 +516,7 @@ class ScenarioExplorer(widgets.VBox):
         """Keep the design on screen as A of the comparison (tab Compare A/B)."""
         self.compare.pin(self.design())
         self._stale["compare"] = False
-        self.file_status.value = "design A pinned: change the design and open Compare A/B"
+        self.files.status.value = "design A pinned: change the design and open Compare A/B"
 
     def _refresh_compare(self) -> None:
         view = self.radargram_view
@@ -551,7 +561,7 @@ class ScenarioExplorer(widgets.VBox):
         if getattr(self, "_quiet_demo", False) or not change["new"]:
             return
         self.scenario = self._example(change["new"])
-        self.file_status.value = f"demo {html.escape(readable(change['new']))}"
+        self.files.status.value = f"demo {html.escape(readable(change['new']))}"
 
     def _preset(self, change: Any, apply: Any) -> None:
         name = change["new"]
@@ -587,7 +597,7 @@ class ScenarioExplorer(widgets.VBox):
             done.append(c.apply(raw))
             chain.append(c)
 
-        if not guarded(self.message, run):
+        if not guarded(self.message, run, self._restore_controls):
             return
         self._chain = chain[0]
         self._processed = done[0]
@@ -773,83 +783,63 @@ class ScenarioExplorer(widgets.VBox):
         return res.agreement
 
     # ------------------------------------------------------------------ files
-    @staticmethod
-    def _guard_io(action: Any) -> None:
-        try:
-            action()
-        except OSError as exc:
-            raise ValueError(f"could not use the file: {exc.strerror or exc}") from None
-
     def export_paths(self) -> dict[str, pathlib.Path]:
-        """Where the exports go: next to the path field's file, same stem."""
-        base = pathlib.Path(self.path.value).expanduser()
-        stem = base.with_suffix("") if base.suffix else base
-        return {"csv": stem.with_name(stem.name + ".csv"),
-                "npz": stem.with_name(stem.name + ".npz"),
-                "png": stem.with_name(stem.name + ".png"),
-                "report": stem.with_name(stem.name + "_report.html"),
-                "compare": stem.with_name(stem.name + "_compare.html")}
+        """Where :meth:`export` writes: next to the file panel's path, same stem."""
+        return self.files.export_paths()
 
-    def _export(self, kind: str) -> pathlib.Path | None:
-        target = self.export_paths()[kind]
-        ok = guarded(self.file_message, lambda: self._guard_io(lambda: self._write(kind,
-                                                                                   target)))
-        if ok:
-            self.file_status.value = f"wrote {html.escape(str(target))}"
-            return target
-        return None
+    def export(self, kind: str, *, overwrite: bool | None = None) -> pathlib.Path | None:
+        """Write one export next to the scenario file: ``"csv"``, ``"npz"``, ``"png"`` or
+        ``"report"`` (notebook use; a served page offers downloads instead)."""
+        return self.files.export(kind, overwrite=overwrite)
 
-    def export(self, kind: str) -> pathlib.Path | None:
-        """Write one export: ``"csv"``, ``"npz"``, ``"png"`` or ``"report"``."""
-        if kind not in self.export_paths():
-            raise ValueError(f"kind = {kind!r}; allowed: {', '.join(self.export_paths())}")
-        return self._export(kind)
-
-    def _write(self, kind: str, target: pathlib.Path) -> None:
+    def export_bytes(self, kind: str) -> bytes:
+        """The bytes of one export of what is on screen (layouts in ``widgets.exports``)."""
         rg, raw = self._shown, self._raw
         if rg is None or raw is None:
             raise ValueError("nothing to export yet")
         view = self.radargram_view
-        name = self.scenario.name or "scenario"
         if kind == "csv":
-            exports.write_csv(rg, target, title=name)
-        elif kind == "npz":
-            exports.write_npz(rg, raw, target, scenario_json=self.scenario.to_json(),
-                              processing_json=self._chain.to_json() if self._chain else "")
-        elif kind == "png":
-            exports.write_png(rg, target, view.colour_dropdown.value, view.clip_slider.value)
-        elif kind == "compare":
+            return exports.csv_bytes(rg)
+        if kind == "budget_csv":
+            return exports.budget_csv_bytes(self.scenario, self._current_budgets)
+        if kind == "netcdf":
+            return exports.netcdf_bytes(rg, raw)
+        if kind == "npz":
+            return exports.npz_bytes(
+                rg, raw, scenario_json=self.scenario.to_json(),
+                processing_json=self._chain.to_json() if self._chain else "")
+        if kind == "png":
+            return exports.figure_png(rg, view.colour_dropdown.value, view.clip_slider.value,
+                                      self._figure_title(rg))
+        if kind == "report":
+            return self.report().encode("utf-8")
+        if kind == "compare":
             self._refresh_compare()
-            exports.write_report(target, self.compare.html())
-        else:
-            exports.write_report(target, self.report())
+            return self.compare.html().encode("utf-8")
+        raise ValueError(f"kind = {kind!r}; allowed: {', '.join(EXPORT_KINDS)}")
 
     def report(self) -> str:
-        """The one-page HTML design report of what is on screen."""
+        """The one-page HTML design summary of what is on screen (full tables after a page
+        break; :func:`snowprobe_widgets.widgets.exports.report_html`)."""
         s, rg, view = self.scenario, self._shown, self.radargram_view
-        assert rg is not None
-        png = exports.radargram_png(rg, view.colour_dropdown.value, view.clip_slider.value)
-        self.budget_view.update(s, self._current_budgets)
-        self._stale["budget"] = False
-        b = self.budget_view.budget
-        if b is not None:
-            budget_html, verdict = budget_table_html(b, s), b.verdict
-        else:
-            verdict = message_text(self.budget_view.message) or "no link budget"
-            budget_html = f"<p>{html.escape(verdict)}</p>"
+        if rg is None:
+            raise ValueError("nothing to report yet")
+        png = exports.figure_png(rg, view.colour_dropdown.value, view.clip_slider.value,
+                                 self._figure_title(rg))
         steps = [f"{STEP_TITLES.get(st.name, st.name)} ({', '.join(f'{k}={v:g}' if isinstance(v, float) else f'{k}={v}' for k, v in st.params)})"  # noqa: E501
                  for st in (self._chain.steps if self._chain else ()) if st.enabled]
         dets = [d.reason for d in getattr(self, "_detections", [])] \
             if self.mark_detections.value else []
+        caption = (f"{self._figure_title(rg)}: {rg.data.shape[1]} traces, "
+                   f"{rg.data.shape[0]} samples; colours {view.colour_dropdown.value}, "
+                   f"clipped at the {view.clip_slider.value:g} % amplitude.")
+        return exports.report_html(s, picture_png=png, budgets=self._current_budgets,
+                                   problems=self._problems, processing=steps,
+                                   detections=dets, figure_caption=caption)
+
+    def _figure_title(self, rg: Radargram) -> str:
         which = "processed" if rg is not self._raw else "raw"
-        caption = (f"Radargram ({which}): {rg.data.shape[1]} traces from "
-                   f"{rg.position_m[0]:.2f} to {rg.position_m[-1]:.2f} m, "
-                   f"{rg.data.shape[0]} samples over {rg.time_s[-1] / _NS:.1f} ns; colours "
-                   f"{view.colour_dropdown.value}, clipped at the {view.clip_slider.value:g} "
-                   "% amplitude.")
-        return exports.report_html(s, picture_png=png, budget_html=budget_html,
-                                   verdict=verdict, processing=steps, detections=dets,
-                                   figure_caption=caption)
+        return f"Radargram ({which}) of {self.scenario.name or 'the scenario'}"
 
     @property
     def message_text(self) -> str:

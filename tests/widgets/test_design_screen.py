@@ -156,7 +156,7 @@ def test_pin_a_change_b_and_compare(app: ScenarioExplorer, tmp_path) -> None:
     gain = dict((t, d) for t, _a, _b, d in rows)["antenna gain and aperture"]
     # G lambda / 4 pi grows by 20 log10(800 / 500) = 4.1 dB at the lower frequency
     assert gain == "+4.1 dB"
-    app.path.value = str(tmp_path / "plan.json")
+    app.files.path.value = str(tmp_path / "plan.json")
     out = app.export("compare")
     text = out.read_text(encoding="utf-8")
     assert "Caution." in text and text.count("data:image/png;base64,") == 3  # A, B, scale
