@@ -165,7 +165,7 @@ class TrainingSession(widgets.VBox):
         view.image_mark.on_element_click(self._on_picture_tap)
         self._mark_glyphs.on_element_click(self._on_mark_tap)
         self.nobody_button = widgets.ToggleButton(
-            value=False, description="nobody here",
+            value=False, description="nobody here", tooltip="nobody here",
             layout=widgets.Layout(height=f"{TOUCH_PX}px", width="auto", min_width="140px",
                                   margin="4px"))
         self.nobody_button.style.font_weight = "bold"

@@ -46,12 +46,15 @@ NEXT_JS = """async (rounds) => {
   const text = () => status.textContent;
   const href = () => figure.querySelector('svg image').getAttribute('href');
   const frame = () => new Promise(r => requestAnimationFrame(() => r()));
-  const until = (check) => new Promise(resolve => {
+  const until = (check) => new Promise((resolve, reject) => {
+    const timer = setTimeout(() => { observer.disconnect();
+                                     reject(new Error('stuck at: ' + text())); }, 60000);
     const observer = new MutationObserver(() => { if (check()) { observer.disconnect();
+                                                                clearTimeout(timer);
                                                                 resolve(); } });
     observer.observe(document.body, {subtree: true, attributes: true, childList: true,
                                      characterData: true});
-    if (check()) { observer.disconnect(); resolve(); }
+    if (check()) { observer.disconnect(); clearTimeout(timer); resolve(); }
   });
   const button = (cls) => document.querySelector(cls + ' button') ||
                           document.querySelector('button' + cls);
@@ -132,8 +135,9 @@ def main() -> int:
             page.locator(".sp-training-seed input").press("Enter")
             page.locator(".sp-training-start").click()
             page.wait_for_function(
-                "() => /round=1\\/\\d+ state=marking/.test(document.querySelector("
-                "'.sp-training-status').textContent)", timeout=60_000)
+                "(n) => document.querySelector('.sp-training-status').textContent"
+                ".includes(`round=1/${n} state=marking`)", arg=args.rounds + 2,
+                timeout=60_000)
             page.evaluate(NEXT_JS, 1)  # warm-up round, not counted
             latencies = page.evaluate(NEXT_JS, args.rounds)
             errors = record.console_errors + record.page_errors
