@@ -31,3 +31,13 @@ def detect(radargram, **options):  # noqa: ANN001, ANN201 - thin re-export
     from .detection import detect as _detect
 
     return _detect(radargram, **options)
+
+
+def sweep(base, vary, *, uncertain=None, realizations=50, seed=0, executor=None,  # noqa: ANN001, ANN201
+          **options):
+    """Monte Carlo detection probability over a grid: see
+    :func:`snowprobe_widgets.sweeps.sweep`."""
+    from .sweeps import sweep as _sweep
+
+    return _sweep(base, vary, uncertain=uncertain, realizations=realizations, seed=seed,
+                  executor=executor, **options)

@@ -50,6 +50,7 @@ from .synthesis import (
     index_offsets,
     target_reflection_spectrum,
 )
+from .targets import kind_of
 
 __all__ = [
     "BudgetRow",
@@ -59,12 +60,26 @@ __all__ = [
     "fresnel_radius_m",
     "quarter_wave_spacing_m",
     "time_window_s",
+    "SEARCH_LIMIT_M",
+    "DEPTH_LIMITS",
 ]
 
 #: Echo-to-clutter ratio reported when the scenario has no clutter scatterers, dB.
 NO_CLUTTER_DB = 120.0
-#: Search limit of the deepest detectable burial, m.
-MAX_SEARCH_DEPTH_M = 10.0
+#: Deepest burial the search for the detectable limit evaluates, m. A result that reaches
+#: it is reported as "beyond SEARCH_LIMIT_M m the model was not evaluated", never as a depth.
+SEARCH_LIMIT_M = 30.0
+#: Depths of the coarse scan, and of the refinement inside the bracket it finds.
+_N_SEARCH = 61
+_N_REFINE = 9
+#: What can limit the deepest detectable burial (``LinkBudget.depth_limited_by``).
+DEPTH_LIMITS: tuple[str, ...] = ("window", "noise", "clutter", "dynamic range", "ringing",
+                                 "search limit")
+#: The floors an echo must clear, in the order _deepest stacks them.
+_FLOORS = ("noise", "clutter", "dynamic range", "ringing")
+_FLOOR_WORDS = {"noise": "receiver noise", "clutter": "debris clutter",
+                "dynamic range": "receiver's dynamic-range floor under the surface echo",
+                "ringing": "antenna ringing"}
 
 
 # --------------------------------------------------------------------------- formulas
@@ -75,11 +90,34 @@ def range_resolution_m(bandwidth_hz: float, permittivity: float) -> float:
     return C0_M_S / (2.0 * b * math.sqrt(e))
 
 
-def fresnel_radius_m(wavelength_m: float, depth_m: float) -> float:
-    """First Fresnel zone sqrt(lambda d / 2 + lambda^2 / 16) (REFERENCES 7.7), m."""
+def fresnel_radius_m(wavelength_m: float, depth_m: float, *, antenna_height_m: float = 0.0,
+                     index: float = 1.0) -> float:
+    """First Fresnel zone of a target at ``depth_m`` seen from ``antenna_height_m`` above a
+    medium of refractive index ``index``: sqrt(lambda_m (d + n h) / 2 + lambda_m^2 / 16), m.
+
+    With h = 0 this is the ground-coupled form sqrt(lambda d / 2 + lambda^2 / 16)
+    (REFERENCES 7.7). The antenna height enters through Snell's law: to second order in
+    the ray angle the two-way path to a point x off axis grows by n x^2 / (d + n h), so the
+    half-period zone (two-way difference lambda_0 / 2) has x^2 = lambda_m (d + n h) / 2
+    (paraxial Fermat; derivation ours, checked against an exact Fermat computation in
+    tests/test_budget.py).
+
+    Parameters
+    ----------
+    wavelength_m : float
+        Wavelength in the medium at the target, m, in (0, 1000].
+    depth_m : float
+        Depth of the target below the surface, m, in [0, 1000].
+    antenna_height_m : float
+        Height of the antenna above the surface, m, in [0, 1000].
+    index : float
+        Real refractive index of the medium, in [1, 10].
+    """
     lam = check_range("wavelength_m", wavelength_m, 0.0, 1e3, unit="m", low_open=True)
     d = check_range("depth_m", depth_m, 0.0, 1e3, unit="m")
-    return math.sqrt(lam * d / 2.0 + lam * lam / 16.0)
+    h = check_range("antenna_height_m", antenna_height_m, 0.0, 1e3, unit="m")
+    n = check_range("index", index, 1.0, 10.0)
+    return math.sqrt(lam * (d + n * h) / 2.0 + lam * lam / 16.0)
 
 
 def quarter_wave_spacing_m(center_frequency_hz: float, permittivity: float) -> float:
@@ -136,12 +174,19 @@ class LinkBudget:
     echo_to_noise_db, echo_to_clutter_db : float
         Peak echo over the rms receiver noise after stacking / over the rms clutter, dB.
     max_detectable_depth_m : float
-        Deepest burial (same target, same snow, the bottom layer extended) whose echo
-        stands ``threshold_db`` above the receiver noise and the volume clutter together
-        (their rms added in power); at most MAX_SEARCH_DEPTH_M. Without clutter this is
-        the echo-to-noise limit.
-    range_resolution_m, footprint_radius_m, trace_spacing_m : float
-        In the snow at the target: resolution, first Fresnel zone, quarter-wave spacing.
+        Deepest burial (same target, same snow, the bottom layer extended) whose echo,
+        taken over the antenna's band, stands ``threshold_db`` above the receiver noise,
+        the volume clutter, the dynamic-range floor under the surface echo and the
+        antenna ringing together (their rms added in power), and whose two-way time lies
+        inside the recording window. ``depth_limited_by`` says which limit set it.
+    range_resolution_m : float
+        Range resolution in the snow at the target.
+    footprint_radius_m : float
+        First Fresnel zone at the target, with the antenna height and the refraction at
+        the surface (paraxial, :func:`fresnel_radius_m`).
+    trace_spacing_m : float
+        The smaller of the quarter wavelength in the densest layer (Annan) and a quarter
+        of the footprint diameter (four traces across the zone; our rule).
     time_window_s : float
         Window the survey needs: 1.3 x the two-way time to the ground.
     target_depth_m : float
@@ -149,6 +194,22 @@ class LinkBudget:
     target_label : str
     verdict : str
         Plain-language summary with numbers.
+    depth_limited_by : str
+        One of :data:`DEPTH_LIMITS`: "window" (the snow would pass a deeper echo),
+        "noise", "clutter", "dynamic range", "ringing", or "search limit" (detectable
+        down to SEARCH_LIMIT_M; deeper was not evaluated).
+    snow_limited_depth_m : float
+        The deepest detectable burial with a window long enough (at most SEARCH_LIMIT_M).
+    window_depth_m : float
+        Deepest burial whose echo arrives within the recording window.
+    window_needed_s : float
+        Two-way time to ``snow_limited_depth_m``: the window that would reach it, s.
+    lane_spacing_m : float
+        Spacing of parallel survey lines: one footprint diameter (our rule: a body
+        between two lines lies within the first Fresnel zone of one of them).
+    warnings : tuple of str
+        Models used outside their calibrated band
+        (:func:`snowprobe_widgets.validity.scenario_warnings`).
     """
 
     rows: tuple[BudgetRow, ...]
@@ -163,6 +224,12 @@ class LinkBudget:
     threshold_db: float
     target_label: str
     verdict: str
+    depth_limited_by: str
+    snow_limited_depth_m: float
+    window_depth_m: float
+    window_needed_s: float
+    lane_spacing_m: float
+    warnings: tuple[str, ...]
 
     def row(self, term: str) -> BudgetRow:
         """The row named ``term``."""
@@ -203,39 +270,13 @@ def _two_way_transmission(optics: ColumnOptics, depth_m: float) -> float:
 
 def _radii_m(target: Any) -> tuple[float, float]:
     """Principal radii of curvature of the target's top, m (inf: flat direction)."""
-    kind = target.kind
-    if kind == "person":
-        a, b, c = target.body_length_m / 2, target.body_width_m / 2, target.body_thickness_m / 2
-        return a * a / c, b * b / c
-    if kind == "boulder":
-        return target.diameter_m / 2, target.diameter_m / 2
-    if kind == "branch":
-        return math.inf, target.diameter_m / 2
-    return math.inf, math.inf
-
-
-def _strip_factor(width_m: float, wavelength0_m: float, r_e_m: float) -> float:
-    """Echo of a strip of ``width_m`` over that of an infinite plane, in one direction.
-
-    Stationary phase across the strip: |integral of exp(-j pi x^2 / F^2) dx over the
-    width| / F with F^2 = lambda_0 R_e / 2, i.e. sqrt(2) |C(u) - j S(u)| with
-    u = (w / 2) sqrt(2) / F (Fresnel integrals; Born & Wolf 1999 sec. 8.7).
-    """
-    from scipy.special import fresnel
-
-    F = math.sqrt(wavelength0_m * r_e_m / 2.0)
-    s_u, c_u = fresnel(width_m / 2.0 * math.sqrt(2.0) / F)
-    return float(math.sqrt(2.0) * abs(complex(c_u, -s_u)))
+    return kind_of(target).principal_radii_m(target)
 
 
 def _plate_factor(target: Any, wavelength_m: float, r_e_m: float, n: float) -> float:
-    """A metal plate narrower than the first Fresnel zone returns less than a flat
-    interface: the product of the two strip factors of its length and width."""
-    if target.kind != "metal":
-        return 1.0
-    lam0 = wavelength_m * n
-    length = target.length_m * math.cos(math.radians(target.tilt_deg))
-    return _strip_factor(length, lam0, r_e_m) * _strip_factor(target.width_m, lam0, r_e_m)
+    """The kind's extra echo factor (a metal plate narrower than the first Fresnel zone
+    returns less than a flat interface; 1 for the other built-in kinds)."""
+    return kind_of(target).budget_factor(target, wavelength_m, r_e_m, n)
 
 
 @dataclass(frozen=True)
@@ -250,7 +291,13 @@ class _Echo:
 
 
 class _EchoModel:
-    """Everything of a target's echo that does not depend on its depth, computed once."""
+    """Everything of a target's echo that does not depend on its depth, computed once.
+
+    The echo is evaluated over the antenna's band only (:attr:`Radar.antenna_band_hz`
+    within the pulse's band): energy the antenna does not radiate and receive with its
+    stated gain is not counted, so the low-frequency tail of a wide pulse, which the
+    attenuation of wet snow spares, cannot carry a deep echo.
+    """
 
     def __init__(self, scenario: Any, optics: ColumnOptics, target: Any,
                  max_depth_m: float) -> None:
@@ -266,22 +313,34 @@ class _EchoModel:
         self.n_fft = scipy.fft.next_fast_len(int(math.ceil(40.0 / fc / dt)) * 2, real=True)
         f = np.fft.rfftfreq(self.n_fft, dt)
         lo, hi = pulse.band_hz(1e-6)
-        self.band = (f >= max(lo, 1e6)) & (f <= min(hi, 0.5 / dt))
+        a_lo, a_hi = radar.antenna_band_hz
+        self.band = (f >= max(lo, a_lo, 1e6)) & (f <= min(hi, a_hi, 0.5 / dt))
         self.n_f = f.size
         fb = f[self.band]
         self.k0 = 2 * math.pi * fb / C0_M_S
         self.pulse_spec = pulse.spectrum(fb)
+        # the pulse as the antenna radiates it keeps its peak (the radar's stated power
+        # goes out in the antenna's band): scale the in-band spectrum to peak 1
+        self.pulse_spec = self.pulse_spec / max(
+            float(np.max(np.abs(self._waves(self.pulse_spec[None, :])))), 1e-300)
         self.offsets = index_offsets(self.opt, fb)
         self.r_f = []
         self.r_fc = []
         for m in self.opt.materials:
             r = target_reflection_spectrum(target, complex(m.permittivity(fc)),
-                                           np.append(fb, fc))
+                                           np.append(fb, fc),
+                                           polarization=radar.polarization)
             self.r_f.append(r[:-1])
             self.r_fc.append(abs(complex(r[-1])))
         self.radii = _radii_m(target)
 
-    def echo(self, depth_m: float) -> _Echo:
+    def _waves(self, spectra: np.ndarray) -> np.ndarray:
+        full = np.zeros((spectra.shape[0], self.n_f), complex)
+        full[:, self.band] = spectra
+        return scipy.fft.irfft(full / self.dt, n=self.n_fft, axis=1)
+
+    def _terms(self, depth_m: float) -> tuple[_Echo, np.ndarray]:
+        """The centre-frequency terms at ``depth_m`` and the echo's band spectrum."""
         opt = self.opt
         D = _above(opt, depth_m)
         r_e = self.h + float(np.sum(D / opt.index))
@@ -296,11 +355,29 @@ class _EchoModel:
         # dispersion and frequency-dependent loss relative to the centre-frequency values
         disp = dispersion_factor(self.offsets, self.k0, D, opt.alpha_np_m)
         amp_fc = self.af * t2 * 10 ** (sum(att_db) / 20) * curv / (2 * r_e)
-        spec = np.zeros(self.n_f, complex)
-        spec[self.band] = self.pulse_spec * self.r_f[j] * disp
-        wave = scipy.fft.irfft(spec / self.dt, n=self.n_fft)
-        peak = amp_fc * float(np.max(np.abs(wave)))
-        return _Echo(peak, t2, 1 / (2 * r_e), att_db, self.r_fc[j] * curv, self.af, r_e)
+        echo = _Echo(amp_fc, t2, 1 / (2 * r_e), att_db, self.r_fc[j] * curv, self.af, r_e)
+        return echo, self.pulse_spec * self.r_f[j] * disp
+
+    def echo(self, depth_m: float) -> _Echo:
+        """The echo's terms and its peak (received amplitude re sqrt(P_t)) at ``depth_m``."""
+        echo, spec = self._terms(depth_m)
+        peak = echo.peak * float(np.max(np.abs(self._waves(spec[None, :]))))
+        return dataclasses.replace(echo, peak=peak)
+
+    def peaks(self, depths_m: np.ndarray, chunk: int = 32) -> np.ndarray:
+        """Echo peaks at many depths (one batched transform per ``chunk`` depths)."""
+        out = np.empty(depths_m.size)
+        for s in range(0, depths_m.size, chunk):
+            terms = [self._terms(float(z)) for z in depths_m[s:s + chunk]]
+            waves = self._waves(np.array([spec for _, spec in terms]))
+            amp = np.array([e.peak for e, _ in terms])
+            out[s:s + len(terms)] = amp * np.max(np.abs(waves), axis=1)
+        return out
+
+    def surface_peak(self) -> float:
+        """Peak of the snow surface's echo (flat reflector at the antenna height)."""
+        n1 = float(self.opt.index[0])
+        return self.af * abs((1 - n1) / (1 + n1)) / (2 * self.h)
 
 
 class _ClutterModel:
@@ -359,8 +436,114 @@ class _ClutterModel:
                 * math.sqrt(count * self.amp2[j] * self.w2 * self.energy) / r_e**2)
 
 
+def _two_way_time_s(optics: ColumnOptics, h: float, depth_m: float) -> float:
+    """Two-way time from transmission to an echo from ``depth_m`` straight below, s."""
+    return 2 * (h + float(np.dot(_above(optics, depth_m), optics.index))) / C0_M_S
+
+
+def _depth_at_time_m(optics: ColumnOptics, h: float, time_s: float) -> float:
+    """Depth whose echo arrives ``time_s`` after transmission (straight down), m; the
+    bottom layer continues below the column."""
+    path = C0_M_S * time_s / 2 - h  # one-way optical path left in the snow
+    depth = 0.0
+    for d, n in zip(optics.thickness_m, optics.index, strict=True):
+        if path <= d * n:
+            return depth + max(path, 0.0) / n
+        path -= d * n
+        depth += d
+    return depth + path / float(optics.index[-1])
+
+
+@dataclass(frozen=True)
+class _DepthLimit:
+    depth_m: float  # deepest detectable inside the window
+    limited_by: str
+    snow_depth_m: float  # deepest detectable if the window were long enough
+    snow_limited_by: str
+    window_depth_m: float
+    window_needed_s: float
+
+
+def _deepest(radar: Any, model: _EchoModel, clutter: _ClutterModel, noise: float,
+             thr_db: float) -> _DepthLimit:
+    """Scan the depth with the same target: where does its echo stop standing ``thr_db``
+    above the noise, the clutter, the dynamic-range floor and the ringing together
+    (their rms added in power), and where does the recording window end?"""
+    opt, h = model.opt, model.h
+    dr_floor = model.surface_peak() * 10 ** (-radar.dynamic_range_db / 20)
+
+    def margins(depths: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        times = np.array([_two_way_time_s(opt, h, float(z)) for z in depths])
+        floors = np.array([
+            np.full(depths.size, noise),
+            [clutter.rms(float(z)) for z in depths],
+            np.full(depths.size, dr_floor),
+            np.where(times <= radar.ringing_duration_s, 10 ** (radar.ringing_level_db / 20),
+                     0.0),
+        ])
+        peaks = model.peaks(depths)
+        return np.asarray(db20(peaks / np.sqrt(np.sum(floors**2, axis=0)))) - thr_db, floors
+
+    depths = np.linspace(0.02, SEARCH_LIMIT_M, _N_SEARCH)
+    margin, floors = margins(depths)
+    ok = np.nonzero(margin >= 0)[0]
+    if ok.size == 0:
+        snow_depth, snow_by = 0.0, _FLOORS[int(np.argmax(floors[:, 0]))]
+    elif ok[-1] == depths.size - 1:
+        snow_depth, snow_by = SEARCH_LIMIT_M, "search limit"
+    else:
+        # refine inside the bracket, then interpolate the margin (dB) linearly
+        fine = np.linspace(depths[ok[-1]], depths[ok[-1] + 1], _N_REFINE + 2)
+        m_fine, f_fine = margins(fine)
+        i = int(np.nonzero(m_fine >= 0)[0][-1])
+        i = min(i, fine.size - 2)
+        z0, z1, m0, m1 = fine[i], fine[i + 1], m_fine[i], m_fine[i + 1]
+        snow_depth = float(z0 + m0 * (z1 - z0) / (m0 - m1)) if m1 < 0 <= m0 else float(z0)
+        snow_by = _FLOORS[int(np.argmax(f_fine[:, i + 1]))]
+    window_depth = _depth_at_time_m(opt, h, radar.time_window_s)
+    needed = _two_way_time_s(opt, h, snow_depth)
+    if snow_depth > window_depth:
+        return _DepthLimit(window_depth, "window", snow_depth, snow_by, window_depth, needed)
+    return _DepthLimit(snow_depth, snow_by, snow_depth, snow_by, window_depth, needed)
+
+
+def _reason(limit: str, radar: Any, thr: float) -> str:
+    return {
+        "noise": f"where its echo falls to {thr:g} dB over the receiver noise",
+        "clutter": f"where its echo falls to {thr:g} dB over the debris clutter",
+        "dynamic range": (f"where its echo falls below the receiver's "
+                          f"{radar.dynamic_range_db:g} dB dynamic range under the surface "
+                          "echo"),
+        "ringing": (f"where its echo is lost in the antenna ringing of the first "
+                    f"{radar.ringing_duration_s * 1e9:.1f} ns"),
+    }[limit]
+
+
+def _depth_sentence(lim: _DepthLimit, radar: Any, thr: float) -> str:
+    beyond = f"beyond {SEARCH_LIMIT_M:g} m the model was not evaluated"
+    if lim.limited_by == "search limit":
+        return f"Detectable at every depth searched, down to {SEARCH_LIMIT_M:g} m; {beyond}."
+    if lim.limited_by == "window":
+        if lim.snow_limited_by == "search limit":
+            reach = (f"the snow would pass its echo from deeper than {SEARCH_LIMIT_M:g} m "
+                     f"({beyond}), which needs a window of more than "
+                     f"{lim.window_needed_s * 1e9:.0f} ns")
+        else:
+            reach = (f"the snow would pass its echo from about {lim.snow_depth_m:.1f} m, which "
+                     f"needs a window of about {lim.window_needed_s * 1e9:.0f} ns")
+        return (f"Deepest detectable at this setting: about {lim.depth_m:.1f} m, where the "
+                f"{radar.time_window_s * 1e9:.0f} ns recording window ends, not the snow: "
+                f"{reach}.")
+    if lim.depth_m <= 0.0:
+        return (f"Not detectable at any depth at this setting: even near the surface its "
+                f"echo stays under {thr:g} dB over the "
+                f"{_FLOOR_WORDS[lim.limited_by]}.")
+    return (f"Deepest detectable at this setting: about {lim.depth_m:.1f} m, "
+            f"{_reason(lim.limited_by, radar, thr)}.")
+
+
 def _label(target: Any, scenario: Any) -> str:
-    if target.kind == "person":
+    if kind_of(target).placement == "persons":
         i = scenario.persons.index(target) + 1 if target in scenario.persons else 1
         return target.label or f"person {i}"
     return getattr(target, "label", "") or target.kind
@@ -384,6 +567,7 @@ def link_budget(scenario: Any, target: Any = None, *, threshold_db: float = 10.0
         If no target is given and nobody is buried, or the threshold is out of range.
     """
     from .scene import Scenario
+    from .validity import scenario_warnings
 
     if not isinstance(scenario, Scenario):
         raise ValueError(f"scenario must be a Scenario, got {type(scenario).__name__}")
@@ -402,42 +586,42 @@ def link_budget(scenario: Any, target: Any = None, *, threshold_db: float = 10.0
     radar = scenario.radar
     optics = column_optics(scenario)
     depth = float(target.depth_m)
-    model = _EchoModel(scenario, optics, target, MAX_SEARCH_DEPTH_M)
+    model = _EchoModel(scenario, optics, target, SEARCH_LIMIT_M)
     echo = model.echo(depth)
     rms = noise_rms(radar.transmit_power_dbm, radar.noise_floor_dbm, radar.stacking)
     enr = float(db20(echo.peak / rms))
-    clutter_model = _ClutterModel(scenario, optics, MAX_SEARCH_DEPTH_M)
+    clutter_model = _ClutterModel(scenario, optics, SEARCH_LIMIT_M)
     clutter = clutter_model.rms(depth)
     ecr = NO_CLUTTER_DB if clutter <= 0 else min(float(db20(echo.peak / clutter)),
                                                   NO_CLUTTER_DB)
-    # deepest detectable burial: scan depth with the same target
-    depths = np.linspace(0.05, MAX_SEARCH_DEPTH_M, 100)
-    # the echo must stand out from the noise and the clutter together
-    enr_z = np.array([float(db20(model.echo(float(z)).peak
-                                 / math.hypot(rms, clutter_model.rms(float(z)))))
-                      for z in depths])
-    ok = np.nonzero(enr_z >= thr)[0]
-    if ok.size == 0:
-        max_depth = 0.0
-    elif ok[-1] == depths.size - 1:
-        max_depth = MAX_SEARCH_DEPTH_M
-    else:
-        i = ok[-1]
-        z0, z1, e0, e1 = depths[i], depths[i + 1], enr_z[i], enr_z[i + 1]
-        max_depth = float(z0 + (thr - e0) * (z1 - z0) / (e1 - e0)) if e1 != e0 else float(z0)
+    lim = _deepest(radar, model, clutter_model, rms, thr)
+    dr_floor = model.surface_peak() * 10 ** (-radar.dynamic_range_db / 20)
+    t_target = _two_way_time_s(model.opt, radar.antenna_height_m, depth)
+    ring = 10 ** (radar.ringing_level_db / 20) if t_target <= radar.ringing_duration_s else 0.0
+    # echo over everything but the clutter: noise, dynamic-range floor, ringing
+    efr = float(db20(echo.peak / math.sqrt(rms**2 + dr_floor**2 + ring**2)))
+
     fc = radar.center_frequency_hz
     j = _layer_of(optics, depth)
-    eps_loc = float(optics.index[j] ** 2)
-    lam_m = C0_M_S / (fc * optics.index[j])
+    n_t = float(optics.index[j])
+    eps_loc = n_t**2
+    lam_m = C0_M_S / (fc * n_t)
     pulse = radar.make_pulse()
     res = range_resolution_m(pulse.bandwidth_hz, eps_loc)
-    fres = fresnel_radius_m(lam_m, depth)
-    spacing = min(quarter_wave_spacing_m(fc, float(n * n)) for n in optics.index)
+    # paraxial first Fresnel zone through the refracting surface: the reduced range
+    # R_e = h + sum D_j / n_j gives the depth in the target's layer n_t (R_e - h)
+    fres = fresnel_radius_m(lam_m, n_t * (echo.r_e_m - radar.antenna_height_m),
+                            antenna_height_m=radar.antenna_height_m, index=n_t)
+    spacing = min(min(quarter_wave_spacing_m(fc, float(n * n)) for n in optics.index),
+                  fres / 2)
+    lanes = 2 * fres
     t_ground = 2 * radar.antenna_height_m / C0_M_S + 2 * float(
         np.dot(optics.thickness_m, optics.index)) / C0_M_S
     window = time_window_s(t_ground)
     label = _label(target, scenario)
+    warnings = scenario_warnings(scenario)
 
+    a_lo, a_hi = radar.antenna_band_hz
     noise_dbm = radar.noise_floor_dbm - 10 * math.log10(radar.stacking)
     rows: list[BudgetRow] = [
         BudgetRow("transmit power", radar.transmit_power_dbm, "dBm",
@@ -470,27 +654,44 @@ def link_budget(scenario: Any, target: Any = None, *, threshold_db: float = 10.0
                           "curvature of its top"))
     subtotal = sum(r.value for r in rows)
     rows.append(BudgetRow("spectral shaping", enr - subtotal, "dB",
-                          "pulse peak after dispersion and the target's frequency response "
-                          "across the band"))
+                          f"pulse peak within the antenna band {a_lo / 1e6:.0f}-"
+                          f"{a_hi / 1e6:.0f} MHz after dispersion and the target's "
+                          "frequency response"))
     rows.append(BudgetRow("clutter level", float(db20(clutter / rms)) if clutter > 0
                           else -NO_CLUTTER_DB, "dB",
                           "rms echo of debris blocks in the resolution cell, relative to the "
                           "noise" if clutter > 0 else "no clutter scatterers in this scenario"))
     rows += [
+        BudgetRow("dynamic-range floor", float(db20(dr_floor / rms)), "dB",
+                  f"{radar.dynamic_range_db:g} dB below the surface echo, relative to the "
+                  "noise: weaker echoes are not recorded"),
+        BudgetRow("ringing lasts", radar.ringing_duration_s * 1e9, "ns",
+                  f"antenna ringing at {radar.ringing_level_db:g} dB of the transmitted "
+                  "power masks earlier echoes"),
         BudgetRow("echo-to-noise ratio", enr, "dB", "peak echo over rms receiver noise"),
         BudgetRow("echo-to-clutter ratio", ecr, "dB", "peak echo over rms debris clutter"),
-        BudgetRow("deepest detectable burial", max_depth, "m",
-                  f"same target and snow, echo {thr:g} dB above noise and clutter together"),
+        BudgetRow("deepest detectable burial", lim.depth_m, "m",
+                  f"same target and snow, limited by the {lim.limited_by}"),
+        BudgetRow("deepest the window reaches", lim.window_depth_m, "m",
+                  f"echoes from deeper arrive after the {radar.time_window_s * 1e9:.0f} ns "
+                  "window"),
         BudgetRow("range resolution", res, "m", "two echoes closer than this merge"),
-        BudgetRow("footprint radius", fres, "m", f"first Fresnel zone at {depth:.2f} m"),
+        BudgetRow("footprint radius", fres, "m",
+                  f"first Fresnel zone at {depth:.2f} m with the antenna "
+                  f"{radar.antenna_height_m:g} m up, refraction included"),
         BudgetRow("trace spacing needed", spacing, "m",
-                  "quarter wavelength in the densest layer"),
+                  "quarter wavelength in the densest layer, and four traces across the "
+                  "footprint radius"),
+        BudgetRow("lane spacing", lanes, "m",
+                  "parallel lines one footprint diameter apart"),
         BudgetRow("time window needed", window * 1e9, "ns",
                   "1.3 x the two-way time to the ground"),
     ]
-    if enr >= thr and ecr >= 6.0:
+    if depth > lim.window_depth_m:
+        call = "not visible: its echo arrives after the recording window ends"
+    elif efr >= thr and ecr >= 6.0:
         call = "likely visible"
-    elif enr >= thr:
+    elif efr >= thr:
         call = "above the noise but may be hidden in debris clutter"
     else:
         call = "unlikely to be visible"
@@ -498,6 +699,12 @@ def link_budget(scenario: Any, target: Any = None, *, threshold_db: float = 10.0
                 f"{abs(ecr):.0f} dB {'above' if ecr >= 0 else 'below'} clutter")
     verdict = (f"{label} at {depth:.1f} m: echo {abs(enr):.0f} dB "
                f"{'above' if enr >= 0 else 'below'} noise, {ecr_text}: {call}. "
-               f"Deepest detectable at this setting: about {max_depth:.1f} m.")
-    return LinkBudget(tuple(rows), enr, ecr, max_depth, res, fres, spacing, window, depth,
-                      thr, label, verdict)
+               + _depth_sentence(lim, radar, thr))
+    if warnings:
+        verdict += (" Some material models are used outside their calibrated band "
+                    "(see the warnings).")
+    return LinkBudget(
+        tuple(rows), enr, ecr, lim.depth_m, res, fres, spacing, window, depth, thr, label,
+        verdict, depth_limited_by=lim.limited_by, snow_limited_depth_m=lim.snow_depth_m,
+        window_depth_m=lim.window_depth_m, window_needed_s=lim.window_needed_s,
+        lane_spacing_m=lanes, warnings=warnings)

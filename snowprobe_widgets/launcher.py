@@ -1,7 +1,9 @@
 """The ``snowprobe`` command: list the packaged dashboards and serve them through Voila.
 
 ``snowprobe list`` names the dashboards, ``snowprobe serve [NAME]`` serves one (or all of
-them) on this computer, ``snowprobe --version`` prints the version. The dashboards are the
+them) on this computer, ``snowprobe sweep SPEC.json --out RESULT.nc`` runs a batch
+detection-probability sweep (:mod:`snowprobe_widgets.sweep_spec`), ``snowprobe --version``
+prints the version. The dashboards are the
 notebooks of the ``snowprobe_widgets.dashboards`` package (the repository's ``dashboards/``
 folder, shipped inside the wheel), shown through the package's own Voila template so the
 page loads nothing from beyond the server.
@@ -469,6 +471,20 @@ def build_parser() -> argparse.ArgumentParser:
     serve_parser.add_argument(
         "--verbose", action="store_true", help="show the server's own log lines"
     )
+    sweep_parser = commands.add_parser(
+        "sweep", help="run a Monte Carlo detection-probability sweep from a spec file"
+    )
+    sweep_parser.add_argument("spec", metavar="SPEC.json",
+                              help="sweep spec (see snowprobe_widgets.sweep_spec)")
+    sweep_parser.add_argument("--out", required=True, metavar="RESULT.nc",
+                              help="netCDF file to write; an unfinished one of the same "
+                              "spec is completed")
+    sweep_parser.add_argument("--scheduler", metavar="ADDRESS",
+                              help="run on this dask.distributed scheduler "
+                              "(tcp://host:8786) instead of the local cores")
+    sweep_parser.add_argument("--workers", type=_bounded_int(1, 1024, "--workers"),
+                              help="local worker processes (default: one per core)")
+    sweep_parser.add_argument("--quiet", action="store_true", help="no progress bar")
     return parser
 
 
@@ -508,6 +524,14 @@ def main(argv: Sequence[str] | None = None) -> int:
             return 0
         if args.command == "serve":
             return serve(_serve_options(args))
+        if args.command == "sweep":
+            from snowprobe_widgets.sweep_spec import run_command
+
+            try:
+                return run_command(args.spec, args.out, scheduler=args.scheduler,
+                                   workers=args.workers, progress=not args.quiet)
+            except ValueError as exc:
+                raise LauncherError(str(exc)) from None
     except LauncherError as exc:
         print(f"snowprobe: {exc}", file=sys.stderr)
         return EXIT_USAGE

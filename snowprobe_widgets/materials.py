@@ -28,12 +28,16 @@ __all__ = [
     "Material", "MODELS", "air", "dry_snow", "wet_snow", "snow", "ice", "water", "tissue",
     "clothing", "soil", "rock", "metal", "dry_snow_models", "wet_snow_models", "TISSUES",
     "velocity_m_ns", "attenuation_db_m", "wavelength_m", "loss_tangent", "refractive_index",
-    "DEFAULT_DRY_SNOW_MODEL", "DEFAULT_WET_SNOW_MODEL",
+    "DEFAULT_DRY_SNOW_MODEL", "DEFAULT_WET_SNOW_MODEL", "TEMPERATURE_RANGE_C",
 ]
 
 #: Range of frequencies every constructor accepts, Hz (the synthesiser evaluates whole bands).
 FREQ_MIN_HZ = 1e6
 FREQ_MAX_HZ = 20e9
+#: Temperatures the ice and dry-snow models accept, degC. Matzler's (2006) ice loss holds
+#: from 20 to 273 K; the real part (Matzler & Wegmuller 1987, fitted -40...0 degC) changes
+#: by 9.1e-4 per degC, so carrying it to -50 degC moves eps' by under 0.01.
+TEMPERATURE_RANGE_C = (-50.0, 0.0)
 
 
 @dataclass(frozen=True)
@@ -54,6 +58,13 @@ class Material:
         Frequencies outside this range are refused.
     perfect_conductor : bool
         True for metal: layered calculations treat it as a perfect electric conductor.
+    valid_hz : tuple of float
+        (lowest, highest) frequency of the model's published calibration, Hz. Between it
+        and the refusal range the model still computes, and :meth:`validity_note` says so
+        in plain words (a scenario shows these notes as warnings).
+    model_name : str
+        Short name of the model and its source for those notes ("wet-snow model of
+        Tiuri et al. 1984"); empty: ``name``.
     """
 
     name: str
@@ -63,6 +74,22 @@ class Material:
     freq_min_hz: float = FREQ_MIN_HZ
     freq_max_hz: float = FREQ_MAX_HZ
     perfect_conductor: bool = False
+    valid_hz: tuple[float, float] = (FREQ_MIN_HZ, FREQ_MAX_HZ)
+    model_name: str = ""
+
+    def validity_note(self, freq_hz: float) -> str:
+        """A plain-language warning when ``freq_hz`` lies outside :attr:`valid_hz`, else "".
+
+        Parameters
+        ----------
+        freq_hz : float
+            The frequency the model is used at (a radar's centre frequency), Hz.
+        """
+        lo, hi = self.valid_hz
+        if lo <= freq_hz <= hi:
+            return ""
+        return (f"The {self.model_name or self.name} is calibrated for {_mhz(lo)}-{_mhz(hi)}; "
+                f"at {_mhz(freq_hz)} it is extrapolated.")
 
     def permittivity(self, freq_hz: object) -> np.ndarray:
         """Complex relative permittivity eps' - j eps'' at ``freq_hz`` (Hz, > 0).
@@ -103,6 +130,10 @@ class Material:
         """eps'' / eps'."""
         e = self.permittivity(freq_hz)
         return -e.imag / e.real
+
+
+def _mhz(freq_hz: float) -> str:
+    return f"{freq_hz / 1e9:g} GHz" if freq_hz >= 1e9 else f"{freq_hz / 1e6:g} MHz"
 
 
 def refractive_index(material: Material, freq_hz: object) -> np.ndarray:
@@ -199,10 +230,17 @@ def _check_density(density_kg_m3: float) -> float:
                        low_open=True)
 
 
-def _dry(name: str, source: str, eps_real: float, density: float, temperature_c: float) -> Material:
+#: Dry snow's eps' does not depend on frequency from about 1 MHz to at least 10 GHz
+#: (Matzler 1996, abstract); its loss follows ice, Matzler (2006), from 10 MHz up.
+_DRY_SNOW_VALID_HZ = (10e6, 10e9)
+
+
+def _dry(name: str, source: str, eps_real: float, density: float, temperature_c: float,
+         valid_hz: tuple[float, float] = _DRY_SNOW_VALID_HZ) -> Material:
     v_ice = density / RHO_ICE_KG_M3
     return Material(f"dry snow {density:g} kg/m3 ({name})", source, _dry_snow,
-                    (float(eps_real), v_ice, float(temperature_c)))
+                    (float(eps_real), v_ice, float(temperature_c)), valid_hz=valid_hz,
+                    model_name=f"dry-snow model {name!r} ({source.split(';')[0]})")
 
 
 @MODELS.register("dry_snow:looyenga")
@@ -227,7 +265,7 @@ def _tiuri_dry(density_kg_m3: float, temperature_c: float = -5.0) -> Material:
     """Tiuri et al. (1984, IEEE JOE 9(5)): eps = 1 + 1.7 rho + 0.7 rho^2, rho in g/cm3."""
     r = density_kg_m3 / 1000.0
     return _dry("tiuri", "Tiuri et al. 1984; nominal 0.5-12 GHz; loss Ulaby & Long 2014",
-                1.0 + 1.7 * r + 0.7 * r**2, density_kg_m3, temperature_c)
+                1.0 + 1.7 * r + 0.7 * r**2, density_kg_m3, temperature_c, (0.5e9, 12e9))
 
 
 @MODELS.register("dry_snow:matzler")
@@ -267,7 +305,8 @@ def _tiuri_wet(density_kg_m3: float, lwc_percent: float, temperature_c: float = 
     return Material(f"wet snow {density_kg_m3:g} kg/m3, {lwc_percent:g} % water (tiuri)",
                     "Tiuri et al. 1984 (water-scaled form), water Meissner & Wentz 2004; "
                     "nominal 0.5-1 GHz, W <= 6 %", _tiuri_wet_kernel,
-                    (density_kg_m3 / 1000.0, w, density_kg_m3 / RHO_ICE_KG_M3, 0.0))
+                    (density_kg_m3 / 1000.0, w, density_kg_m3 / RHO_ICE_KG_M3, 0.0),
+                    valid_hz=(0.5e9, 1e9), model_name="wet-snow model 'tiuri' (Tiuri et al. 1984)")
 
 
 def _crim_kernel(f: np.ndarray, v_ice: float, w: float, t_c: float) -> np.ndarray:
@@ -283,7 +322,8 @@ def _crim_wet(density_kg_m3: float, lwc_percent: float, temperature_c: float = 0
     return Material(f"wet snow {density_kg_m3:g} kg/m3, {lwc_percent:g} % water (crim)",
                     "CRIM (Birchak et al. 1974; used for snow by Bradford et al. 2009), ice "
                     "Matzler 2006, water Meissner & Wentz 2004", _crim_kernel,
-                    (density_kg_m3 / RHO_ICE_KG_M3, lwc_percent / 100.0, 0.0))
+                    (density_kg_m3 / RHO_ICE_KG_M3, lwc_percent / 100.0, 0.0),
+                    valid_hz=(10e6, FREQ_MAX_HZ), model_name="wet-snow model 'crim'")
 
 
 def dry_snow_models() -> tuple[str, ...]:
@@ -313,10 +353,11 @@ def dry_snow(density_kg_m3: float, *, model: str | None = None,
     model : str, optional
         One of :func:`dry_snow_models` (default :data:`DEFAULT_DRY_SNOW_MODEL`).
     temperature_c : float
-        Snow temperature in [-40, 0] degC (enters the ice loss only).
+        Snow temperature in [-50, 0] degC (:data:`TEMPERATURE_RANGE_C`; enters the ice
+        loss only).
     """
     d = _check_density(density_kg_m3)
-    t = check_range("temperature_c", temperature_c, -40.0, 0.0, unit="degC")
+    t = check_range("temperature_c", temperature_c, *TEMPERATURE_RANGE_C, unit="degC")
     return MODELS.get(f"dry_snow:{model or DEFAULT_DRY_SNOW_MODEL}")(d, t)
 
 
@@ -338,19 +379,62 @@ def wet_snow(density_kg_m3: float, lwc_percent: float, *, model: str | None = No
     return MODELS.get(f"wet_snow:{model or DEFAULT_WET_SNOW_MODEL}")(d, w)
 
 
+def _joined(f: np.ndarray, dry: Material, wet: Material, wet_at_zero: Material) -> np.ndarray:
+    return (dry.kernel(f, *dry.params) + wet.kernel(f, *wet.params)
+            - wet_at_zero.kernel(f, *wet_at_zero.params))
+
+
+def _joined_name(dry: Material, wet: Material) -> str:
+    wet_name, dry_name = wet.model_name or wet.name, dry.model_name or dry.name
+    inside = dry.valid_hz[0] <= wet.valid_hz[0] and wet.valid_hz[1] <= dry.valid_hz[1]
+    return wet_name if inside else f"{wet_name} with the {dry_name}"
+
+
 def snow(density_kg_m3: float, lwc_percent: float = 0.0, *, dry_model: str | None = None,
          wet_model: str | None = None, temperature_c: float = -5.0) -> Material:
-    """Dry snow when ``lwc_percent == 0``, else wet snow (:func:`dry_snow`, :func:`wet_snow`)."""
+    """The material of a snow layer: the one place that makes it (scenes call this).
+
+    Dry snow (:func:`dry_snow`) when ``lwc_percent == 0``. With water, the dry model plus
+    the wet model's water increment, ``eps_dry(rho, T) + eps_wet(rho, W) - eps_wet(rho, 0)``,
+    so that the wet model's dry limit is the dry model and a trace of water draws no
+    spurious reflection. For Tiuri et al. (1984) this is their own form (dry snow plus a
+    water term, REFERENCES 3a'); for other wet models it is a join of ours. The dry part
+    keeps ``temperature_c`` (a layer holding water is at 0 degC in nature; the dry part's
+    ice loss is negligible beside the water's, and keeping it makes the join continuous).
+
+    Parameters
+    ----------
+    density_kg_m3 : float
+        Dry density, kg/m3, in (0, 917].
+    lwc_percent : float
+        Liquid water, % by volume, in [0, 12].
+    dry_model, wet_model : str, optional
+        Model names (:func:`dry_snow_models`, :func:`wet_snow_models`).
+    temperature_c : float
+        Snow temperature, degC, in [-50, 0] (ice loss).
+    """
+    dry = dry_snow(density_kg_m3, model=dry_model, temperature_c=temperature_c)
     if lwc_percent == 0:
-        return dry_snow(density_kg_m3, model=dry_model, temperature_c=temperature_c)
-    return wet_snow(density_kg_m3, lwc_percent, model=wet_model)
+        return dry
+    wet = wet_snow(density_kg_m3, lwc_percent, model=wet_model)
+    wet_at_zero = wet_snow(density_kg_m3, 0.0, model=wet_model)
+    dry_key = dry_model or DEFAULT_DRY_SNOW_MODEL
+    wet_key = wet_model or DEFAULT_WET_SNOW_MODEL
+    return Material(
+        f"wet snow {density_kg_m3:g} kg/m3, {lwc_percent:g} % water ({dry_key} + {wet_key})",
+        f"{dry.source}; water term of {wet.source}", _joined, (dry, wet, wet_at_zero),
+        freq_min_hz=max(dry.freq_min_hz, wet.freq_min_hz),
+        freq_max_hz=min(dry.freq_max_hz, wet.freq_max_hz),
+        valid_hz=(max(dry.valid_hz[0], wet.valid_hz[0]), min(dry.valid_hz[1], wet.valid_hz[1])),
+        model_name=_joined_name(dry, wet))
 
 
 def ice(temperature_c: float = -5.0) -> Material:
     """Pure ice: eps' from Mätzler & Wegmüller (1987), eps'' from Mätzler (2006)."""
-    t = check_range("temperature_c", temperature_c, -40.0, 0.0, unit="degC")
+    t = check_range("temperature_c", temperature_c, *TEMPERATURE_RANGE_C, unit="degC")
     return Material(f"ice {t:g} degC", "Matzler & Wegmuller 1987 eq. 10; Matzler 2006 loss; "
-                    "nominal 10 MHz-3 THz", _ice, (t,))
+                    "nominal 10 MHz-3 THz", _ice, (t,), valid_hz=(10e6, FREQ_MAX_HZ),
+                    model_name="ice model (Matzler 2006)")
 
 
 def water(temperature_c: float = 0.0) -> Material:
@@ -420,7 +504,8 @@ def soil(volumetric_water_fraction: float) -> Material:
     k = 3.03 + 9.3 * t + 146.0 * t**2 - 76.7 * t**3
     sigma = 0.001 + 0.05 * t  # common practice order of magnitude, not from Topp
     return Material(f"soil {t:g} m3/m3 water", "Topp, Davis & Annan 1980; nominal 20 MHz-1 GHz",
-                    _constant, (k, sigma))
+                    _constant, (k, sigma), valid_hz=(20e6, 1e9),
+                    model_name="soil model (Topp, Davis & Annan 1980)")
 
 
 def rock(permittivity: float, conductivity_s_m: float = 0.0) -> Material:

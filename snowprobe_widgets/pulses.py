@@ -166,7 +166,7 @@ def _band(pulse: Pulse, level: float) -> tuple[float, float]:
 
 
 def _check_fc(center_frequency_hz: float) -> float:
-    return check_range("center_frequency_hz", center_frequency_hz, 10e6, 5e9, unit="Hz")
+    return check_range("center_frequency_hz", center_frequency_hz, 10e6, 6e9, unit="Hz")
 
 
 def _natural(name: str, fc: float) -> float:

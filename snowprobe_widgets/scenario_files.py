@@ -11,8 +11,14 @@ A file holds one JSON object::
                    "survey": {...}, "clutter": {...}, "name": "...", "notes": "..."}
     }
 
-Every field of every value object is written explicitly and must be present on reading;
-``objects`` entries carry a ``"type"`` tag (``"boulder"``, ``"branch"``, ``"metal"``).
+Every field of every value object is written explicitly and must be present on reading,
+except fields added after schema version 1 was first written (``radar.polarization``,
+``radar.antenna_band_low_hz`` / ``_high_hz``, ``dynamic_range_db``, ``ringing_level_db``,
+``ringing_time_s``),
+which an older file may lack and then take their default; ``objects`` entries carry a
+``"type"`` tag: the name of a registered buried object kind (``"boulder"``, ``"branch"``,
+``"metal"``, or a plugin's, see :mod:`snowprobe_widgets.targets`), whose fields the
+schema takes from the kind's value object.
 
 Reading never executes anything (plain ``json``, no pickle, no imports by name) and
 refuses, with a :class:`ScenarioFileError` naming the JSON path: unknown or missing
@@ -25,6 +31,7 @@ existing file untouched.
 
 from __future__ import annotations
 
+import dataclasses
 import json
 import math
 import os
@@ -34,18 +41,16 @@ from typing import Any
 
 from .cautions import CAUTION_SHORT
 from .scene import (
-    Boulder,
-    Branch,
     Clutter,
     Ground,
     Layer,
-    MetalPlate,
     Person,
     Radar,
     Scenario,
     Snowpack,
     Survey,
 )
+from .targets import kinds_in
 
 __all__ = [
     "FORMAT",
@@ -81,11 +86,38 @@ _STR = "string"
 
 
 class _Spec:
-    """How one value object is written and read: its class and each field's kind."""
+    """How one value object is written and read: its class and each field's kind.
 
-    def __init__(self, cls: type, kinds: dict[str, Any]) -> None:
+    ``added`` names fields newer than the first files of this schema version: a file
+    may lack them, and then they take the dataclass default.
+    """
+
+    def __init__(self, cls: type, kinds: dict[str, Any], added: tuple[str, ...] = ()) -> None:
         self.cls = cls
         self.kinds = kinds
+        self.added = added
+
+
+#: Schema field kind of each annotation a scene value object may use.
+_FIELD_KINDS = {"float": _NUM, "float | None": _OPT_NUM, "int": _INT, "bool": _BOOL,
+                "str": _STR}
+
+
+def _spec_of(cls: type) -> _Spec:
+    """The spec of a buried object kind's value object, from its dataclass fields."""
+    kinds = {}
+    for f in dataclasses.fields(cls):
+        t = f.type if isinstance(f.type, str) else getattr(f.type, "__name__", repr(f.type))
+        if t not in _FIELD_KINDS:
+            raise TypeError(f"{cls.__name__}.{f.name} has type {t!r}, which a scenario file "
+                            f"cannot hold; allowed: {', '.join(_FIELD_KINDS)}")
+        kinds[f.name] = _FIELD_KINDS[t]
+    return _Spec(cls, kinds)
+
+
+def _object_specs() -> dict[str, _Spec]:
+    """Specs of the kinds a scenario's ``objects`` may hold, keyed by kind name."""
+    return {k.name: _spec_of(k.value_type) for k in kinds_in("objects")}
 
 
 class _ListOf:
@@ -95,9 +127,14 @@ class _ListOf:
 
 
 class _TaggedListOf:
-    def __init__(self, specs: dict[str, _Spec], max_items: int) -> None:
-        self.specs = specs
+    def __init__(self, specs: Any, max_items: int) -> None:
+        self._specs = specs
         self.max_items = max_items
+
+    @property
+    def specs(self) -> dict[str, _Spec]:
+        """The tagged specs (read from the kind registry each time: plugins may add)."""
+        return self._specs()
 
 
 _LAYER = _Spec(Layer, {"thickness_m": _NUM, "density_kg_m3": _NUM, "lwc_percent": _NUM,
@@ -109,32 +146,27 @@ _PERSON = _Spec(Person, {
     "position_m": _NUM, "depth_m": _NUM, "offset_m": _NUM, "heading_deg": _NUM,
     "posture": _STR, "height_m": _NUM, "clothing_m": _NUM, "skin_m": _NUM, "fat_m": _NUM,
     "muscle_m": _NUM, "label": _STR})
-_BOULDER = _Spec(Boulder, {"position_m": _NUM, "depth_m": _NUM, "diameter_m": _NUM,
-                           "offset_m": _NUM, "permittivity": _NUM, "conductivity_s_m": _NUM})
-_BRANCH = _Spec(Branch, {"position_m": _NUM, "depth_m": _NUM, "diameter_m": _NUM,
-                         "length_m": _NUM, "offset_m": _NUM, "heading_deg": _NUM,
-                         "water_fraction": _NUM, "frozen": _BOOL})
-_METAL = _Spec(MetalPlate, {"position_m": _NUM, "depth_m": _NUM, "length_m": _NUM,
-                            "width_m": _NUM, "offset_m": _NUM, "heading_deg": _NUM,
-                            "tilt_deg": _NUM, "label": _STR})
 _RADAR = _Spec(Radar, {
     "pulse": _STR, "center_frequency_hz": _NUM, "bandwidth_hz": _OPT_NUM,
     "transmit_power_dbm": _NUM, "noise_floor_dbm": _NUM, "stacking": _INT,
     "antenna_gain_dbi": _NUM, "dt_s": _NUM, "time_window_s": _NUM, "antenna_height_m": _NUM,
-    "beamwidth_deg": _NUM})
+    "beamwidth_deg": _NUM, "polarization": _STR, "antenna_band_low_hz": _OPT_NUM,
+    "antenna_band_high_hz": _OPT_NUM, "dynamic_range_db": _NUM, "ringing_level_db": _NUM,
+    "ringing_time_s": _OPT_NUM},
+    added=("polarization", "antenna_band_low_hz", "antenna_band_high_hz", "dynamic_range_db",
+           "ringing_level_db", "ringing_time_s"))
 _SURVEY = _Spec(Survey, {"start_m": _NUM, "end_m": _NUM, "trace_spacing_m": _NUM})
 _CLUTTER = _Spec(Clutter, {"scatterer_density_per_m3": _NUM, "scatterer_size_m": _NUM,
                            "thin_layer_count": _INT, "thin_layer_contrast": _NUM,
                            "seed": _INT})
-_OBJECT_SPECS = {s.cls.kind: s for s in (_BOULDER, _BRANCH, _METAL)}
 _SCENARIO = _Spec(Scenario, {
     "snowpack": _SNOWPACK, "ground": _GROUND, "persons": _ListOf(_PERSON, 50),
-    "objects": _TaggedListOf(_OBJECT_SPECS, 1000), "radar": _RADAR, "survey": _SURVEY,
+    "objects": _TaggedListOf(_object_specs, 1000), "radar": _RADAR, "survey": _SURVEY,
     "clutter": _CLUTTER, "name": _STR, "notes": _STR})
 
 #: Every spec, for the test that keeps the schema in step with the dataclasses.
-_SPECS: tuple[_Spec, ...] = (_LAYER, _SNOWPACK, _GROUND, _PERSON, _BOULDER, _BRANCH, _METAL,
-                            _RADAR, _SURVEY, _CLUTTER, _SCENARIO)
+_SPECS: tuple[_Spec, ...] = (_LAYER, _SNOWPACK, _GROUND, _PERSON, _RADAR, _SURVEY, _CLUTTER,
+                            _SCENARIO)
 _TOP_KEYS = ("format", "schema_version", "caution", "scenario")
 
 
@@ -311,22 +343,23 @@ def _read_value(value: Any, kind: Any, path: str) -> Any:
     return value
 
 
-def _check_keys(data: dict[str, Any], known: tuple[str, ...], path: str) -> None:
+def _check_keys(data: dict[str, Any], known: tuple[str, ...], path: str,
+                optional: tuple[str, ...] = ()) -> None:
     for key in data:
         if key not in known:
             raise ScenarioFileError(
                 f"{path}.{key}: unknown field; known: {', '.join(known)}")
     for key in known:
-        if key not in data:
+        if key not in data and key not in optional:
             raise ScenarioFileError(f"{path}: missing field {key!r}")
 
 
 def _read(data: Any, spec: _Spec, path: str) -> Any:
     if not isinstance(data, dict):
         raise ScenarioFileError(f"{path}: expected an object, got {_show(data)}")
-    _check_keys(data, tuple(spec.kinds), path)
+    _check_keys(data, tuple(spec.kinds), path, spec.added)
     kwargs = {name: _read_value(data[name], kind, f"{path}.{name}")
-              for name, kind in spec.kinds.items()}
+              for name, kind in spec.kinds.items() if name in data}
     try:
         return spec.cls(**kwargs)
     except ValueError as exc:

@@ -31,6 +31,7 @@ from .scene_objects import (
     Person,
     Snowpack,
 )
+from .targets import POLARIZATIONS, kinds_in
 
 __all__ = [
     "Layer",
@@ -60,6 +61,10 @@ _CLUTTER_HALF_WIDTH_M = 1.0
 #: Thickness range of the clutter's thin random layers, m (invented demo figures).
 _THIN_LAYER_M = (0.01, 0.05)
 _DEPTH_TOL_M = 1e-9
+#: Highest centre frequency a radar may have, Hz.
+MAX_CENTER_FREQUENCY_HZ = 6e9
+#: Amplitude level of the half-power points, 1/sqrt(2) of the peak.
+HALF_POWER = 2.0 ** -0.5
 
 
 def _set(obj: object, name: str, value: Any) -> None:
@@ -107,7 +112,10 @@ class Radar:
     pulse : str
         Pulse-shape key of :func:`snowprobe_widgets.pulses.pulse_names` ("ricker", ...).
     center_frequency_hz : float
-        Centre frequency, Hz, in [50 MHz, 3 GHz].
+        Centre frequency, Hz, in [50 MHz, 6 GHz] (to 6 GHz the materials hold; published
+        drone-borne ultra-wideband radars for avalanche victims work at 0.7-4.5 GHz).
+        Where a model of the scene is not calibrated at it, the scenario says so
+        (:func:`snowprobe_widgets.validity.scenario_warnings`).
     bandwidth_hz : float or None
         Bandwidth, Hz, for pulses that take one; ``None`` uses the pulse's natural band.
     transmit_power_dbm : float
@@ -129,6 +137,29 @@ class Radar:
         (height 0) is outside it and refused.
     beamwidth_deg : float
         Full -3 dB beamwidth in air, deg, in [5, 180].
+    polarization : {"across_line", "along_line"}
+        Direction of the antenna's electric field over the snow, relative to the survey
+        line. Default "across_line": the antennas' long axes across the line, the usual
+        broadside arrangement of a survey (common practice). Matters for objects whose
+        echo depends on it (a thin branch along or across the field).
+    antenna_band_low_hz, antenna_band_high_hz : float or None
+        Band the antenna radiates and receives with its stated gain, Hz, in (0, 20 GHz],
+        low < high. ``None`` takes the edge of the pulse's half-power band (amplitude
+        spectrum above 1/sqrt(2) of its peak; an antenna's band is quoted at its
+        half-power points, common practice): 0.62-1.44 f_c for a Ricker pulse
+        (REFERENCES 8.1). The link budget counts only echo energy inside it.
+    dynamic_range_db : float
+        Instantaneous dynamic range of the receiver, dB, in [20, 200]: the gain is set so
+        the surface echo does not clip, and nothing more than this below it is recorded.
+        Default 96 dB, a 16-bit digitiser (6.02 dB per bit; common practice).
+    ringing_level_db : float
+        Residual antenna ringing and direct coupling (after background removal), as a
+        received amplitude relative to the transmitted power, dB, in [-200, 0]; it masks
+        echoes arriving within ``ringing_time_s`` of transmission. Default -60 dB, an
+        assumed figure (no published value at hand): set it from the antenna's data.
+    ringing_time_s : float or None
+        How long the ringing lasts after transmission, s, in [0, 1 us]; ``None``: three
+        periods of the centre frequency (an assumed figure, as above).
     """
 
     pulse: str = "ricker"
@@ -142,6 +173,12 @@ class Radar:
     time_window_s: float = 51.2e-9
     antenna_height_m: float = 0.5
     beamwidth_deg: float = 60.0
+    polarization: str = "across_line"
+    antenna_band_low_hz: float | None = None
+    antenna_band_high_hz: float | None = None
+    dynamic_range_db: float = 96.0
+    ringing_level_db: float = -60.0
+    ringing_time_s: float | None = None
 
     def __post_init__(self) -> None:
         from . import pulses
@@ -150,7 +187,8 @@ class Radar:
             raise ValueError(f"pulse must be a pulse name (a string), got {self.pulse!r}")
         check_choice("pulse", self.pulse, tuple(pulses.pulse_names()))
         _set(self, "center_frequency_hz", check_range(
-            "center_frequency_hz", self.center_frequency_hz, 50e6, 3e9, unit="Hz"))
+            "center_frequency_hz", self.center_frequency_hz, 50e6, MAX_CENTER_FREQUENCY_HZ,
+            unit="Hz"))
         if self.bandwidth_hz is not None:
             _set(self, "bandwidth_hz", check_range(
                 "bandwidth_hz", self.bandwidth_hz, 0.0, 6e9, unit="Hz", low_open=True))
@@ -175,6 +213,23 @@ class Radar:
             "antenna_height_m", self.antenna_height_m, 0.05, 30.0, unit="m"))
         _set(self, "beamwidth_deg",
              check_range("beamwidth_deg", self.beamwidth_deg, 5.0, 180.0, unit="deg"))
+        check_choice("polarization", self.polarization, POLARIZATIONS)
+        for name in ("antenna_band_low_hz", "antenna_band_high_hz"):
+            if getattr(self, name) is not None:
+                _set(self, name, check_range(name, getattr(self, name), 0.0, 20e9, unit="Hz",
+                                             low_open=True))
+        lo_band, hi_band = self.antenna_band_hz
+        if lo_band >= hi_band:
+            raise ValueError(
+                f"antenna band {lo_band:g}-{hi_band:g} Hz is empty: antenna_band_low_hz must "
+                "lie below antenna_band_high_hz")
+        _set(self, "dynamic_range_db", check_range(
+            "dynamic_range_db", self.dynamic_range_db, 20.0, 200.0, unit="dB"))
+        _set(self, "ringing_level_db", check_range(
+            "ringing_level_db", self.ringing_level_db, -200.0, 0.0, unit="dB"))
+        if self.ringing_time_s is not None:
+            _set(self, "ringing_time_s", check_range(
+                "ringing_time_s", self.ringing_time_s, 0.0, 1e-6, unit="s"))
         f_high = _band_high_hz(self.make_pulse())
         if self.dt_s > 1.0 / (2.0 * f_high) * (1 + 1e-9):
             raise ValueError(
@@ -199,6 +254,25 @@ class Radar:
         lowers uncorrelated noise power N-fold; common practice)."""
         return float(self.transmit_power_dbm - self.noise_floor_dbm
                      + 10.0 * math.log10(self.stacking))
+
+    @property
+    def antenna_band_hz(self) -> tuple[float, float]:
+        """(low, high) edges of the antenna's band, Hz: the fields, or the pulse's
+        half-power band where they are ``None``."""
+        lo, hi = self.antenna_band_low_hz, self.antenna_band_high_hz
+        if lo is None or hi is None:
+            p_lo, p_hi = self.make_pulse().band_hz(HALF_POWER)
+            lo = p_lo if lo is None else lo
+            hi = p_hi if hi is None else hi
+        return float(lo), float(hi)
+
+    @property
+    def ringing_duration_s(self) -> float:
+        """How long the antenna rings after transmission, s (``ringing_time_s`` or three
+        periods of the centre frequency)."""
+        if self.ringing_time_s is not None:
+            return float(self.ringing_time_s)
+        return 3.0 / self.center_frequency_hz
 
     def make_pulse(self) -> Any:
         """The transmitted pulse (``pulses.make_pulse(pulse, center_frequency_hz,
@@ -415,8 +489,9 @@ class Scenario:
     ground : Ground
     persons : sequence of Person
         Buried people (empty when nobody is buried); at most 50.
-    objects : sequence of Boulder, Branch or MetalPlate
-        Debris and equipment; at most 1000.
+    objects : sequence of Boulder, Branch, MetalPlate (or a plugin kind's object)
+        Debris and equipment; at most 1000. Every object's ``kind`` must be registered in
+        :data:`snowprobe_widgets.targets.TARGETS`.
     radar : Radar
     survey : Survey
     clutter : Clutter
@@ -449,9 +524,10 @@ class Scenario:
             value = getattr(self, fname)
             if not isinstance(value, cls):
                 raise ValueError(f"{fname} must be a {cls.__name__}, got {type(value).__name__}")
-        persons = self._tuple_of("persons", self.persons, (Person,), _MAX_PERSONS)
-        objects = self._tuple_of("objects", self.objects, (Boulder, Branch, MetalPlate),
-                                 _MAX_OBJECTS)
+        persons = self._tuple_of("persons", self.persons,
+                                 tuple(k.value_type for k in kinds_in("persons")), _MAX_PERSONS)
+        objects = self._tuple_of("objects", self.objects,
+                                 tuple(k.value_type for k in kinds_in("objects")), _MAX_OBJECTS)
         _set(self, "persons", persons)
         _set(self, "objects", objects)
         _set(self, "name", _check_text("name", self.name, 200))

@@ -20,12 +20,17 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Any, ClassVar
+from typing import Any
 
 import numpy as np
 
 from ._validate import check_choice, check_range
 from .constants import RHO_ICE_KG_M3
+from .targets.base import check_bool, set_field
+from .targets.boulder import Boulder
+from .targets.branch import DRY_WOOD_PERMITTIVITY, Branch
+from .targets.metal_plate import MetalPlate
+from .targets.person import POSTURES, Person
 
 __all__ = [
     "Layer",
@@ -57,52 +62,7 @@ _MAX_SNOW_DEPTH_M = 100.0
 _SLIVER_M = 1e-9
 
 GROUND_KINDS: tuple[str, ...] = ("soil", "rock")
-POSTURES: tuple[str, ...] = ("lying_flat", "curled")
 
-#: Relative permittivity of oven-dry wood used for branches (from memory: dry wood has
-#: eps' of about 1.5-3 at radar frequencies depending on density and grain direction,
-#: Torgovnikov 1993, "Dielectric Properties of Wood and Wood-Based Materials").
-DRY_WOOD_PERMITTIVITY = 2.0
-#: Real permittivity of liquid water used in the wood mixture (from memory: about 80-88
-#: near 0 degC below 1 GHz; the Debye relaxation lies near 9 GHz).
-_WATER_PERMITTIVITY = 80.0
-#: Real permittivity of ice (Matzler 2006, about 3.15 at radar frequencies; REFERENCES 2).
-_ICE_PERMITTIVITY = 3.15
-
-#: Invented demo geometry of a buried adult (vertical thickness, horizontal width), m:
-#: about a lying adult's chest depth and a curled-up adult's height off the ground
-#: (common-sense figures, not measured).
-_BODY_SHAPE_M = {"lying_flat": (0.25, 0.45), "curled": (0.5, 0.5)}
-#: A curled person's along-axis length as a fraction of standing height (invented).
-_CURLED_LENGTH_FRACTION = 0.5
-
-
-def _set(obj: object, name: str, value: Any) -> None:
-    object.__setattr__(obj, name, value)
-
-
-def _check_label(name: str, value: object, max_len: int = 100) -> str:
-    if not isinstance(value, str):
-        raise ValueError(f"{name} must be a string, got {value!r}")
-    if len(value) > max_len:
-        raise ValueError(f"{name} is {len(value)} characters long; at most {max_len} allowed")
-    return value
-
-
-def _check_bool(name: str, value: object) -> bool:
-    if not isinstance(value, (bool, np.bool_)):
-        raise ValueError(f"{name} must be True or False, got {value!r}")
-    return bool(value)
-
-
-def _check_geometry(obj: Any) -> None:
-    """Position, offset, depth and heading: the fields every buried thing shares."""
-    _set(obj, "position_m", check_range("position_m", obj.position_m, -1e4, 1e4, unit="m"))
-    _set(obj, "offset_m", check_range("offset_m", obj.offset_m, -100.0, 100.0, unit="m"))
-    _set(obj, "depth_m", check_range("depth_m", obj.depth_m, 0.0, _MAX_SNOW_DEPTH_M, unit="m"))
-    if hasattr(obj, "heading_deg"):
-        _set(obj, "heading_deg",
-             check_range("heading_deg", obj.heading_deg, -360.0, 360.0, unit="deg"))
 
 
 # --------------------------------------------------------------------------- snow
@@ -134,13 +94,13 @@ class Layer:
     ice_crust: bool = False
 
     def __post_init__(self) -> None:
-        _set(self, "thickness_m", check_range(
+        set_field(self, "thickness_m", check_range(
             "thickness_m", self.thickness_m, 0.0, _MAX_SNOW_DEPTH_M, unit="m", low_open=True))
-        _set(self, "density_kg_m3", check_range(
+        set_field(self, "density_kg_m3", check_range(
             "density_kg_m3", self.density_kg_m3, _MIN_DENSITY, _MAX_DENSITY, unit="kg/m3"))
-        _set(self, "lwc_percent", check_range(
+        set_field(self, "lwc_percent", check_range(
             "lwc_percent", self.lwc_percent, 0.0, _MAX_LWC_PERCENT, unit="%"))
-        _set(self, "ice_crust", _check_bool("ice_crust", self.ice_crust))
+        set_field(self, "ice_crust", check_bool("ice_crust", self.ice_crust))
         ice = self.density_kg_m3 / RHO_ICE_KG_M3
         if ice + self.lwc_percent / 100.0 > 1.0 + 1e-12:
             raise ValueError(
@@ -161,11 +121,13 @@ class Layer:
                     f"allowed range (0, {_MAX_CRUST_THICKNESS_M:g}] m when ice_crust is True"
                 )
 
-    def material(self) -> Any:
-        """The layer's dielectric model, from :func:`snowprobe_widgets.materials.snow`."""
+    def material(self, temperature_c: float = -5.0) -> Any:
+        """The layer's dielectric model at ``temperature_c`` (degC; the snowpack's, which
+        :meth:`Snowpack.materials` passes), from :func:`snowprobe_widgets.materials.snow`."""
         from . import materials
 
-        return materials.snow(self.density_kg_m3, self.lwc_percent)
+        return materials.snow(self.density_kg_m3, self.lwc_percent,
+                              temperature_c=temperature_c)
 
 
 @dataclass(frozen=True)
@@ -178,7 +140,8 @@ class Snowpack:
         From the surface down; 1 to 200 layers, total depth at most 100 m. A list is
         stored as a tuple so the snowpack stays hashable.
     temperature_c : float
-        Snow temperature, degC, in [-50, 0] (used for the loss of dry snow and ice).
+        Snow temperature, degC, in [-50, 0]: every layer's material is made at it
+        (:meth:`materials`), so it sets the ice loss of dry snow and crusts.
     """
 
     layers: tuple[Layer, ...]
@@ -194,8 +157,8 @@ class Snowpack:
         for i, layer in enumerate(layers):
             if not isinstance(layer, Layer):
                 raise ValueError(f"layers[{i}] must be a Layer, got {type(layer).__name__}")
-        _set(self, "layers", layers)
-        _set(self, "temperature_c",
+        set_field(self, "layers", layers)
+        set_field(self, "temperature_c",
              check_range("temperature_c", self.temperature_c, -50.0, 0.0, unit="degC"))
         if self.depth_m > _MAX_SNOW_DEPTH_M:
             raise ValueError(
@@ -218,8 +181,9 @@ class Snowpack:
         return np.array([layer.thickness_m for layer in self.layers])
 
     def materials(self) -> tuple[Any, ...]:
-        """Dielectric model of each layer, surface first (via ``materials.snow``)."""
-        return tuple(layer.material() for layer in self.layers)
+        """Dielectric model of each layer at the snowpack's temperature, surface first
+        (via ``materials.snow``, the one place that makes a layer's material)."""
+        return tuple(layer.material(self.temperature_c) for layer in self.layers)
 
     def layer_index(self, depth_m: float) -> int:
         """Index of the layer holding ``depth_m`` (a depth on an interface belongs to the
@@ -304,10 +268,10 @@ class Ground:
 
     def __post_init__(self) -> None:
         check_choice("kind", self.kind, GROUND_KINDS)
-        _set(self, "water_fraction",
+        set_field(self, "water_fraction",
              check_range("water_fraction", self.water_fraction, 0.0, 0.5, unit="m3/m3"))
-        _set(self, "permittivity", check_range("permittivity", self.permittivity, 2.0, 40.0))
-        _set(self, "conductivity_s_m",
+        set_field(self, "permittivity", check_range("permittivity", self.permittivity, 2.0, 40.0))
+        set_field(self, "conductivity_s_m",
              check_range("conductivity_s_m", self.conductivity_s_m, 0.0, 1.0, unit="S/m"))
 
     def material(self) -> Any:
@@ -319,302 +283,10 @@ class Ground:
         return materials.rock(self.permittivity, self.conductivity_s_m)
 
 
-# --------------------------------------------------------------------------- people
+# --------------------------------------------------------------------------- buried things
+# Each kind lives in its own module of snowprobe_widgets.targets (with its physics); they
+# are re-exported here so that ``from snowprobe_widgets.scene import Person`` keeps working.
 
-
-@dataclass(frozen=True)
-class Person:
-    """A buried person, with a layered tissue stack for the body's reflection.
-
-    Parameters
-    ----------
-    position_m : float
-        Along-line position of the body's centre, m.
-    depth_m : float
-        Snow surface to the top of the body, m, >= 0.
-    offset_m : float
-        Across-line distance of the body's centre from the survey line, m.
-    heading_deg : float
-        Angle of the body's long axis (head to feet) to the survey line, deg, [-360, 360].
-    posture : {"lying_flat", "curled"}
-        Lying flat (about 0.25 m thick) or curled up (about 0.5 m); invented common-sense
-        demo geometry, see :attr:`body_thickness_m`.
-    height_m : float
-        Standing height, m, in [0.5, 2.3].
-    clothing_m, skin_m, fat_m, muscle_m : float
-        Thicknesses of the tissue stack on the body's upper side, m. Defaults are invented
-        adult figures: 1 cm of clothing, 1.5 mm skin, 1 cm fat, 3 cm muscle. Ranges:
-        clothing [0, 0.1], skin [0.0005, 0.005], fat [0.001, 0.1], muscle [0.005, 0.1];
-        together they must fit in half the body thickness.
-    label : str
-        Free text for display (at most 100 characters).
-    """
-
-    kind: ClassVar[str] = "person"
-
-    position_m: float
-    depth_m: float
-    offset_m: float = 0.0
-    heading_deg: float = 0.0
-    posture: str = "lying_flat"
-    height_m: float = 1.75
-    clothing_m: float = 0.01
-    skin_m: float = 0.0015
-    fat_m: float = 0.01
-    muscle_m: float = 0.03
-    label: str = ""
-
-    def __post_init__(self) -> None:
-        _check_geometry(self)
-        check_choice("posture", self.posture, POSTURES)
-        _set(self, "height_m", check_range("height_m", self.height_m, 0.5, 2.3, unit="m"))
-        for name, lo, hi in (("clothing_m", 0.0, 0.1), ("skin_m", 0.0005, 0.005),
-                             ("fat_m", 0.001, 0.1), ("muscle_m", 0.005, 0.1)):
-            _set(self, name, check_range(name, getattr(self, name), lo, hi, unit="m"))
-        _set(self, "label", _check_label("label", self.label))
-        shell = self.clothing_m + self.skin_m + self.fat_m + self.muscle_m
-        if shell > 0.5 * self.body_thickness_m:
-            raise ValueError(
-                f"clothing_m + skin_m + fat_m + muscle_m = {shell:g} m does not fit in half "
-                f"the {self.body_thickness_m:g} m body thickness of posture {self.posture!r}")
-
-    @property
-    def body_thickness_m(self) -> float:
-        """Vertical extent of the body for its posture, m (invented demo geometry)."""
-        return _BODY_SHAPE_M[self.posture][0]
-
-    @property
-    def body_width_m(self) -> float:
-        """Horizontal extent across the body's long axis, m (invented demo geometry)."""
-        return _BODY_SHAPE_M[self.posture][1]
-
-    @property
-    def body_length_m(self) -> float:
-        """Horizontal extent along the body's long axis, m: the height when lying flat,
-        half of it when curled (invented demo geometry)."""
-        if self.posture == "curled":
-            return _CURLED_LENGTH_FRACTION * self.height_m
-        return self.height_m
-
-    @property
-    def bottom_depth_m(self) -> float:
-        """Depth of the body's lowest point, m."""
-        return self.depth_m + self.body_thickness_m
-
-    @property
-    def half_extent_m(self) -> float:
-        """Radius of the smallest vertical cylinder about the centre holding the body, m."""
-        return 0.5 * math.hypot(self.body_length_m, self.body_width_m)
-
-    def tissue_stack(self) -> tuple[tuple[Any, ...], tuple[float, ...]]:
-        """Materials and thicknesses for the body's layered reflection, outside in.
-
-        Returns
-        -------
-        materials : tuple of Material, length 4
-            Clothing, skin, fat, muscle; the last is the exit half-space.
-        thicknesses_m : tuple of float, length 3
-            Clothing, skin and fat thicknesses, m. Muscle is treated as a half-space
-            because it absorbs most of the wave within a few centimetres at radar
-            frequencies (muscle conductivity is about 1 S/m near 1 GHz, Gabriel, Lau &
-            Gabriel 1996, Phys. Med. Biol. 41:2271, from memory); ``muscle_m`` bounds the
-            body geometry but is not a layer of the reflection.
-        """
-        from . import materials
-
-        mats = (materials.clothing(), materials.tissue("skin"), materials.tissue("fat"),
-                materials.tissue("muscle"))
-        return mats, (self.clothing_m, self.skin_m, self.fat_m)
-
-
-# --------------------------------------------------------------------------- debris
-
-
-@dataclass(frozen=True)
-class Boulder:
-    """A rock in the debris, modelled as a sphere.
-
-    Parameters
-    ----------
-    position_m, depth_m, offset_m : float
-        Centre along the line, depth of its top, across-line offset, m.
-    diameter_m : float
-        Sphere diameter, m, in [0.05, 5].
-    permittivity : float
-        Real relative permittivity of the rock, in [2, 40] (rock is about 5-9, from memory).
-    conductivity_s_m : float
-        Rock conductivity, S/m, in [0, 1].
-    """
-
-    kind: ClassVar[str] = "boulder"
-
-    position_m: float
-    depth_m: float
-    diameter_m: float
-    offset_m: float = 0.0
-    permittivity: float = 6.0
-    conductivity_s_m: float = 0.001
-
-    def __post_init__(self) -> None:
-        _check_geometry(self)
-        _set(self, "diameter_m", check_range("diameter_m", self.diameter_m, 0.05, 5.0, unit="m"))
-        _set(self, "permittivity", check_range("permittivity", self.permittivity, 2.0, 40.0))
-        _set(self, "conductivity_s_m",
-             check_range("conductivity_s_m", self.conductivity_s_m, 0.0, 1.0, unit="S/m"))
-
-    @property
-    def centre_depth_m(self) -> float:
-        """Depth of the sphere's centre, m."""
-        return self.depth_m + 0.5 * self.diameter_m
-
-    @property
-    def bottom_depth_m(self) -> float:
-        """Depth of the sphere's lowest point, m."""
-        return self.depth_m + self.diameter_m
-
-    @property
-    def half_extent_m(self) -> float:
-        """Horizontal radius, m."""
-        return 0.5 * self.diameter_m
-
-    def material(self) -> Any:
-        """The rock's dielectric model (``materials.rock``)."""
-        from . import materials
-
-        return materials.rock(self.permittivity, self.conductivity_s_m)
-
-
-@dataclass(frozen=True)
-class Branch:
-    """A branch or trunk in the debris: a horizontal wooden cylinder.
-
-    Parameters
-    ----------
-    position_m, depth_m, offset_m : float
-        Centre along the line, depth of the cylinder's top, across-line offset, m.
-    diameter_m : float
-        Cylinder diameter, m, in [0.01, 1.5].
-    length_m : float
-        Cylinder length, m, in [0.1, 20].
-    heading_deg : float
-        Angle of the cylinder's axis to the survey line, deg.
-    water_fraction : float
-        Volume fraction of water in the wood, in [0, 0.6] (green wood holds roughly
-        0.3-0.5, from memory).
-    frozen : bool
-        The wood's water is frozen (ice) rather than liquid.
-    """
-
-    kind: ClassVar[str] = "branch"
-
-    position_m: float
-    depth_m: float
-    diameter_m: float
-    length_m: float
-    offset_m: float = 0.0
-    heading_deg: float = 0.0
-    water_fraction: float = 0.3
-    frozen: bool = False
-
-    def __post_init__(self) -> None:
-        _check_geometry(self)
-        _set(self, "diameter_m", check_range("diameter_m", self.diameter_m, 0.01, 1.5, unit="m"))
-        _set(self, "length_m", check_range("length_m", self.length_m, 0.1, 20.0, unit="m"))
-        _set(self, "water_fraction",
-             check_range("water_fraction", self.water_fraction, 0.0, 0.6, unit="m3/m3"))
-        _set(self, "frozen", _check_bool("frozen", self.frozen))
-
-    @property
-    def permittivity(self) -> float:
-        """Real relative permittivity of the wood.
-
-        Complex refractive index mixing (CRIM, the Lichtenecker-Rother rule with exponent
-        1/2; Birchak et al. 1974, Proc. IEEE 62:93, as in REFERENCES 6.2) of dry wood
-        (eps 2.0, from memory) and water (eps 80 liquid or 3.15 frozen, from memory):
-        ``sqrt(eps) = (1 - w) sqrt(eps_dry) + w sqrt(eps_water)``. A frequency-independent
-        approximation; the dry wood's own air is part of ``eps_dry``.
-        """
-        w = self.water_fraction
-        eps_w = _ICE_PERMITTIVITY if self.frozen else _WATER_PERMITTIVITY
-        return ((1.0 - w) * math.sqrt(DRY_WOOD_PERMITTIVITY) + w * math.sqrt(eps_w)) ** 2
-
-    @property
-    def axis_depth_m(self) -> float:
-        """Depth of the cylinder's axis, m."""
-        return self.depth_m + 0.5 * self.diameter_m
-
-    @property
-    def bottom_depth_m(self) -> float:
-        """Depth of the cylinder's lowest point, m."""
-        return self.depth_m + self.diameter_m
-
-    @property
-    def half_extent_m(self) -> float:
-        """Radius of the smallest vertical cylinder about the centre holding it, m."""
-        return 0.5 * math.hypot(self.length_m, self.diameter_m)
-
-
-@dataclass(frozen=True)
-class MetalPlate:
-    """A thin metal plate: a shovel blade, a ski, a phone (perfect conductor).
-
-    Parameters
-    ----------
-    position_m, depth_m, offset_m : float
-        Centre along the line, depth of the plate's shallowest point, across-line offset, m.
-    length_m : float
-        Length along the plate's long axis, m, in [0.02, 3].
-    width_m : float
-        Width, m, in [0.01, 1]; at most the length.
-    heading_deg : float
-        Angle of the long axis to the survey line, deg.
-    tilt_deg : float
-        Dip of the long axis below the horizontal, deg, in [-90, 90] (0: lying flat).
-    label : str
-        Free text for display, default "ski".
-    """
-
-    kind: ClassVar[str] = "metal"
-
-    position_m: float
-    depth_m: float
-    length_m: float
-    width_m: float
-    offset_m: float = 0.0
-    heading_deg: float = 0.0
-    tilt_deg: float = 0.0
-    label: str = "ski"
-
-    def __post_init__(self) -> None:
-        _check_geometry(self)
-        _set(self, "length_m", check_range("length_m", self.length_m, 0.02, 3.0, unit="m"))
-        _set(self, "width_m",
-             check_range("width_m", self.width_m, 0.01, min(1.0, self.length_m), unit="m"))
-        _set(self, "tilt_deg", check_range("tilt_deg", self.tilt_deg, -90.0, 90.0, unit="deg"))
-        _set(self, "label", _check_label("label", self.label))
-
-    @property
-    def centre_depth_m(self) -> float:
-        """Depth of the plate's centre, m."""
-        return self.depth_m + 0.5 * self.length_m * abs(math.sin(math.radians(self.tilt_deg)))
-
-    @property
-    def bottom_depth_m(self) -> float:
-        """Depth of the plate's deepest point, m."""
-        return self.depth_m + self.length_m * abs(math.sin(math.radians(self.tilt_deg)))
-
-    @property
-    def half_extent_m(self) -> float:
-        """Radius of the smallest vertical cylinder about the centre holding it, m."""
-        horizontal = self.length_m * math.cos(math.radians(self.tilt_deg))
-        return 0.5 * math.hypot(horizontal, self.width_m)
-
-    def material(self) -> Any:
-        """A perfect conductor (``materials.metal``)."""
-        from . import materials
-
-        return materials.metal()
-
-
-#: Anything allowed in ``Scenario.objects``.
+#: Anything allowed in ``Scenario.objects`` among the built-in kinds (plugins add more,
+#: see :func:`snowprobe_widgets.targets.kinds_in`).
 DebrisObject = Boulder | Branch | MetalPlate

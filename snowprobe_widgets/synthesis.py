@@ -15,16 +15,19 @@ sum of
 
        (j f / c) * r(theta_loc) cos(theta_loc) A * T2 * exp(-2 alpha l) * beam / (R_par R_perp)
 
-   at its two-way delay, with r the local TE reflection at the local incidence angle (the
-   person's clothing / skin / fat / muscle stack through :func:`layered.reflection`; the
-   Fresnel coefficient of rock or wood; -1 for metal). The prefactor uses the free-space
-   wavenumber: with the E-field transmission each way it reproduces, by stationary phase,
-   the flat-reflector limit T2 r / (2 (h + d / n)) of the column response. Diffraction
-   hyperbolas arise from the geometry, not from a formula.
-3. **Clutter scatterers**: small blocks of denser snow as point scatterers of radar
-   cross-section min(Rayleigh, optical) (Rayleigh sphere 4 pi k^4 a^6 |K|^2 below
-   ka ~ 1 and pi a^2 |r|^2 above; van de Hulst 1957, from memory; the min rule is common
-   practice), along the same refracted rays.
+   at its two-way delay, with r the local TE reflection at the local incidence angle. Each
+   kind (:mod:`snowprobe_widgets.targets`) gives the angle dependence of r and the
+   spectrum multiplying the sum: the person's clothing / skin / fat / muscle stack through
+   :func:`layered.reflection`, -1 for metal, and for a boulder or branch the exact series
+   of a sphere or cylinder divided by the facet sum's own echo of that body (so that the
+   internal echo of a rock and the polarisation of a thin branch are in the result). The
+   prefactor uses the free-space wavenumber: with the E-field transmission each way it
+   reproduces, by stationary phase, the flat-reflector limit T2 r / (2 (h + d / n)) of the
+   column response. Diffraction hyperbolas arise from the geometry, not from a formula.
+3. **Clutter scatterers**: small blocks of denser snow as point scatterers
+   (:mod:`snowprobe_widgets.targets.clods`: min(Rayleigh, optical) cross-section, with the
+   dipole sign in the Rayleigh regime and the Fresnel sign in the optical one), along the
+   same refracted rays.
 4. **Receiver noise**: white Gaussian, rms from :func:`radar_equation.noise_rms`, seeded.
 
 Simplifications (stated wherever results are shown): facet delays use the layers' phase
@@ -55,11 +58,14 @@ import scipy.fft
 
 from . import materials as mat
 from .constants import C0_M_S
-from .facets import FacetMesh, cylinder_mesh, ellipsoid_mesh, plate_mesh
-from .layered import reflection, stack_coefficients
+from .facets import FacetMesh
 from .radar_equation import antenna_factor, beam_weight, noise_rms
 from .radargram import Radargram, TruthMarker
 from .raypaths import AlongX, RayTable, layers_above_m, solve_rays
+from .targets import kind_of
+from .targets.base import ANGLES_DEG
+from .targets.clods import clod_amplitude
+from .targets.clods import clod_contrast as clutter_block_contrast
 from .trace import column_response, evaluate_column
 
 __all__ = ["COMPONENTS", "simulate", "object_mesh", "ColumnOptics", "column_optics",
@@ -69,7 +75,6 @@ __all__ = ["COMPONENTS", "simulate", "object_mesh", "ColumnOptics", "column_opti
 #: What a radargram can be made of; ``simulate(..., components=...)`` picks a subset.
 COMPONENTS: tuple[str, ...] = ("layers", "objects", "clutter", "noise")
 
-_ANGLES_DEG = np.linspace(0.0, 89.0, 90)
 _N_COS = 257
 #: Facet size: the wavelength in the snow at the centre frequency over this. At 6 the
 #: objects' echoes of the demo scenarios differ from a twice finer mesh by < 1.5 % of
@@ -79,9 +84,6 @@ FACETS_PER_WAVELENGTH = 6.0
 #: facet sum differs from an 8x oversampled one by < 1 % of the echo peak (measured on
 #: the shallow and ice-crust demos: 0.6 % and 0.8 %); 2 gives 0.15 % at ~20 % more time.
 OVERSAMPLE = 1
-#: Density added to the local snow for a clutter block (invented demo figure: hard
-#: debris clods are denser than the snow around them).
-CLUTTER_BLOCK_EXTRA_DENSITY_KG_M3 = 250.0
 
 
 @dataclass(frozen=True, eq=False)
@@ -127,64 +129,30 @@ def _time_to(optics: ColumnOptics, h: float, depth_m: float, offset_m: float) ->
 
 # --------------------------------------------------------------------------- objects
 def object_mesh(obj: Any, facet_size_m: float) -> FacetMesh:
-    """The lit-side facet mesh of a person, boulder, branch or metal plate."""
-    kind = obj.kind
-    if kind == "person":
-        a, b, c = obj.body_length_m / 2, obj.body_width_m / 2, obj.body_thickness_m / 2
-        return ellipsoid_mesh((obj.position_m, obj.offset_m, obj.depth_m + c), (a, b, c),
-                              heading_deg=obj.heading_deg, facet_size_m=facet_size_m)
-    if kind == "boulder":
-        r = obj.diameter_m / 2
-        return ellipsoid_mesh((obj.position_m, obj.offset_m, obj.depth_m + r), (r, r, r),
-                              facet_size_m=facet_size_m)
-    if kind == "branch":
-        r = obj.diameter_m / 2
-        return cylinder_mesh((obj.position_m, obj.offset_m, obj.depth_m + r), r, obj.length_m,
-                             heading_deg=obj.heading_deg, facet_size_m=facet_size_m)
-    if kind == "metal":
-        return plate_mesh((obj.position_m, obj.offset_m, obj.centre_depth_m), obj.length_m,
-                          obj.width_m, heading_deg=obj.heading_deg, tilt_deg=obj.tilt_deg,
-                          facet_size_m=facet_size_m)
-    raise ValueError(f"object kind {kind!r} is not one of person, boulder, branch, metal")
+    """The lit-side facet mesh of a buried thing (its kind's ``mesh``)."""
+    return kind_of(obj).mesh(obj, facet_size_m)
 
 
-def _stack_at(obj: Any, eps_in: float, freq: Any) -> tuple[list, tuple]:
-    """Permittivities [snow, ...object layers] at ``freq`` and the inner thicknesses."""
-    if obj.kind == "person":
-        mats, thick = obj.tissue_stack()
-        return [eps_in] + [m.permittivity(freq) for m in mats], thick
-    m = obj.material() if obj.kind == "boulder" else mat.rock(obj.permittivity, 0.0)
-    return [eps_in, m.permittivity(freq)], ()
+def target_reflection_spectrum(obj: Any, snow_eps: complex, freq_hz: np.ndarray, *,
+                               polarization: str = "across_line") -> np.ndarray:
+    """An object's echo over ``freq_hz`` relative to the geometric-optics echo of a perfect
+    conductor of its top curvature (:attr:`targets.Reflection.spectrum`): the
+    normal-incidence reflection r(f) seen from the snow (real part of ``snow_eps``) for a
+    kind computed by physical optics, -1 for metal, an exact series' echo for a boulder or
+    branch."""
+    f = np.atleast_1d(np.asarray(freq_hz, float))
+    # the angle dependence (taken at the band's median) is not part of the spectrum
+    fc = float(np.median(f))
+    return kind_of(obj).reflection(obj, snow_eps, fc, f, polarization).spectrum
 
 
-def target_reflection_spectrum(obj: Any, snow_eps: complex, freq_hz: np.ndarray) -> np.ndarray:
-    """Normal-incidence reflection r(f) of an object's surface seen from the snow around it.
-
-    The incident medium is the real part of ``snow_eps`` (lossless, as
-    :func:`layered.reflection` requires at oblique incidence); -1 for metal.
-    """
-    if obj.kind == "metal":
-        return -np.ones(np.size(freq_hz), complex)
-    stack, thick = _stack_at(obj, snow_eps.real, freq_hz)
-    return np.asarray(reflection(freq_hz, stack, thick), complex)
-
-
-def target_reflection(obj: Any, snow_eps: complex, fc: float,
-                      freq_hz: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """(|r(fc, angle)| / |r(fc, 0)| on _ANGLES_DEG, r(f, 0) on freq_hz) for one object
-    (:func:`target_reflection_spectrum` for the second)."""
-    spectrum = target_reflection_spectrum(obj, snow_eps, freq_hz)
-    if obj.kind == "metal":
-        return np.ones_like(_ANGLES_DEG), spectrum
-    eps_in = snow_eps.real
-    stack_fc, thick = _stack_at(obj, eps_in, fc)
-    # all angles at once through the layered kernel (the public function takes one angle)
-    na = _ANGLES_DEG.size
-    eps_a = np.array([np.full(na, complex(e), complex) for e in stack_fc])
-    sin2 = eps_in * np.sin(np.radians(_ANGLES_DEG)) ** 2
-    k0 = np.full(na, 2 * math.pi * fc / C0_M_S)
-    r_angle = np.abs(stack_coefficients(k0, eps_a, np.asarray(thick, float), sin2, "TE")[0])
-    return r_angle / max(r_angle[0], 1e-30), spectrum
+def target_reflection(obj: Any, snow_eps: complex, fc: float, freq_hz: np.ndarray, *,
+                      polarization: str = "across_line") -> tuple[np.ndarray, np.ndarray]:
+    """(|r(fc, angle)| / |r(fc, 0)| on ANGLES_DEG, the factor on freq_hz multiplying a
+    facet sum of unit local reflection) for one object (its kind's ``reflection``)."""
+    refl = kind_of(obj).reflection(obj, snow_eps, fc, np.asarray(freq_hz, float),
+                                   polarization)
+    return refl.angle_ratio, refl.facet_spectrum
 
 
 def index_offsets(optics: ColumnOptics, freq_hz: np.ndarray) -> list[np.ndarray]:
@@ -218,21 +186,6 @@ def vertical_dispersion(optics: ColumnOptics, depth_m: float, fc: float,
                              layers_above_m(optics.thickness_m, depth_m), optics.alpha_np_m)
 
 
-def clutter_block_contrast(layer: Any, fc: float) -> tuple[float, float, float]:
-    """(n of the snow, Rayleigh factor K, normal-incidence r) of a debris block in ``layer``.
-
-    The block is snow of the layer's water content and CLUTTER_BLOCK_EXTRA_DENSITY_KG_M3
-    denser (at most the pore space allows); K = (e_b - e_s) / (e_b + 2 e_s) and
-    r = (n_s - n_b) / (n_s + n_b) from the real permittivities at ``fc``.
-    """
-    rho_b = min(layer.density_kg_m3 + CLUTTER_BLOCK_EXTRA_DENSITY_KG_M3,
-                917.0 * (1 - layer.lwc_percent / 100.0))
-    e_s = complex(mat.snow(layer.density_kg_m3, layer.lwc_percent).permittivity(fc)).real
-    e_b = complex(mat.snow(rho_b, layer.lwc_percent).permittivity(fc)).real
-    n_s, n_b = math.sqrt(e_s), math.sqrt(e_b)
-    return n_s, (e_b - e_s) / (e_b + 2 * e_s), (n_s - n_b) / (n_s + n_b)
-
-
 @dataclass
 class _Target:
     mesh: FacetMesh
@@ -243,7 +196,7 @@ class _Target:
         # |r| ratio on a uniform grid of cos(angle) in [0, 1] for index arithmetic look-up
         cos_grid = np.linspace(0.0, 1.0, _N_COS)
         ang = np.degrees(np.arccos(cos_grid))
-        self.r_cos = np.interp(ang, _ANGLES_DEG, self.r_angle)
+        self.r_cos = np.interp(ang, ANGLES_DEG, self.r_angle)
     spectrum: np.ndarray  # per-band-frequency factor (reflection, dispersion, PO, pulse)
 
 
@@ -323,7 +276,7 @@ def _column_layers(scenario: Any, with_thin_layers: bool) -> tuple[list, list[fl
                     new.append((bot, b, rho, w))
             pieces = new
     pieces = [p for p in pieces if p[1] - p[0] > 1e-6]
-    mats = [mat.snow(rho, w) for _, _, rho, w in pieces]
+    mats = [mat.snow(rho, w, temperature_c=snowpack.temperature_c) for _, _, rho, w in pieces]
     thick = [b - a for a, b, _, _ in pieces]
     return mats, thick
 
@@ -351,7 +304,8 @@ def _prepare_targets(scenario: Any, pulse: Any, grid: _Grid, optics: ColumnOptic
             x_max, (z_lo, z_hi), antenna_height_m=h, thickness_m=optics.thickness_m,
             index=optics.index, alpha_np_m=optics.alpha_np_m,
             beam=lambda th: beam_weight(th, radar.beamwidth_deg))
-        r_angle, r_f = target_reflection(obj, complex(snow_m.permittivity(fc)), fc, fb)
+        r_angle, r_f = target_reflection(obj, complex(snow_m.permittivity(fc)), fc, fb,
+                                         polarization=radar.polarization)
         disp = vertical_dispersion(optics, obj.depth_m, fc, fb)
         spec = r_f * disp
         out.append(_Target(mesh, table.along_x(mesh.centre_m[:, 2]), r_angle, spec))
@@ -402,8 +356,8 @@ def _clutter_parts(scenario: Any, optics: ColumnOptics, pulse: Any, grid: _Grid
     """Clutter scatterers: positions and amplitudes at fc in two regimes.
 
     Returns x, y, z, amplitude at fc (field per unit spherical wave times R^2, i.e.
-    sqrt(sigma / 4 pi) / n with the sign of the contrast) and a bool "Rayleigh" flag
-    (amplitude grows as f^2 below ka = 1).
+    sqrt(sigma / 4 pi) / n with the sign of the regime, see targets.clods) and a bool
+    "Rayleigh" flag (amplitude grows as f^2 below ka = 1).
     """
     field = scenario.clutter_field()
     fc = pulse.center_frequency_hz
@@ -415,12 +369,7 @@ def _clutter_parts(scenario: Any, optics: ColumnOptics, pulse: Any, grid: _Grid
     n_s = np.array([p[0] for p in per_layer])[idx]
     K = np.array([p[1] for p in per_layer])[idx]
     r = np.array([p[2] for p in per_layer])[idx]
-    a = size / 2
-    k = 2 * math.pi * fc * n_s / C0_M_S
-    sig_r = 4 * math.pi * k**4 * a**6 * K**2
-    sig_o = math.pi * a * a * r * r
-    rayleigh = sig_r < sig_o
-    amp = -np.sqrt(np.minimum(sig_r, sig_o) / (4 * math.pi)) / n_s
+    amp, rayleigh = clod_amplitude(n_s, K, r, size / 2, fc)
     return x, y, z, amp, rayleigh
 
 
@@ -531,7 +480,7 @@ def _truth(scenario: Any, optics: ColumnOptics) -> tuple[TruthMarker, ...]:
     out = []
     persons = 0
     for obj in scenario.targets:
-        if obj.kind == "person":
+        if kind_of(obj).placement == "persons":
             persons += 1
             label = obj.label or f"person {persons}"
         else:

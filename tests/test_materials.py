@@ -213,3 +213,53 @@ def test_plugin_model_through_entry_point(monkeypatch):
     monkeypatch.setattr(m.MODELS, "_items", dict(m.MODELS._items))
     assert "mylab" in m.wet_snow_models()
     assert m.wet_snow(350, 3, model="mylab").permittivity(1e9).real == pytest.approx(2.3)
+
+
+# ------------------------------------------------------------------ dry/wet join
+@pytest.mark.parametrize("wet_model", ["tiuri", "crim"])
+@pytest.mark.parametrize("f", [400e6, 800e6, 2e9])
+def test_dry_and_wet_snow_join(wet_model, f):
+    # a trace of water must not change the permittivity: the wet model's dry limit is
+    # the dry model (the issue measured 2-3 % between them before the join)
+    dry = m.snow(350.0, 0.0).permittivity(f)
+    step = [abs(m.snow(350.0, w, wet_model=wet_model).permittivity(f) - dry) / abs(dry)
+            for w in (0.01, 0.001)]
+    # no jump: the change shrinks with the water (ten-fold less water, ten-fold less change)
+    assert step[1] == pytest.approx(step[0] / 10, rel=0.05)
+    if wet_model == "tiuri":  # the default model: under 0.1 % at 0.01 % water
+        assert step[0] < 1e-3
+    # and the raw published models do differ from the dry model by that much
+    raw = m.wet_snow(350.0, 0.01, model=wet_model).permittivity(f)
+    assert abs(raw - dry) / abs(dry) > 1e-2
+
+
+def test_the_join_keeps_tiuris_own_form():
+    # Tiuri et al. (1984) write wet snow as dry snow plus a water term: over their own dry
+    # formula the join is their model, REFERENCES table 3.2 at 1 GHz, 300 kg/m3
+    for lwc, (re, im) in ((1.0, (1.6668, 0.0098)), (3.0, (1.8963, 0.0339)),
+                          (5.0, (2.1813, 0.0638))):
+        e = m.snow(300.0, lwc, dry_model="tiuri").permittivity(1e9)
+        assert (e.real, -e.imag) == pytest.approx((re, im), abs=1.5e-3)
+
+
+# ------------------------------------------------------------------ temperature
+def test_snow_temperature_sets_the_ice_loss():
+    # dry-snow loss is proportional to the ice loss (Ulaby & Long 2014 form); the ice loss
+    # of Matzler (2006) at 1 GHz is 6.809e-4 at -1 degC and 1.664e-4 at -20 degC
+    # (REFERENCES table 2.2)
+    warm = -m.snow(300.0, temperature_c=-1.0).permittivity(1e9).imag
+    cold = -m.snow(300.0, temperature_c=-20.0).permittivity(1e9).imag
+    assert warm / cold == pytest.approx(6.809e-4 / 1.664e-4, rel=5e-3)
+
+
+# ------------------------------------------------------------------ validity
+def test_models_declare_their_calibrated_band():
+    # Tiuri et al. 1984: 0.5-1 GHz (REFERENCES 3a); Topp et al. 1980: 20 MHz-1 GHz (6.1);
+    # dry snow: frequency independent 1 MHz-10 GHz (Matzler 1996), loss from 10 MHz
+    assert m.wet_snow(300, 3).valid_hz == (0.5e9, 1e9)
+    assert m.soil(0.1).valid_hz == (20e6, 1e9)
+    assert m.dry_snow(300).valid_hz == (10e6, 10e9)
+    assert m.snow(300, 3).valid_hz == (0.5e9, 1e9)  # the joined layer: the narrower band
+    assert m.wet_snow(300, 3).validity_note(800e6) == ""
+    note = m.snow(300, 3).validity_note(2.6e9)
+    assert "Tiuri et al. 1984" in note and "500 MHz-1 GHz" in note and "2.6 GHz" in note

@@ -8,6 +8,7 @@ Analysis*, ch. 4), drawn with a Ricker wavelet (Ricker 1953), plus a flat layer 
 from __future__ import annotations
 
 import json
+import math
 
 import numpy as np
 import pytest
@@ -571,10 +572,10 @@ def test_velocity_analysis_recovers_material_model_velocity_on_simulated_data(
     # radius must return c0 / n'(fc) of the dry-snow model (Looyenga 1965) within 3 %.
     from snowprobe_widgets import simulate
     from snowprobe_widgets.scene import (
-        Boulder,
         Clutter,
         Ground,
         Layer,
+        MetalPlate,
         Radar,
         Scenario,
         Snowpack,
@@ -597,3 +598,65 @@ def test_velocity_analysis_recovers_material_model_velocity_on_simulated_data(
 def test_chain_refuses_what_is_not_a_radargram() -> None:
     with pytest.raises(ValueError, match="must be a Radargram"):
         P.ProcessingChain.default(800e6).apply(np.zeros((4, 4)))
+
+
+# ------------------------------------------------------------------ air gap
+def _focus(data: np.ndarray, dx: float) -> tuple[float, float]:
+    """(lateral width at half the envelope peak, m; envelope peak) of the strongest spot."""
+    env = np.abs(hilbert(data, axis=0))
+    i, _ = np.unravel_index(np.argmax(env), env.shape)
+    prof = env[max(i - 10, 0):i + 10].max(axis=0)
+    above = np.nonzero(prof >= 0.5 * prof.max())[0]
+    return (above[-1] - above[0] + 1) * dx, float(env.max())
+
+
+@pytest.mark.parametrize("h", [0.05, 0.5, 3.0])
+def test_migration_through_the_air_gap_focuses(h: float) -> None:
+    # A 10 cm metal plate 1 m deep in dry snow, seen from h (0.05 m is the model's lowest antenna,
+    # standing for a ground-coupled one). The forward model draws the hyperbola along
+    # refracted rays; migrating at the paraxial RMS velocity of air over snow (Dix 1955)
+    # focuses it to a spot of about a wavelength at every height. The old advice (move
+    # time zero to the surface, migrate at the snow velocity) leaves a 3 m high antenna's
+    # hyperbola nearly unfocused.
+    from snowprobe_widgets import simulate
+    from snowprobe_widgets.scene import (
+        Clutter,
+        Ground,
+        Layer,
+        MetalPlate,
+        Radar,
+        Scenario,
+        Snowpack,
+        Survey,
+    )
+
+    sc = Scenario(Snowpack((Layer(3.0, 300.0),)), Ground("soil", 0.1), (),
+                  (MetalPlate(4.0, 1.0, 0.1, 0.1),),
+                  Radar("ricker", 800e6, dt_s=1e-10, time_window_s=40e-9, antenna_height_m=h),
+                  Survey(0.0, 8.0, 0.05), Clutter(), name="air gap")
+    rg = simulate(sc, components=("objects",))
+    v = 299_792_458.0 / float(sc.snowpack.materials()[0].refractive_index(800e6).real)
+    raw_width, raw_peak = _focus(rg.data, 0.05)
+    for method in ("fk", "kirchhoff") if h == 3.0 else ("fk",):
+        width, peak = _focus(P.migrate(rg, v, method=method, antenna_height_m=h).data, 0.05)
+        assert width <= 0.25, method  # a wavelength in the snow is 0.30 m
+        assert peak > 2.0 * raw_peak
+    shift = int(round(2 * h / 299_792_458.0 / rg.dt_s))
+    moved = np.zeros_like(rg.data)
+    moved[: rg.data.shape[0] - shift] = rg.data[shift:]
+    old_width, _ = _focus(P.migrate(rg.with_data(moved), v).data, 0.05)
+    if h == 3.0:
+        assert old_width > 4 * width and old_width > 0.5 * raw_width
+
+
+def test_rms_velocity_of_an_air_gap() -> None:
+    # Dix (1955): v_rms^2 = sum v_i^2 t_i / sum t_i over the two-way times in each layer
+    from snowprobe_widgets.processing.migration import rms_velocity_m_s
+
+    c, v, h = 299_792_458.0, 0.23e9, 2.0
+    t_air = 2 * h / c
+    for t_snow in (5e-9, 20e-9, 80e-9):
+        dix = math.sqrt((c**2 * t_air + v**2 * t_snow) / (t_air + t_snow))
+        assert rms_velocity_m_s(np.array([t_air + t_snow]), v, h)[0] == pytest.approx(
+            dix, rel=1e-12)
+    assert rms_velocity_m_s(np.array([0.5 * t_air]), v, h)[0] == c

@@ -60,8 +60,9 @@ def test_normal_incidence_spreading_transmission_and_loss() -> None:
 
 
 def test_oblique_spreading_matches_finite_difference_of_the_ray_fan() -> None:
-    # R_par = cos(theta0) dX/dtheta0 and R_perp = X / sin(theta0): check R_par by a finite
-    # difference of X over the air angle (ray-tube definition)
+    # two-way spreading R_par' R_perp with R_par' = cos(theta_loc) dX/dtheta0 (the tube
+    # width across the ray at its end) and R_perp = X / sin(theta0): dX/dtheta0 by a finite
+    # difference of X over the air angle (ray-tube definition, Cerveny 2001 ch. 4)
     z, X = 1.2, 1.0
     th, _ = _snell(X, z)
     dth = 1e-6
@@ -71,7 +72,8 @@ def test_oblique_spreading_matches_finite_difference_of_the_ray_fan() -> None:
         D = np.array([0.4, 0.3, 0.5])
         return H * math.tan(theta) + float(np.sum(D * s / np.sqrt(N * N - s * s)))
 
-    r_par = math.cos(th) * (offset(th + dth) - offset(th - dth)) / (2 * dth)
+    cos_loc = math.sqrt(1.0 - (math.sin(th) / N[-1]) ** 2)
+    r_par = cos_loc * (offset(th + dth) - offset(th - dth)) / (2 * dth)
     r_perp = X / math.sin(th)
     res = solve_rays(np.array(X), np.array(z), antenna_height_m=H, thickness_m=THICK,
                      index=N, alpha_np_m=ALPHA)

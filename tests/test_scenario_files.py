@@ -119,7 +119,8 @@ def radars(draw):
     return Radar(pulse, fc, bw, transmit_power_dbm=draw(_num(-30.0, 60.0)),
                  noise_floor_dbm=draw(_num(-200.0, -31.0)), stacking=draw(st.integers(1, 65536)),
                  antenna_gain_dbi=draw(_num(-10.0, 30.0)), dt_s=dt, time_window_s=n * dt,
-                 antenna_height_m=draw(_num(0.05, 30.0)), beamwidth_deg=draw(_num(5.0, 180.0)))
+                 antenna_height_m=draw(_num(0.05, 30.0)), beamwidth_deg=draw(_num(5.0, 180.0)),
+                 polarization=draw(st.sampled_from(["across_line", "along_line"])))
 
 
 @st.composite
@@ -310,8 +311,8 @@ FIELD_ERRORS = [
     (["scenario", "radar", "stacking"], "16",
      'scenario.radar.stacking: expected an integer, got "16"'),
     (["scenario", "radar", "dt_s"], None, "scenario.radar.dt_s: expected a number, got null"),
-    (["scenario", "radar", "center_frequency_hz"], 5e9,
-     "scenario.radar: center_frequency_hz = 5e+09 Hz is outside the allowed range"),
+    (["scenario", "radar", "center_frequency_hz"], 7e9,
+     "scenario.radar: center_frequency_hz = 7e+09 Hz is outside the allowed range"),
     (["scenario", "persons", 0, "depth_m"], 3.0,
      "scenario: persons[0] (person 'p') at depth_m = 3 m reaches down to 3.25 m, deeper "
      "than the 2.5 m snowpack"),
@@ -324,6 +325,8 @@ FIELD_ERRORS = [
     (["scenario", "objects", 2, "tilt_deg"], 120.0,
      "scenario.objects[2]: tilt_deg = 120 deg is outside the allowed range"),
     (["scenario", "name"], 7, "scenario.name: expected a string, got 7"),
+    (["scenario", "radar", "polarization"], "vertical",
+     "scenario.radar: polarization = 'vertical' is not one of: 'across_line', 'along_line'"),
     (["scenario", "ground"], "soil", 'scenario.ground: expected an object, got "soil"'),
     (["scenario", "snowpack", "layers"], [],
      "scenario.snowpack: layers has 0 entries; a snowpack needs 1 to 200 layers"),
@@ -350,6 +353,15 @@ def test_missing_fields_and_type_tags():
     text = _edit(lambda d: d["scenario"]["objects"][0].update(label="rock"))
     with pytest.raises(ScenarioFileError, match=r"scenario.objects\[0\].label: unknown field"):
         loads(text)
+
+
+def test_a_file_from_before_the_polarization_field_loads_with_its_default():
+    # radar.polarization was added to schema version 1 later: older files lack it
+    text = _edit(lambda d: d["scenario"]["radar"].pop("polarization"))
+    assert loads(text).radar.polarization == "across_line"
+    s, _ = good_doc()
+    along = dataclasses.replace(s, radar=dataclasses.replace(s.radar, polarization="along_line"))
+    assert loads(along.to_json()).radar.polarization == "along_line"
 
 
 @pytest.mark.parametrize("constant", ["NaN", "Infinity", "-Infinity"])

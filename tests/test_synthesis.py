@@ -296,3 +296,31 @@ def test_facet_sum_has_converged(name: str) -> None:
 def test_not_a_scenario_is_refused_by_name() -> None:
     with pytest.raises(ValueError, match="scenario must be a Scenario"):
         simulate({"snowpack": []})
+
+
+def test_snow_temperature_reaches_the_radargram():
+    # Snowpack.temperature_c makes every layer's material: the dry-snow loss follows the
+    # ice loss of Matzler (2006), 6.809e-4 at -1 degC and 1.664e-4 at -20 degC at 1 GHz
+    # (REFERENCES table 2.2), and the attenuation (low-loss: alpha ~ eps'') follows it
+    import dataclasses
+
+    from snowprobe_widgets.synthesis import column_optics
+
+    base = Scenario.example("shallow_dry_powder")
+
+    def at(t_c: float, fc: float = 800e6) -> Scenario:
+        radar = dataclasses.replace(base.radar, center_frequency_hz=fc)
+        return dataclasses.replace(
+            base, radar=radar,
+            snowpack=dataclasses.replace(base.snowpack, temperature_c=t_c))
+
+    warm = column_optics(at(-1.0, 1e9)).alpha_np_m
+    cold = column_optics(at(-20.0, 1e9)).alpha_np_m
+    np.testing.assert_allclose(warm / cold, 6.809e-4 / 1.664e-4, rtol=1e-2)
+    # and the radargram changes between -30 and 0 degC: the warm snow absorbs more, so
+    # the ground echo (after 2 m of snow) comes back weaker
+    a = simulate(at(-30.0), components=("layers",)).data[:, 0]
+    b = simulate(at(0.0), components=("layers",)).data[:, 0]
+    late = slice(int(round(10e-9 / base.radar.dt_s)), None)  # after the surface echo
+    assert np.max(np.abs(b[late])) < np.max(np.abs(a[late]))
+    assert not np.allclose(a, b, rtol=0, atol=0)

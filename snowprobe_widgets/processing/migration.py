@@ -1,30 +1,67 @@
-"""Constant-velocity migration of zero-offset sections: Stolt f-k and diffraction summation.
+"""Migration of zero-offset sections: Stolt f-k and diffraction summation.
 
 Both use the exploding-reflector model: a zero-offset section recorded in a medium of
 velocity ``v`` is treated as one-way propagation at ``v / 2``, so a point diffractor at
-``(x0, t0)`` appears on the hyperbola ``t(x) = sqrt(t0**2 + (2 (x - x0) / v)**2)``.
-The output keeps the time axis (vertical two-way time); convert it to depth with
-:func:`snowprobe_widgets.processing.time_to_depth`. Time is measured from the antenna, so
-align the surface echo with :func:`time_zero` (``target_time_s = 0``) first when the
-antenna is held above the snow.
+``(x0, t0)`` appears on the hyperbola ``t(x) = sqrt(t0**2 + (2 (x - x0) / v)**2)``, with
+t measured from the antenna. The output keeps the time axis (vertical two-way time);
+convert it to depth with :func:`snowprobe_widgets.processing.time_to_depth`.
+
+An antenna held above the snow sees the diffraction through an air gap: the hyperbola of
+a point at two-way time t0 from the antenna is, to second order in offset,
+``t0 + x**2 / (c R)`` with ``R = h + z v / c`` the air-equivalent range (Snell's law at
+the surface), i.e. a hyperbola of the RMS velocity ``v_rms(t0)**2 = 2 c R / t0`` (Dix
+1955, Geophysics 20(1); Taner & Koehler 1969, Geophysics 34(6)). Shifting time zero to the
+surface and migrating at the snow velocity does not focus: at 3 m height the flanks are
+far flatter than the snow velocity predicts. Give ``antenna_height_m`` and ``migrate``
+focuses at ``v_rms(t)``: diffraction summation along each output time's own RMS
+hyperbola, f-k as a set of constant-velocity Stolt migrations at reference velocities
+2 % apart, interpolated per output time (in the manner of Gazdag & Sguazzero's 1984
+phase-shift-plus-interpolation).
 """
 
 from __future__ import annotations
+
+import math
 
 import numpy as np
 from scipy import fft as sfft
 
 from .._validate import check_choice, check_range
+from ..constants import C0_M_S
 from ..radargram import Radargram
-from ._common import STEPS, check_velocity, record, sample_interval_s, trace_spacing_m
+from ._common import (
+    STEPS,
+    VELOCITY_MAX_M_S,
+    check_velocity,
+    record,
+    sample_interval_s,
+    trace_spacing_m,
+)
 
-__all__ = ["migrate", "MIGRATION_METHODS"]
+__all__ = ["migrate", "MIGRATION_METHODS", "rms_velocity_m_s"]
 
 MIGRATION_METHODS = ("fk", "kirchhoff")
 
 
 #: Half-length (taps on each side) of the windowed-sinc interpolator of the Stolt mapping.
 _SINC_HALF = 4
+#: Ratio of neighbouring reference velocities of the f-k migration through an air gap.
+_REF_STEP = 1.02
+
+
+def rms_velocity_m_s(time_from_antenna_s: np.ndarray, velocity_m_s: float,
+                     antenna_height_m: float) -> np.ndarray:
+    """Paraxial RMS velocity of an air gap over snow, m/s, at two-way times from the antenna.
+
+    ``v_rms(t)**2 = 2 c R / t`` with ``R = h + z v / c`` and ``z = (t - 2 h / c) v / 2``
+    below the surface (Dix 1955); c in the air gap itself.
+    """
+    t = np.asarray(time_from_antenna_s, dtype=float)
+    t_air = 2.0 * antenna_height_m / C0_M_S
+    below = np.maximum(t - t_air, 0.0)
+    r = antenna_height_m + below * velocity_m_s**2 / (2.0 * C0_M_S)
+    v2 = 2.0 * C0_M_S * r / np.maximum(t_air + below, 1e-30)
+    return np.where(t > t_air, np.sqrt(v2), C0_M_S)
 
 
 def _stolt(data: np.ndarray, t_first_s: float, dt: float, dx: float,
@@ -99,6 +136,7 @@ def _kirchhoff(data: np.ndarray, time_s: np.ndarray, dt: float, dx: float, v_hal
     tau = time_s
     t_first = float(time_s[0])
     tau_pos = np.maximum(tau, dt)
+    v_half = np.broadcast_to(np.asarray(v_half, dtype=float), tau.shape)
     out = np.zeros_like(filt)
     max_lag = min(nx - 1, int(np.floor(aperture_m / dx + 1e-9)))
     scale = dx / np.sqrt(2.0 * np.pi)
@@ -112,7 +150,8 @@ def _kirchhoff(data: np.ndarray, time_s: np.ndarray, dt: float, dx: float, v_hal
         idx = idx[:n_ok]
         i0 = np.minimum(np.floor(idx).astype(np.intp), nt - 2)
         frac = (idx - i0)[:, None]
-        wgt = (scale * (tau_pos[:n_ok] / t[:n_ok]) / (v_half * np.sqrt(t[:n_ok])))[:, None]
+        wgt = (scale * (tau_pos[:n_ok] / t[:n_ok])
+               / (v_half[:n_ok] * np.sqrt(t[:n_ok])))[:, None]
         if lag >= 0:
             src = filt[:, lag:]
             dst = out[:n_ok, : nx - lag]
@@ -123,17 +162,40 @@ def _kirchhoff(data: np.ndarray, time_s: np.ndarray, dt: float, dx: float, v_hal
     return out
 
 
+def _stolt_air_gap(data: np.ndarray, t_ant: np.ndarray, dt: float, dx: float,
+                   v: float, h: float) -> np.ndarray:
+    """Stolt migrations at reference RMS velocities, interpolated per output time."""
+    v_t = np.clip(rms_velocity_m_s(t_ant, v, h), v, VELOCITY_MAX_M_S)
+    lo, hi = float(v_t.min()), float(v_t.max())
+    n_ref = max(2, int(math.ceil(math.log(hi / lo) / math.log(_REF_STEP))) + 1)
+    refs = np.geomspace(lo, hi, n_ref) if hi > lo else np.array([lo, lo])
+    pos = np.interp(np.log(v_t), np.log(refs), np.arange(refs.size))
+    i0 = np.minimum(np.floor(pos).astype(np.intp), refs.size - 2)
+    w1 = (pos - i0)[:, None]
+    out = np.zeros_like(data)
+    for k, v_ref in enumerate(refs):
+        rows = (i0 == k) | (i0 + 1 == k)
+        if not rows.any():
+            continue
+        img = _stolt(data, float(t_ant[0]), dt, dx, 0.5 * float(v_ref))
+        weight = np.where((i0 == k)[:, None], 1.0 - w1, 0.0) + np.where(
+            (i0 + 1 == k)[:, None], w1, 0.0)
+        out += weight * img
+    return out
+
+
 @STEPS.register("migrate")
 def migrate(rg: Radargram, velocity_m_s: float, method: str = "fk",
-            aperture_m: float | None = None) -> Radargram:
-    """Collapse diffraction hyperbolas onto their apex (constant-velocity migration).
+            aperture_m: float | None = None, antenna_height_m: float = 0.0,
+            surface_time_s: float | None = None) -> Radargram:
+    """Collapse diffraction hyperbolas onto their apex.
 
     Parameters
     ----------
     rg : Radargram
         Zero-offset section with uniform trace spacing (the mean spacing is used).
     velocity_m_s : float
-        Propagation velocity of the medium, m/s, in [0.03e9, c0] (dry snow about 0.23e9).
+        Propagation velocity of the snow, m/s, in [0.03e9, c0] (dry snow about 0.23e9).
     method : {"fk", "kirchhoff"}
         "fk": Stolt frequency-wavenumber migration (Stolt 1978, Geophysics 43(1)
         "Migration by Fourier transform"), fast and exact for constant velocity.
@@ -142,6 +204,14 @@ def migrate(rg: Radargram, velocity_m_s: float, method: str = "fk",
     aperture_m : float or None
         kirchhoff only: largest along-line distance summed on each side, m (default: the
         whole line).
+    antenna_height_m : float
+        Height of the antenna above the snow surface, m, in [0, 100]. Above 0 the section
+        is migrated through the air gap at the RMS velocity of air over snow (see the
+        module notes); 0 migrates at ``velocity_m_s`` alone (ground-coupled antenna).
+    surface_time_s : float or None
+        Time of the snow-surface echo on this record, s, in [0, 1 us]. ``None``: the
+        record's time is measured from transmission, so the surface lies at 2 h / c0.
+        Give it when time-zero moved the surface echo (its ``target_time_s``).
 
     Returns
     -------
@@ -150,17 +220,28 @@ def migrate(rg: Radargram, velocity_m_s: float, method: str = "fk",
     """
     method = check_choice("method", method, MIGRATION_METHODS)
     v = check_velocity("velocity_m_s", velocity_m_s)
+    h = check_range("antenna_height_m", antenna_height_m, 0.0, 100.0, unit="m")
+    t_air = 2.0 * h / C0_M_S
+    t_s = t_air if surface_time_s is None else check_range(
+        "surface_time_s", surface_time_s, 0.0, 1e-6, unit="s")
+    # times from the antenna: the record's own axis moved so the surface lies at 2 h / c0
+    t_ant = rg.time_s - t_s + t_air
     dt = sample_interval_s(rg)
     dx = trace_spacing_m(rg)
     if method == "fk":
         if aperture_m is not None:
             raise ValueError("aperture_m applies to method = 'kirchhoff' only")
-        out = _stolt(rg.data, float(rg.time_s[0]), dt, dx, 0.5 * v)
+        if h > 0.0:
+            out = _stolt_air_gap(rg.data, t_ant, dt, dx, v, h)
+        else:
+            out = _stolt(rg.data, float(t_ant[0]), dt, dx, 0.5 * v)
     else:
         length = float(rg.position_m[-1] - rg.position_m[0])
         if aperture_m is None:
             aperture_m = length
         aperture_m = check_range("aperture_m", aperture_m, dx, max(length, dx), unit="m")
-        out = _kirchhoff(rg.data, rg.time_s, dt, dx, 0.5 * v, aperture_m)
-    rec = record("migrate", velocity_m_s=v, method=method, aperture_m=aperture_m)
+        v_half = 0.5 * (rms_velocity_m_s(t_ant, v, h) if h > 0.0 else v)
+        out = _kirchhoff(rg.data, t_ant, dt, dx, v_half, aperture_m)
+    rec = record("migrate", velocity_m_s=v, method=method, aperture_m=aperture_m,
+                 antenna_height_m=h, surface_time_s=surface_time_s)
     return rg.with_data(out, rec)

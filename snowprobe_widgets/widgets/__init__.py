@@ -4,12 +4,14 @@ This is the only package that imports ipywidgets or bqplot; the model layer belo
 never imports this package.
 
 Apps: :class:`ScenarioExplorer` (everything around one scenario),
-:class:`MaterialsExplorer` and :class:`TrainingSession` (blind radargram exercises);
-their pieces (control panels, views) are importable too.
+:class:`MaterialsExplorer`, :class:`TrainingSession` (blind radargram exercises) and
+:class:`DetectabilityView` (detection probability from Monte Carlo sweeps); their pieces
+(control panels, views) are importable too.
 """
 
 from __future__ import annotations
 
+from snowprobe_widgets.widgets.detectability import DetectabilityView
 from snowprobe_widgets.widgets.explorer import CachedSimulation, ScenarioExplorer
 from snowprobe_widgets.widgets.materials_lab import MaterialsExplorer
 from snowprobe_widgets.widgets.palette_png import (
@@ -37,6 +39,7 @@ __all__ = [
     "CachedSimulation",
     "CrossSectionView",
     "DebrisPanel",
+    "DetectabilityView",
     "MaterialsExplorer",
     "PersonPanel",
     "ProcessingPanel",

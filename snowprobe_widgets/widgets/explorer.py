@@ -27,11 +27,13 @@ import ipywidgets as widgets
 import numpy as np
 
 from snowprobe_widgets.fdtd import fdtd_trace, frozen_at
+from snowprobe_widgets.fdtd2d import scenario_check
 from snowprobe_widgets.processing import ProcessingChain
 from snowprobe_widgets.radargram import Radargram
 from snowprobe_widgets.scene import Scenario
 from snowprobe_widgets.synthesis import column_optics, simulate
 from snowprobe_widgets.trace import echo_times, synthesize_trace
+from snowprobe_widgets.validity import scenario_warnings
 from snowprobe_widgets.widgets import exports
 from snowprobe_widgets.widgets._common import (
     caution_box,
@@ -189,10 +191,13 @@ class ScenarioExplorer(widgets.VBox):
         self._lower_views = [self.trace_view, self.spectrum_view, self.budget_view,
                              self.materials]
         self._lower_slots = [widgets.VBox([self.trace_view])] + [widgets.VBox()
-                                                                 for _ in range(3)]
+                                                                 for _ in range(4)]
+        #: The "Detection probability" tab's view, made when the tab is first shown.
+        self.detectability: Any = None
         self.lower = widgets.Tab(
             children=self._lower_slots,
-            titles=["Trace", "Spectrum", "Link budget", "Materials lab"])
+            titles=["Trace", "Spectrum", "Link budget", "Materials lab",
+                    "Detection probability"])
         self.lower.observe(lambda _: self._fill_tab(), names="selected_index")
         self.show_processed.observe(lambda _: self._show_section(), names="value")
         self.mark_detections.observe(lambda _: self._update_detections(), names="value")
@@ -200,6 +205,7 @@ class ScenarioExplorer(widgets.VBox):
         self.radargram_view.observe(self._on_pick, names="picked_trace_index")
         self.lower.observe(lambda _: self._refresh_lazy(), names="selected_index")
         self.trace_view.fdtd_button.on_click(lambda _: self.run_fdtd())
+        self.trace_view.fdtd2d_button.on_click(lambda _: self.run_fdtd2d())
 
         # files
         self.path = widgets.Text(value="scenario.json", description="file",
@@ -226,6 +232,8 @@ class ScenarioExplorer(widgets.VBox):
         self.export_png.on_click(lambda _: self._export("png"))
         self.export_report.on_click(lambda _: self._export("report"))
         self.status = widgets.HTML()
+        #: where a buried object's scattering method is outside its domain (model's words)
+        self.validity = widgets.HTML()
 
         file_bar = widgets.VBox([
             widgets.HBox([self.path, self.open_button, self.save_button, self.demo,
@@ -233,7 +241,7 @@ class ScenarioExplorer(widgets.VBox):
             widgets.HBox([widgets.HTML("export next to the file:"), self.export_csv,
                           self.export_npz, self.export_png, self.export_report]),
             self.file_message, self.file_status])
-        left = widgets.VBox([self.controls, self.message, self.status])
+        left = widgets.VBox([self.controls, self.message, self.status, self.validity])
         right = widgets.VBox([
             self.section, self.radargram_view,
             widgets.HBox([self.show_processed, self.mark_detections, self.detection_threshold]),
@@ -326,6 +334,7 @@ class ScenarioExplorer(widgets.VBox):
         self.section.update(scenario)
         if pick_m is not None:
             self.radargram_view.picked_position_m = None
+        self.processing.follow_antenna_height(scenario.radar.antenna_height_m)
         self._process(pick_m)
         self._stale = {"budget": True, "materials": True}
         self._refresh_lazy()
@@ -334,10 +343,20 @@ class ScenarioExplorer(widgets.VBox):
         self.status.value = (f"<small>updates={self.updates} | simulated: column "
                              f"{runs['column']}x, objects {runs['objects']}x, noise "
                              f"{runs['noise']}x</small>")
+        self.validity.value = "".join(f"<small>&#9888; {html.escape(w)}</small><br>"
+                                      for w in scenario_warnings(scenario))
 
     def _fill_tab(self) -> None:
         i = self.lower.selected_index
-        if i is not None and not self._lower_slots[i].children:
+        if i == len(self._lower_views) and self.detectability is None:
+            from snowprobe_widgets.widgets.detectability import DetectabilityView
+
+            # sweeps start from the scene on screen; a clicked cell comes back here
+            self.detectability = DetectabilityView(explorer=self,
+                                                   base_from=lambda: self.scenario)
+            self._lower_slots[i].children = [self.detectability]
+        elif i is not None and i < len(self._lower_views) \
+                and not self._lower_slots[i].children:
             self._lower_slots[i].children = [self._lower_views[i]]
 
     def _process(self, pick_m: float | None = None) -> None:
@@ -495,6 +514,45 @@ class ScenarioExplorer(widgets.VBox):
             "frozen at the centre frequency, as plane waves.")
         self.fdtd_agreement = ncc
         return ncc
+
+    def run_fdtd2d(self) -> float | None:
+        """2-D full-wave check of the first buried object at the picked position.
+
+        Runs :func:`snowprobe_widgets.fdtd2d.scenario_check` (the object as a cylinder
+        across the line, said on screen) and overlays its echo and the model's echo of the
+        object; returns their normalised cross-correlation (None if refused).
+        """
+        tv = self.trace_view
+        x = self.radargram_view.picked_position_m
+        x = float(self.scenario.survey.position_m[0]) if x is None else float(x)
+        tv.progress2d.value = 0.0
+        out: list = []
+
+        def progress(fraction: float) -> None:
+            tv.progress2d.value = float(min(max(fraction, 0.0), 1.0))
+
+        tv.fdtd2d_button.disabled = True
+        try:
+            ok = guarded(tv.message, lambda: out.append(
+                scenario_check(self.scenario, x, progress=progress)))
+        finally:
+            tv.fdtd2d_button.disabled = False
+        if not ok:
+            return None
+        res = out[0]
+        g = res.fdtd.grid
+        tv.show_reference(
+            res.fdtd.time_s, res.fdtd.point_source, res.model_amplitude,
+            f"2-D check at {x:.2f} m: {html.escape(res.description)}. Agreement with the "
+            f"model's echo of the object itself (normalised cross-correlation) "
+            f"<b>{res.agreement:.3f}</b>; envelope peaks {res.delay_difference_s * 1e9:+.2f}"
+            f" ns apart. Shapes and times compare; amplitudes do not (2-D line source, "
+            f"3-D model). FDTD {g.nx} x {g.nz} cells x {g.n_steps} steps, computed to "
+            f"{res.fdtd.computed_until_s * 1e9:.1f} ns, in {res.fdtd.elapsed_s:.1f} s.",
+            labels=("2-D FDTD, object as a cylinder (normalised)",
+                    "model, object alone (normalised)"))
+        self.fdtd2d_agreement = res.agreement
+        return res.agreement
 
     # ------------------------------------------------------------------ files
     @staticmethod

@@ -37,6 +37,7 @@ from snowprobe_widgets.scene import (
     Survey,
 )
 from snowprobe_widgets.scene_objects import GROUND_KINDS, POSTURES
+from snowprobe_widgets.targets import kind_of
 from snowprobe_widgets.widgets._common import (
     dropdown,
     float_slider,
@@ -402,9 +403,6 @@ class PersonPanel(_ListPanel):
 
 
 # --------------------------------------------------------------------------- debris
-_OBJECT_NAMES = {"boulder": "boulder", "branch": "branch or trunk", "metal": "metal (ski, shovel)"}
-
-
 class DebrisPanel(_ListPanel):
     """Boulders, branches and metal objects, and the random debris clutter."""
 
@@ -468,13 +466,10 @@ class DebrisPanel(_ListPanel):
             o = objects[i]
             changes: dict[str, Any] = dict(position_m=self.position.value,
                                            depth_m=self.depth.value, offset_m=self.offset.value)
-            if o.kind == "metal":
-                changes["length_m"] = self.size.value
+            kind = kind_of(o)
+            changes[kind.size_field] = self.size.value
+            if kind.has_heading:
                 changes["heading_deg"] = self.heading.value
-            else:
-                changes["diameter_m"] = self.size.value
-                if o.kind == "branch":
-                    changes["heading_deg"] = self.heading.value
             objects[i] = dataclasses.replace(o, **changes)
         clutter = Clutter(scatterer_density_per_m3=self.density.value,
                           scatterer_size_m=self.block_size.value * _CM,
@@ -484,19 +479,22 @@ class DebrisPanel(_ListPanel):
         return {"objects": tuple(objects), "clutter": clutter}
 
     def _label(self, k: int, item: Any) -> str:
-        return f"{k + 1}: {_OBJECT_NAMES.get(item.kind, item.kind)}"
+        return f"{k + 1}: {kind_of(item).title}"
 
     def _show_item(self, o: Any) -> None:
         self._set(self.position, float(o.position_m))
         self._set(self.depth, float(o.depth_m))
         self._set(self.offset, float(o.offset_m))
-        self._set(self.size, float(o.length_m if o.kind == "metal" else o.diameter_m))
+        kind = kind_of(o)
+        self._set(self.size, float(getattr(o, kind.size_field)))
         self._set(self.heading, float(np.clip(getattr(o, "heading_deg", 0.0), -180, 180)))
-        self.heading.disabled = o.kind == "boulder"
+        self.heading.disabled = not kind.has_heading
 
 
 # --------------------------------------------------------------------------- radar
 _STACKING = tuple(2**k for k in range(17))
+#: Radar.polarization values with their plain names.
+_POLARIZATION_OPTIONS = [("across the line", "across_line"), ("along the line", "along_line")]
 
 
 class RadarPanel(Panel):
@@ -504,7 +502,7 @@ class RadarPanel(Panel):
 
     def __init__(self) -> None:
         self.pulse = dropdown("pulse shape", list(pulses.pulse_names()), "ricker")
-        self.frequency = log_slider("centre frequency (MHz)", 800.0, 50.0, 3000.0,
+        self.frequency = log_slider("centre frequency (MHz)", 800.0, 50.0, 6000.0,
                                     readout_format=".0f")
         self.own_bandwidth = widgets.Checkbox(value=True, indent=False,
                                               description="pulse's own bandwidth")
@@ -518,6 +516,7 @@ class RadarPanel(Panel):
         self.gain = float_slider("antenna gain (dBi)", 6.0, -10.0, 30.0, 0.5, readout_format=".1f")
         self.beamwidth = float_slider("beamwidth (deg)", 60.0, 5.0, 180.0, 1.0,
                                       readout_format=".0f")
+        self.polarization = dropdown("electric field", _POLARIZATION_OPTIONS, "across_line")
         self.dt = log_slider("sample interval (ps)", 100.0, 1.0, 10000.0, readout_format=".0f")
         self.window = log_slider("time window (ns)", 51.2, 1.0, 100000.0, readout_format=".1f")
         self.spacing = log_slider("trace spacing (cm)", 5.0, 0.1, 10000.0, readout_format=".1f")
@@ -527,10 +526,11 @@ class RadarPanel(Panel):
             section_title("Pulse"), self.pulse, self.frequency, self.own_bandwidth,
             self.bandwidth, section_title("Power and noise"), self.power, self.noise,
             self.stacking, section_title("Antenna"), self.height, self.gain, self.beamwidth,
-            section_title("Recording and survey line"), self.dt, self.window, self.spacing,
-            self.start, self.end])
+            self.polarization, section_title("Recording and survey line"), self.dt,
+            self.window, self.spacing, self.start, self.end])
         self._watch(self.pulse, self.frequency, self.own_bandwidth, self.bandwidth, self.height,
-                    self.power, self.noise, self.stacking, self.gain, self.beamwidth, self.dt,
+                    self.power, self.noise, self.stacking, self.gain, self.beamwidth,
+                    self.polarization, self.dt,
                     self.window, self.spacing, self.start, self.end)
         self.own_bandwidth.observe(
             lambda c: setattr(self.bandwidth, "disabled", bool(c["new"])), names="value")
@@ -557,6 +557,7 @@ class RadarPanel(Panel):
                 self._quiet -= 1
         self._set(self.gain, float(r.antenna_gain_dbi))
         self._set(self.beamwidth, float(r.beamwidth_deg))
+        self._set(self.polarization, r.polarization)
         self._set(self.dt, r.dt_s / _PS)
         self._set(self.window, r.time_window_s / _NS)
         self._set(self.spacing, s.trace_spacing_m / _CM)
@@ -570,7 +571,8 @@ class RadarPanel(Panel):
             transmit_power_dbm=self.power.value, noise_floor_dbm=self.noise.value,
             stacking=int(self.stacking.value), antenna_gain_dbi=self.gain.value,
             dt_s=self.dt.value * _PS, time_window_s=self.window.value * _NS,
-            antenna_height_m=self.height.value, beamwidth_deg=self.beamwidth.value)
+            antenna_height_m=self.height.value, beamwidth_deg=self.beamwidth.value,
+            polarization=self.polarization.value)
         survey = Survey(self.start.value, self.end.value, self.spacing.value * _CM)
         return {"radar": radar, "survey": survey}
 

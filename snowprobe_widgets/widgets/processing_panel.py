@@ -74,6 +74,8 @@ class ProcessingPanel(widgets.VBox):
         self.mig_velocity = float_slider("velocity (m/ns)", 0.23, 0.03, 0.2998, 0.005,
                                          readout_format=".3f")
         self.mig_method = dropdown("method", list(MIGRATION_METHODS), MIGRATION_METHODS[0])
+        # migration goes through the air gap: it follows the radar's antenna height
+        self.mig_height = float_slider("antenna height (m)", 0.5, 0.0, 30.0, 0.05)
         self._params = {
             "time_zero": (self.tz_target, self.tz_threshold),
             "dewow": (self.dewow_window,),
@@ -81,7 +83,7 @@ class ProcessingPanel(widgets.VBox):
             "gain": (self.gain_kind, self.gain_power, self.gain_atten, self.gain_max,
                      self.gain_window),
             "bandpass": (self.bp_low, self.bp_high, self.bp_order),
-            "migrate": (self.mig_velocity, self.mig_method),
+            "migrate": (self.mig_velocity, self.mig_method, self.mig_height),
             "envelope": (),
         }
         rows: list[widgets.Widget] = [section_title("Processing, in the order it runs")]
@@ -104,6 +106,14 @@ class ProcessingPanel(widgets.VBox):
         if not self._quiet:
             for cb in self._callbacks:
                 cb()
+
+    def follow_antenna_height(self, antenna_height_m: float) -> None:
+        """Migrate through an air gap of ``antenna_height_m`` (set without firing)."""
+        self._quiet += 1
+        try:
+            self.mig_height.value = float(antenna_height_m)
+        finally:
+            self._quiet -= 1
 
     def _sync_gain(self) -> None:
         kind = self.gain_kind.value
@@ -160,6 +170,7 @@ class ProcessingPanel(widgets.VBox):
             if p.get("velocity_m_s") is not None:
                 put(self.mig_velocity, p["velocity_m_s"] / 1e9)
             put(self.mig_method, p.get("method"))
+            put(self.mig_height, p.get("antenna_height_m"))
 
     def chain(self) -> ProcessingChain:
         """The chain the controls describe (switched-off steps kept, disabled)."""
@@ -180,7 +191,10 @@ class ProcessingPanel(widgets.VBox):
             "bandpass": {"low_hz": self.bp_low.value * _MHZ, "high_hz": self.bp_high.value * _MHZ,
                          "order": int(self.bp_order.value)},
             "migrate": {"velocity_m_s": self.mig_velocity.value * 1e9,
-                        "method": self.mig_method.value},
+                        "method": self.mig_method.value,
+                        "antenna_height_m": self.mig_height.value,
+                        "surface_time_s": (self.tz_target.value * _NS
+                                           if self.switches["time_zero"].value else None)},
             "envelope": {},
         }
         return ProcessingChain(tuple(

@@ -19,6 +19,7 @@ import numpy as np
 
 from snowprobe_widgets import raypaths
 from snowprobe_widgets.synthesis import column_optics
+from snowprobe_widgets.targets import kind_of
 from snowprobe_widgets.widgets._common import as_f32, message_line, show_message
 
 _NS, _MHZ = 1e-9, 1e6
@@ -28,7 +29,8 @@ _CRUST_COLOUR = "#9fd6e8"
 _SOIL_COLOUR = "#8b6b4a"
 _ROCK_COLOUR = "#7d7d7d"
 _PERSON_COLOUR = "#d9480f"
-_DEBRIS_COLOURS = {"boulder": "#5f5f5f", "branch": "#6b4f1d", "metal": "#111111"}
+_KIND_COLOURS = {"person": _PERSON_COLOUR, "boulder": "#5f5f5f", "branch": "#6b4f1d",
+                 "metal": "#111111"}
 _GROUND_SHOWN_M = 0.5
 _WETNESS_FULL_PERCENT = 12.0
 _SPECTRUM_FLOOR_DB = -80.0
@@ -41,41 +43,6 @@ def wetness_colour(lwc_percent: float, ice_crust: bool = False) -> str:
     f = float(np.clip(lwc_percent / _WETNESS_FULL_PERCENT, 0.0, 1.0))
     r, g, b = (_DRY_RGB + f * (_WET_RGB - _DRY_RGB)).round().astype(int)
     return f"#{r:02x}{g:02x}{b:02x}"
-
-
-def _ellipse(cx: float, cz: float, a: float, b: float, n: int = 40) -> tuple[np.ndarray, ...]:
-    t = np.linspace(0.0, 2 * np.pi, n)
-    return cx + a * np.cos(t), cz + b * np.sin(t)
-
-
-def _outline(obj: Any) -> tuple[np.ndarray, np.ndarray]:
-    """Outline of a buried thing in the vertical plane of the line (x along, z down), m.
-
-    The along-line half length is the horizontal footprint projected on the line
-    (drawing geometry only).
-    """
-    kind = obj.kind
-    if kind == "person":
-        h = math.radians(obj.heading_deg)
-        half = 0.5 * math.hypot(obj.body_length_m * math.cos(h), obj.body_width_m * math.sin(h))
-        c = 0.5 * obj.body_thickness_m
-        return _ellipse(obj.position_m, obj.depth_m + c, half, c)
-    if kind == "boulder":
-        r = 0.5 * obj.diameter_m
-        return _ellipse(obj.position_m, obj.depth_m + r, r, r)
-    if kind == "branch":
-        h = math.radians(obj.heading_deg)
-        half = max(0.5 * abs(obj.length_m * math.cos(h)), 0.5 * obj.diameter_m)
-        r = 0.5 * obj.diameter_m
-        return _ellipse(obj.position_m, obj.depth_m + r, half, r)
-    # metal plate: a tilted segment
-    h, tilt = math.radians(obj.heading_deg), math.radians(obj.tilt_deg)
-    half = 0.5 * obj.length_m * math.cos(tilt) * abs(math.cos(h))
-    dz = obj.length_m * abs(math.sin(tilt))
-    x = np.array([obj.position_m - half, obj.position_m + half])
-    z = np.array([obj.depth_m, obj.depth_m + dz]) if tilt >= 0 else np.array(
-        [obj.depth_m + dz, obj.depth_m])
-    return x, z
 
 
 def _stack(polys: list[tuple[np.ndarray, np.ndarray]]) -> tuple[np.ndarray, np.ndarray]:
@@ -186,9 +153,8 @@ class CrossSectionView(widgets.VBox):
                  for t, la in zip(tops, snow.layers, strict=True)]
         lx, lz = _stack(polys)
         g_colour = _SOIL_COLOUR if scenario.ground.kind == "soil" else _ROCK_COLOUR
-        bx, bz = _stack([_outline(t) for t in targets])
-        colours = [_PERSON_COLOUR if t.kind == "person" else _DEBRIS_COLOURS.get(t.kind, "#333")
-                   for t in targets] or [_PERSON_COLOUR]
+        bx, bz = _stack([kind_of(t).outline(t) for t in targets])
+        colours = [_KIND_COLOURS.get(t.kind, "#333") for t in targets] or [_PERSON_COLOUR]
         with self.figure.hold_sync():
             with self.layers.hold_sync():
                 self.layers.x, self.layers.y = as_f32(lx), as_f32(lz)
@@ -260,6 +226,10 @@ class CrossSectionView(widgets.VBox):
 
 
 # --------------------------------------------------------------------------- trace
+_REFERENCE_LABELS = ("FDTD (plane wave, normalised)",
+                     "frequency domain, same media (normalised)")
+
+
 class TraceView(widgets.VBox):
     """One trace (A-scan) with its echoes labelled and an optional FDTD overlay."""
 
@@ -278,8 +248,7 @@ class TraceView(widgets.VBox):
         self.reference = bqplot.Lines(
             x=np.zeros((2, 2)), y=np.zeros((2, 2)), scales=nsc,
             colors=["#2f855a", "#b7791f"], line_style="solid", stroke_width=1.2,
-            labels=["FDTD (plane wave, normalised)",
-                    "frequency domain, same media (normalised)"],
+            labels=list(_REFERENCE_LABELS),
             display_legend=True, visible=False)
         axes = [bqplot.Axis(scale=self.t_scale, label="two-way time (ns)", grid_lines="none"),
                 bqplot.Axis(scale=self.a_scale, side="left", label="amplitude (model units)",
@@ -299,10 +268,18 @@ class TraceView(widgets.VBox):
                                           "same snow column")
         self.progress = widgets.FloatProgress(value=0.0, min=0.0, max=1.0,
                                               description="FDTD", bar_style="info")
+        self.fdtd2d_button = widgets.Button(
+            description="run 2-D check (FDTD, first object)",
+            layout=widgets.Layout(width="auto"),
+            tooltip="slow: a 2-D time-domain solution of the first object as a cylinder "
+            "across the line, antenna at this trace")
+        self.progress2d = widgets.FloatProgress(value=0.0, min=0.0, max=1.0,
+                                                description="2-D FDTD", bar_style="info")
         self.agreement = widgets.HTML()
         self.message = message_line()
         super().__init__(children=[self.title, self.figure,
                                    widgets.HBox([self.fdtd_button, self.progress]),
+                                   widgets.HBox([self.fdtd2d_button, self.progress2d]),
                                    self.agreement, self.message], **kwargs)
 
     @property
@@ -336,10 +313,11 @@ class TraceView(widgets.VBox):
         self._ref_axis.visible = False
         self.agreement.value = ""
         self.progress.value = 0.0
+        self.progress2d.value = 0.0
 
     def show_reference(self, time_s: np.ndarray, fdtd_amp: np.ndarray, fd_amp: np.ndarray,
-                       text: str) -> None:
-        """Overlay the FDTD and frequency-domain reference traces, each at peak 1."""
+                       text: str, labels: tuple[str, str] = _REFERENCE_LABELS) -> None:
+        """Overlay a full-wave reference and the model's trace, each at peak 1."""
         def unit(x: np.ndarray) -> np.ndarray:
             m = float(np.max(np.abs(x)))
             return x / m if m > 0 else x
@@ -348,6 +326,7 @@ class TraceView(widgets.VBox):
         with self.reference.hold_sync():
             self.reference.x = as_f32(np.vstack([t_ns, t_ns]))
             self.reference.y = as_f32(np.vstack([unit(fdtd_amp), unit(fd_amp)]))
+            self.reference.labels = list(labels)
             self.reference.visible = True
         self._ref_axis.visible = True
         self.agreement.value = text

@@ -112,6 +112,22 @@ def test_each_radar_control_reaches_the_scenario(app: ScenarioExplorer, control:
     assert not _same(app.raw_radargram.data, before)
 
 
+def test_polarization_control_reaches_the_scenario_and_survives_other_controls(
+        app: ScenarioExplorer) -> None:
+    app.radar.polarization.value = "along_line"
+    assert app.scenario.radar.polarization == "along_line"
+    app.radar.power.value = 25.0
+    assert app.scenario.radar.polarization == "along_line"
+
+
+def test_validity_warnings_show_under_the_status_line(app: ScenarioExplorer) -> None:
+    # the model's words (targets.validity_warnings), escaped, one line each
+    app.radar.frequency.value = 50.0
+    assert "the body is small against the wavelength" in app.validity.value
+    app.radar.frequency.value = 800.0
+    assert "the body is small" not in app.validity.value
+
+
 def test_trace_spacing_and_window_change_the_section_shape(app: ScenarioExplorer) -> None:
     app.radar.spacing.value = 10.0
     assert app.radargram.data.shape[1] == 101
