@@ -331,6 +331,7 @@ class TrainingSession(widgets.VBox):
         self._exercise = ex
         self._marks = []
         self._state = "marking"
+        self._set_round_controls()  # before any status update says "marking"
         self.debrief_box.children = []
         self.nobody_button.value = False
         rv = self.radargram_view
@@ -345,7 +346,6 @@ class TrainingSession(widgets.VBox):
                                     f"{html.escape(self._level_of_record().title)} · session "
                                     f"seed {self.record.session_seed}")
         show_message(self.message, "")
-        self._set_round_controls()
         self._shown_at = time.monotonic()
         self._touch_status()
 
