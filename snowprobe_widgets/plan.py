@@ -56,8 +56,8 @@ from .coverage import (
     coverage,
 )
 from .search_theory import (
+    lane_by_lane_pod,
     lateral_curve_arrays,
-    parallel_sweep_pod,
     random_search_pod,
     sweep_width_m,
 )
@@ -486,7 +486,8 @@ class SearchPlan:
     sweep_width_median_m : float
         Sweep width interpolated to the median burial depth.
     pod_parallel, pod_random : ndarray, shape (n_depths,)
-        Probability of detection at each depth once the area is covered, by each form.
+        Probability of detection at each depth once the area is covered, by each form
+        (parallel: lane after lane over this area, edges included).
     form : str
         "parallel sweep" or "random search": the one used for :attr:`pod` and the summary.
     form_reason : str
@@ -562,11 +563,23 @@ def _depth_weights(lateral: LateralRange, dist: DepthDistribution) -> tuple[np.n
     return dist.weights(lateral.depth_m)
 
 
-def _pod_depths(lateral: LateralRange, spacing_m: float) -> tuple[np.ndarray, np.ndarray]:
-    w = lateral.sweep_width_m
-    par = np.array([parallel_sweep_pod(lateral.offset_m, row, spacing_m)
-                    for row in lateral.probability])
-    return w, par
+def _lane_progress(lateral: LateralRange, area: DebrisArea, cov: Coverage
+                   ) -> tuple[np.ndarray, np.ndarray]:
+    """Parallel-sweep probability over time at each depth, as breakpoints.
+
+    Returns ``(times_s, pod)``: times at the start and end of every lane and the
+    probability of detection there, shape (2 n_lanes + 1,) and (n_depths, 2 n_lanes + 1);
+    along a lane it grows linearly with the track flown.
+    """
+    n = cov.lane_y_m.size
+    ys, length = area.width_profile(cov.heading_deg, int(np.clip(8 * n, 400, 4000)))
+    after = np.array([lane_by_lane_pod(lateral.offset_m, row, cov.lane_y_m, ys, length)
+                      for row in lateral.probability])
+    times = np.empty(2 * n + 1)
+    times[0], times[1::2], times[2::2] = 0.0, cov.lane_start_s, cov.lane_end_s
+    pod = np.empty((after.shape[0], 2 * n + 1))
+    pod[:, 0], pod[:, 1::2], pod[:, 2::2] = 0.0, after[:, :-1], after[:, 1:]
+    return times, pod
 
 
 def plan_search(lateral: LateralRange, area: DebrisArea, platform: Platform, spacing_m: float,
@@ -613,7 +626,9 @@ def plan_search(lateral: LateralRange, area: DebrisArea, platform: Platform, spa
     cov = coverage(area, platform, s, heading_deg)
 
     weights, deeper = _depth_weights(lateral, dist)
-    w, par = _pod_depths(lateral, s)
+    w = lateral.sweep_width_m
+    lane_t, lane_pod = _lane_progress(lateral, area, cov)
+    par = lane_pod[:, -1]
     med = dist.median_m if lateral.depth_m.size > 1 else float(lateral.depth_m[0])
     w_med = float(np.interp(med, lateral.depth_m, w))
     form, reason = _form(s, w_med, "the median burial depth" if lateral.depth_m.size > 1
@@ -622,15 +637,13 @@ def plan_search(lateral: LateralRange, area: DebrisArea, platform: Platform, spa
     horizon = max(1.25 * cover_min, 30.0)
     minute = np.unique(np.append(np.linspace(0.0, horizon, n_t), cover_min))
     done = cov.track_done_m(minute * 60.0)
-    frac = done / cov.track_m if cov.track_m > 0 else np.zeros_like(done)
-    pod_par_d = frac[:, None] * par[None, :]
+    pod_par_d = np.array([np.interp(minute * 60.0, lane_t, row) for row in lane_pod]).T
     pod_rand_d = random_search_pod(w[None, :], done[:, None], cov.area_m2)
     pod_par = pod_par_d @ weights
     pod_rand = pod_rand_d @ weights
     chosen = pod_par if form == "parallel sweep" else pod_rand
-    par_med = float(np.interp(med, lateral.depth_m, par))
-    pod_med = (frac * par_med if form == "parallel sweep"
-               else random_search_pod(w_med, done, cov.area_m2))
+    pod_med = np.array([np.interp(med, lateral.depth_m, row) for row in (
+        pod_par_d if form == "parallel sweep" else pod_rand_d)])
     probe = probes.pod(minute * 60.0, lateral.depth_m, cov.area_m2) @ weights
 
     burial = arrival + minute
@@ -769,7 +782,7 @@ def spacing_tradeoff(lateral: LateralRange, area: DebrisArea, platform: Platform
     rows = []
     for s in sp:
         cov = coverage(area, platform, float(s), heading_deg)
-        _w, par = _pod_depths(lateral, float(s))
+        par = _lane_progress(lateral, area, cov)[1][:, -1]
         rand = 1.0 - np.exp(-w * cov.track_m / cov.area_m2)
         p_par, p_rand = float(par @ weights), float(rand @ weights)
         form, _ = _form(float(s), w_med)
