@@ -239,3 +239,17 @@ def test_curves_at_one_depth_stand_for_every_burial():
     assert plan.median_depth_m == 1.0
     assert plan.pod == pytest.approx(1 - np.exp(-4.01 * 200.0 / 1600.0), abs=1e-3)
     assert any("depth distribution is not used" in s for s in plan.summary)
+
+
+def test_two_way_time_through_air_and_snow():
+    # 2 (h + sum d_j n_j) / c0 straight down; below the snowpack the bottom layer goes on
+    from snowprobe_widgets.constants import C0_M_S
+    from snowprobe_widgets.plan import two_way_time_s
+
+    sc = Scenario.example("crust_and_ski")
+    fc = sc.radar.center_frequency_hz
+    n = [float(la.material().refractive_index(fc).real) for la in sc.snowpack.layers]
+    d = [la.thickness_m for la in sc.snowpack.layers]
+    depth = sc.snowpack.depth_m + 1.0  # 1 m past the bottom
+    expected = 2 * (5.0 + sum(di * ni for di, ni in zip(d, n, strict=True)) + 1.0 * n[-1]) / C0_M_S
+    assert two_way_time_s(sc, 5.0, depth) == pytest.approx(expected, rel=1e-9)
