@@ -505,6 +505,8 @@ class SearchPlan:
     beyond_table : float
         Share of the finds whose dig-out time lies past the survival table's end (not
         counted in the two numbers above).
+    probe_found_alive, probe_beyond_table : float or None, float
+        The same for the probe line over both its passes.
     summary : tuple of str
         Plain-language sentences.
     """
@@ -532,6 +534,8 @@ class SearchPlan:
     found_alive: float | None
     expected_survival: float | None
     beyond_table: float
+    probe_found_alive: float | None
+    probe_beyond_table: float
     summary: tuple[str, ...]
 
     @property
@@ -647,17 +651,12 @@ def plan_search(lateral: LateralRange, area: DebrisArea, platform: Platform, spa
     probe = probes.pod(minute * 60.0, lateral.depth_m, cov.area_m2) @ weights
 
     burial = arrival + minute
-    dug = burial + dig
-    inside = dug <= table.last_minute + 1e-9
-    surv = np.full(minute.shape, np.nan)
-    if inside.any():
-        surv[inside] = table.at(dug[inside])[0]
-    step = np.diff(chosen, prepend=0.0)
-    total = float(chosen[-1])
-    counted = float(step[inside].sum())
-    found_alive = float(np.sum(step[inside] * surv[inside])) if counted > 0 else None
-    expected = found_alive / counted if found_alive is not None and counted > 0 else None
-    beyond = (total - counted) / total if total > 0 else 0.0
+    surv, found_alive, expected, beyond = _alive(minute, chosen, arrival + dig, table)
+    probe_end = (probes.pass_time_s(cov.area_m2, False)
+                 + probes.pass_time_s(cov.area_m2, True)) / 60.0
+    probe_min = np.linspace(0.0, probe_end, n_t)
+    probe_alive = _alive(probe_min, probes.pod(probe_min * 60.0, lateral.depth_m,
+                                               cov.area_m2) @ weights, arrival + dig, table)
 
     import xarray as xr
 
@@ -676,8 +675,30 @@ def plan_search(lateral: LateralRange, area: DebrisArea, platform: Platform, spa
         pod_parallel=par, pod_random=1.0 - np.exp(-w * cov.track_m / cov.area_m2),
         form=form, form_reason=reason, arrival_min=arrival, dig_min=dig, curves=curves,
         found_alive=found_alive, expected_survival=expected, beyond_table=beyond,
-        summary=())
+        probe_found_alive=probe_alive[1], probe_beyond_table=probe_alive[3], summary=())
     return dataclasses.replace(plan, summary=_summary(plan))
+
+
+def _alive(minute: np.ndarray, pod: np.ndarray, offset_min: float, table: SurvivalTable
+           ) -> tuple[np.ndarray, float | None, float | None, float]:
+    """Survival of the finds of a search: a find at ``minute`` is dug out ``offset_min``
+    later on the burial clock (arrival + digging).
+
+    Returns ``(survival at each minute (NaN past the table), found alive, mean survival of
+    the finds, share of the finds past the table's end)``; finds past the end are not
+    counted (the table says nothing there).
+    """
+    dug = minute + offset_min
+    inside = dug <= table.last_minute + 1e-9
+    surv = np.full(minute.shape, np.nan)
+    if inside.any():
+        surv[inside] = table.at(dug[inside])[0]
+    step = np.diff(pod, prepend=0.0)
+    total = float(pod[-1])
+    counted = float(step[inside].sum())
+    alive = float(np.sum(step[inside] * surv[inside])) if counted > 0 else None
+    mean = alive / counted if alive is not None else None
+    return surv, alive, mean, (total - counted) / total if total > 0 else 0.0
 
 
 def _pct(x: float) -> str:
@@ -741,11 +762,24 @@ def _summary(plan: SearchPlan) -> tuple[str, ...]:
     t1 = probes.pass_time_s(cov.area_m2, False) / 60.0
     t2 = probes.pass_time_s(cov.area_m2, True) / 60.0
     p_probe = float(np.interp(minutes, c["minute"].values, c["pod_probe_line"].values))
+    alive = ("" if plan.probe_found_alive is None else
+             f"; over both passes it finds the person alive with "
+             f"{_pct(plan.probe_found_alive)} probability"
+             + (f" ({_pct(plan.probe_beyond_table)} of its finds fall past the table's end "
+                "and are not counted)" if plan.probe_beyond_table > 0.005 else ""))
     out.append(f"A probe line of {probes.team_size} on a {100 * probes.grid_m:.0f} cm grid "
                f"needs {t1:.0f} min for the first pass to {probes.first_depth_m:g} m and "
                f"{t2:.0f} min more to {probes.full_depth_m:g} m; in the radar's "
                f"{minutes:.0f} min it would find the person with {_pct(p_probe)} "
-               "probability.")
+               f"probability{alive}.")
+    w_lane = float(np.clip(plan.sweep_width_median_m, 0.1, 100.0))
+    if abs(w_lane - plan.spacing_m) > 0.05 * plan.spacing_m:
+        wide = coverage(plan.area, plan.platform, w_lane, cov.heading_deg)
+        found = float(_lane_progress(plan.lateral, plan.area, wide)[1][:, -1]
+                      @ plan.depth_weights)
+        out.append(f"For comparison, lanes as far apart as that sweep width ({w_lane:.1f} m) "
+                   f"would clear the area in {wide.time_s / 60:.0f} min and find the person "
+                   f"with {_pct(found)} probability (parallel-sweep form).")
     cut = plan.lateral.cut_short
     if cut.any():
         out.append(f"The lateral range curve has not fallen to zero at its outermost offset "

@@ -253,3 +253,20 @@ def test_two_way_time_through_air_and_snow():
     depth = sc.snowpack.depth_m + 1.0  # 1 m past the bottom
     expected = 2 * (5.0 + sum(di * ni for di, ni in zip(d, n, strict=True)) + 1.0 * n[-1]) / C0_M_S
     assert two_way_time_s(sc, 5.0, depth) == pytest.approx(expected, rel=1e-9)
+
+
+def test_probe_line_found_alive_by_hand():
+    # 10 m x 10 m, 8 probers, 10 s per hole to 1.5 m and 20 s to 3 m: first pass 0-8.33 min,
+    # second 8.33-25 min. Search starts at the burial, no digging time. On Rauch 2024
+    # (straight lines (0, 1) - (10, 0.91) - (30, 0.30)) the mean survival of finds spread
+    # evenly over the first pass is S(4.17 min) = 0.9625; over the second pass
+    # 0.1 * S(9.17) + 0.9 * S(17.5) = 0.1 * 0.9175 + 0.9 * 0.68125 = 0.7049.
+    # Depths 0.5 and 1 m: 0.88 in pass 1, then 0.12 * 0.88 in pass 2; 2 m: 0.88 in pass 2.
+    lr = _cookie_cutter(2.0)
+    plan = plan_search(lr, DebrisArea.rectangle(10.0, 10.0), PLATFORMS["drone"], 2.0,
+                       arrival_min=0.0, dig_min=0.0, survival=RAUCH, n_times=2001)
+    w = plan.depth_weights
+    shallow = (w[0] + w[1]) * (0.88 * 0.9625 + 0.12 * 0.88 * 0.7049)
+    deep = w[2] * 0.88 * 0.7049
+    assert plan.probe_found_alive == pytest.approx(shallow + deep, abs=0.002)
+    assert plan.probe_beyond_table == 0.0
