@@ -17,6 +17,7 @@ import bqplot
 import ipywidgets as widgets
 import numpy as np
 
+from snowprobe_widgets import scenario_files
 from snowprobe_widgets.burial_statistics import (
     DEFAULT_DEPTH_DISTRIBUTION,
     DEFAULT_SURVIVAL_TABLE,
@@ -37,7 +38,6 @@ from snowprobe_widgets.plan import (
     spacing_tradeoff,
     two_way_time_s,
 )
-from snowprobe_widgets.scenario_files import MAX_FILE_BYTES
 from snowprobe_widgets.scene import Scenario
 from snowprobe_widgets.widgets._common import (
     as_f32,
@@ -542,12 +542,9 @@ class SearchPlanBoard(widgets.VBox):
         content = bytes(item.get("content", b""))
         self.upload.value = ()
         try:
-            if len(content) > MAX_FILE_BYTES:
-                raise ValueError(f"{name} is {len(content)} bytes; at most {MAX_FILE_BYTES} "
-                                 "allowed")
-            self.add_design(name, Scenario.from_json(content))
+            self.add_design(name, scenario_files.loads(content, source=name))
         except ValueError as exc:  # the design on screen stays as it was
-            show_message(self.message, f"{name} was not opened: {exc}")
+            show_message(self.message, f"not opened: {exc}")
 
     def _on_sweep_upload(self, change: dict[str, Any]) -> None:
         files = change["new"]
