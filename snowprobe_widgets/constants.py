@@ -14,3 +14,6 @@ RHO_ICE_KG_M3: float = 917.0
 RHO_WATER_KG_M3: float = 1000.0
 #: Amplitude nepers to decibels: 20 / ln(10).
 NP_TO_DB: float = 8.685889638065037
+#: Highest volumetric liquid water content, %, the wet-snow models are calibrated for
+#: (materials.wet_snow); the one limit both ``Layer`` and the materials apply.
+MAX_LWC_PERCENT: float = 12.0

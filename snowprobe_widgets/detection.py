@@ -262,7 +262,8 @@ def detect(radargram: Radargram, *, threshold: float = DEFAULT_THRESHOLD_DB,
         h = 0.5 * C0_M_S * t_surf
         ground = math.inf
     if chain is None:
-        chain = P.ProcessingChain.default(fc)
+        chain = P.ProcessingChain.default(fc, dt_s=radargram.dt_s,
+                                          record_s=radargram.dt_s * radargram.time_s.size)
     elif not isinstance(chain, P.ProcessingChain):
         raise ValueError(f"chain must be a ProcessingChain or None, got {type(chain).__name__}")
     processed = chain.apply(radargram)

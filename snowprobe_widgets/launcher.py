@@ -8,11 +8,19 @@ notebooks of the ``snowprobe_widgets.dashboards`` package (the repository's ``da
 folder, shipped inside the wheel), shown through the package's own Voila template so the
 page loads nothing from beyond the server.
 
-Serving is careful with the machine it runs on: every page load starts a Python kernel
-(about 100 MB each with Voila 0.5, and it stays after the visitor leaves), so idle kernels
-are ended after ``--idle-minutes`` and at most ``--max-sessions`` run at once. The server
-binds to 127.0.0.1 unless ``--host`` names another address; then token authentication is
-on, the token is printed once, and a warning says that each visitor gets a kernel here.
+Serving is careful with the machine it runs on: every page load starts a Python kernel,
+so a session whose page never connects, or whose page closed, is ended within a minute
+(:data:`RELEASE_AFTER_S`), a connected page idle for ``--idle-minutes`` is ended too, a
+reload frees the older sessions of the same browser, and at most ``--max-sessions`` run at
+once (a visitor beyond that gets a page saying when to try again). Each kernel's memory is
+bounded (``--kernel-memory-mb``, enforced on the kernel process) and its work per update is
+bounded from it (:mod:`snowprobe_widgets.serving`). Kernels know they are served
+(``SNOWPROBE_SERVED=1``): their pages upload and download files and never name a server path.
+
+The server binds to 127.0.0.1 unless ``--host`` names another address; then token
+authentication is on, the token is printed once, and a warning says that each visitor gets
+a kernel here. ``--token`` asks for the token on loopback too (other accounts on a shared
+computer can reach a loopback address).
 
 Voila and the Jupyter server are imported only by ``serve``, so ``list`` and ``--version``
 start in a few tens of milliseconds.
@@ -24,6 +32,7 @@ import argparse
 import errno
 import ipaddress
 import json
+import math
 import os
 import secrets
 import signal
@@ -36,7 +45,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from snowprobe_widgets import __version__
+from snowprobe_widgets import __version__, serving
 from snowprobe_widgets.cautions import CAUTION_TEXT
 
 #: Exit status of a usage error (bad option, unknown dashboard, port in use).
@@ -54,6 +63,30 @@ DEFAULT_IDLE_MINUTES: float = 15.0
 #: Default upper bound on the number of kernels running at once.
 DEFAULT_MAX_SESSIONS: int = 8
 
+#: A session whose page never connected, or disconnected, is ended this long after its
+#: last activity (seconds): a plain GET without a browser holds a slot for no longer.
+RELEASE_AFTER_S: float = 45.0
+
+#: How often the launcher looks for sessions to release, seconds.
+RELEASE_CHECK_S: float = 5.0
+
+#: Sessions one browser may hold on one dashboard; a further page of it frees the oldest.
+SESSIONS_PER_BROWSER: int = 2
+
+#: How long the server waits for a cell's outputs after the kernel's reply, seconds.
+IOPUB_WAIT_S: int = 300
+
+#: Cookie naming a browser (a random id, nothing else), so a reload can free its sessions.
+VISITOR_COOKIE: str = "snowprobe_visitor"
+
+#: Largest message a page may send, bytes (an upload of a scenario file is at most 2 MB).
+MAX_PAGE_MESSAGE_BYTES: int = 4 * 2**20
+
+#: Address space a kernel needs beyond its working memory (code, libraries, thread stacks),
+#: MiB: measured at about 450 MiB for a design-dashboard kernel (tests/benchmarks/
+#: bench_crowd.py), with room.
+KERNEL_BASE_ADDRESS_SPACE_MB: int = 1024
+
 #: Content-Security-Policy of every page: the browser itself refuses anything that is not
 #: from this server (the page must work offline; a stray CDN link fails loudly in tests).
 PAGE_POLICY: str = (
@@ -65,6 +98,27 @@ PAGE_POLICY: str = (
 _PACKAGE_DIR = Path(__file__).resolve().parent
 _TEMPLATE_ROOT = _PACKAGE_DIR / "voila_template"
 _LOOPBACK_NAMES = {"localhost", "localhost.localdomain", "ip6-localhost"}
+
+
+#: The part of ``snowprobe serve --help`` that says who can reach the page.
+SERVE_EPILOG: str = """\
+who can reach the page:
+  default (--host 127.0.0.1, no --token)
+      every program and every user account on THIS computer, without a password;
+      no other machine. On a shared computer, add --token.
+  --token (on 127.0.0.1)
+      only whoever has the printed address with its token, on this computer.
+  --host ADDRESS (any other address, e.g. 0.0.0.0)
+      other machines on the network too, always with the token. Everyone with the
+      address and token gets a session here: share it only with people you trust.
+  In every mode the page cannot open or write files on this computer by name:
+  scenarios come in by upload and results leave as downloads.
+
+serving more people:
+  each session needs a share of the CPU and about 150 MB of memory; on two cores
+  about 20 visitors arriving together wait up to a minute. For more, use more
+  cores, several servers behind a proxy, or JupyterHub (see the README).
+"""
 
 
 class LauncherError(Exception):
@@ -118,9 +172,14 @@ class ServeOptions:
     open_browser : bool
         Open the address in this computer's web browser.
     workdir : pathlib.Path
-        Working directory of the kernels (where relative save paths land).
+        Working directory of the kernels.
     verbose : bool
         Show the server's own log lines.
+    token_required : bool
+        Ask for a token even on a loopback address (always on for other addresses).
+    kernel_memory_mb : float or None
+        Working memory each kernel may use, MiB (None: from this computer's memory and
+        ``max_sessions``, :func:`default_kernel_memory_mb`).
     """
 
     dashboard: Dashboard | None
@@ -132,11 +191,40 @@ class ServeOptions:
     open_browser: bool
     workdir: Path
     verbose: bool
+    token_required: bool = False
+    kernel_memory_mb: float | None = None
 
     @property
     def remote(self) -> bool:
         """True when the address can be reached from other machines."""
         return not is_loopback(self.host)
+
+    @property
+    def uses_token(self) -> bool:
+        """True when visitors need the token (remote address or ``--token``)."""
+        return self.remote or self.token_required
+
+    @property
+    def memory_mb(self) -> float:
+        """Working memory per kernel, MiB."""
+        if self.kernel_memory_mb is not None:
+            return self.kernel_memory_mb
+        return default_kernel_memory_mb(self.max_sessions)
+
+
+def physical_memory_mb() -> float:
+    """This computer's physical memory, MiB (4096 when the system does not say)."""
+    try:
+        return os.sysconf("SC_PHYS_PAGES") * os.sysconf("SC_PAGE_SIZE") / 2**20
+    except (ValueError, OSError, AttributeError):
+        return 4096.0
+
+
+def default_kernel_memory_mb(max_sessions: int) -> float:
+    """Working memory per kernel: 70 % of this computer's memory, less 400 MiB for the
+    server, shared by ``max_sessions`` kernels; at least 256 MiB, at most 4 GiB."""
+    share = (0.7 * physical_memory_mb() - 400.0) / max(1, max_sessions)
+    return float(min(max(share, 256.0), 4096.0))
 
 
 # ----------------------------------------------------------------------------- dashboards
@@ -229,38 +317,214 @@ def _page_config_hook(boards: Sequence[Dashboard]) -> Callable[..., dict]:
     return hook
 
 
-def _kernel_manager_class(max_sessions: int, workdir: Path) -> type:
-    """A Jupyter kernel manager that refuses kernels beyond ``max_sessions``.
+def _visitor_of(cookie_header: str) -> str | None:
+    """The browser id in a Cookie header (None when absent or malformed)."""
+    for part in cookie_header.split(";"):
+        name, _, value = part.strip().partition("=")
+        if name == VISITOR_COOKIE and 16 <= len(value) <= 64 and value.isalnum():
+            return value
+    return None
 
-    Its kernels run in ``workdir`` rather than in the (possibly read-only) package folder.
+
+def _visitor_transform() -> type:
+    """A tornado output transform giving every browser a random id cookie.
+
+    It runs before the handler: a request without the cookie gets a fresh id in its own
+    Cookie header (so the kernel it starts is filed under that id) and in the response.
     """
+    import tornado.web
+
+    class VisitorCookie(tornado.web.OutputTransform):
+        def __init__(self, request: Any) -> None:
+            super().__init__(request)
+            self._new: str | None = None
+            if _visitor_of(request.headers.get("Cookie", "")) is None:
+                self._new = secrets.token_hex(16)
+                old = request.headers.get("Cookie", "")
+                request.headers["Cookie"] = (f"{old}; " if old else "") + \
+                    f"{VISITOR_COOKIE}={self._new}"
+
+        def transform_first_chunk(self, status_code: int, headers: Any, chunk: bytes,
+                                  finishing: bool) -> tuple[int, Any, bytes]:
+            if self._new is not None:
+                headers.add("Set-Cookie", f"{VISITOR_COOKIE}={self._new}; Path=/; "
+                                          "HttpOnly; SameSite=Strict")
+            return status_code, headers, chunk
+
+    return VisitorCookie
+
+
+def _kernel_manager_class(options: ServeOptions) -> type:
+    """A Jupyter kernel manager that keeps the number and size of sessions bounded.
+
+    * at most ``options.max_sessions`` kernels; beyond that a 503 page saying when one is
+      expected to free up;
+    * a kernel with no page connected is ended :data:`RELEASE_AFTER_S` after its last
+      activity (a GET without a browser, a closed tab, a page that never drew);
+    * a new page of a dashboard frees the same browser's disconnected sessions of it, and
+      its oldest beyond :data:`SESSIONS_PER_BROWSER` (a reload storm holds two slots);
+    * each kernel process gets an address-space limit (``resource.prlimit``) so that a
+      runaway allocation fails inside that kernel, not the machine;
+    * kernels run in ``options.workdir`` rather than in the package folder.
+    """
+    import time
+
     from jupyter_server.services.kernels.kernelmanager import AsyncMappingKernelManager
+    from tornado.ioloop import PeriodicCallback
     from tornado.web import HTTPError
+
+    max_sessions = options.max_sessions
+    release_s = min(RELEASE_AFTER_S, options.idle_s)
+    address_space = int((options.memory_mb + KERNEL_BASE_ADDRESS_SPACE_MB) * 2**20)
 
     class BoundedKernelManager(AsyncMappingKernelManager):
         _starting = 0
+        _release_callback: Any = None
+
+        def __init__(self, *args: Any, **kwargs: Any) -> None:
+            super().__init__(*args, **kwargs)
+            self._owner: dict[str, tuple[str, str]] = {}
+            self._started: dict[str, float] = {}
+            self._last_connected: dict[str, float] = {}
 
         def cwd_for_path(self, path: str, **kwargs: Any) -> str:
-            return str(workdir)
+            return str(options.workdir)
+
+        def _pooled(self) -> set[str]:
+            """Kernels Voila keeps warm for future visitors (never released here)."""
+            pools = getattr(self, "_pools", {}) or {}
+            ids: set[str] = set()
+            for pool in pools.values():
+                for item in pool:
+                    kernel_id = item.get("kernel_id") if isinstance(item, dict) else None
+                    if isinstance(kernel_id, str):
+                        ids.add(kernel_id)
+            return ids
+
+        def _quiet_s(self, kernel_id: str, now: float) -> float | None:
+            """Seconds since the kernel had a page or activity; None while a page is open."""
+            if self._kernel_connections.get(kernel_id, 0) > 0:
+                self._last_connected[kernel_id] = now
+                return None
+            kernel = self._kernels.get(kernel_id)
+            activity = getattr(kernel, "last_activity", None)
+            last = max(self._started.get(kernel_id, now),
+                       self._last_connected.get(kernel_id, 0.0),
+                       activity.timestamp() if activity is not None else 0.0)
+            return now - last
+
+        async def release_unattended(self) -> list[str]:
+            """End kernels with no page for :data:`RELEASE_AFTER_S`; return their ids."""
+            now = time.time()
+            pooled = self._pooled()
+            ended = []
+            for kernel_id in list(self._kernels):
+                if kernel_id in pooled or kernel_id not in self._started:
+                    continue
+                quiet = self._quiet_s(kernel_id, now)
+                if quiet is not None and quiet > release_s:
+                    ended.append(kernel_id)
+            for kernel_id in ended:
+                self.log.info("snowprobe: ending session %s (no page for %.0f s)",
+                              kernel_id, release_s)
+                await self._end(kernel_id)
+            return ended
+
+        async def _end(self, kernel_id: str) -> None:
+            self._owner.pop(kernel_id, None)
+            self._started.pop(kernel_id, None)
+            self._last_connected.pop(kernel_id, None)
+            if kernel_id in self._kernels:
+                try:
+                    await self.shutdown_kernel(kernel_id)
+                except Exception as exc:  # already gone: nothing to free
+                    self.log.debug("snowprobe: session %s: %s", kernel_id, exc)
+
+        async def _free_for(self, owner: tuple[str, str]) -> None:
+            """Free the browser's earlier sessions of the same page (see the class notes)."""
+            mine = sorted((k for k, o in self._owner.items() if o == owner),
+                          key=lambda k: self._started.get(k, 0.0))
+            connected = [k for k in mine if self._kernel_connections.get(k, 0) > 0]
+            for kernel_id in mine:
+                if kernel_id not in connected:
+                    await self._end(kernel_id)
+            for kernel_id in connected[:max(0, len(connected) - SESSIONS_PER_BROWSER + 1)]:
+                await self._end(kernel_id)
+
+        def retry_after_s(self) -> int:
+            """When a session is expected to free up, seconds (for the busy page)."""
+            now = time.time()
+            waits = []
+            for kernel_id in self._kernels:
+                quiet = self._quiet_s(kernel_id, now)
+                if quiet is not None:
+                    waits.append(max(release_s - quiet, 0.0) + RELEASE_CHECK_S)
+                else:
+                    kernel = self._kernels.get(kernel_id)
+                    activity = getattr(kernel, "last_activity", None)
+                    idle = now - activity.timestamp() if activity is not None else 0.0
+                    waits.append(max(options.idle_s - idle, 0.0) + self.cull_interval)
+            return int(math.ceil(min(waits, default=RELEASE_CHECK_S)))
+
+        def _start_releasing(self) -> None:
+            if self._release_callback is None:
+                self._release_callback = PeriodicCallback(
+                    self.release_unattended, 1000 * RELEASE_CHECK_S)
+                self._release_callback.start()
 
         async def start_kernel(self, *args: Any, **kwargs: Any) -> str:
+            self._start_releasing()
+            env = dict(kwargs.get("env") or {})
+            visitor = _visitor_of(env.pop("HTTP_COOKIE", ""))
+            page = env.get("SCRIPT_NAME", "")
+            if "env" in kwargs:
+                kwargs["env"] = env
             kernel_id = kwargs.get("kernel_id")
             if kernel_id is None or kernel_id not in self:
+                if visitor is not None:
+                    await self._free_for((visitor, page))
                 if len(self._kernels) + self._starting >= max_sessions:
+                    await self.release_unattended()
+                if len(self._kernels) + self._starting >= max_sessions:
+                    wait_s = self.retry_after_s()
                     raise HTTPError(
                         503,
                         reason="All dashboard sessions are in use",
                         log_message=(
                             f"This computer already runs {max_sessions} dashboard sessions, "
-                            "its limit. Close dashboard tabs you no longer use; idle sessions "
-                            "end by themselves after a while. Then reload this page."
-                        ),
+                            f"its limit. A session is expected to free up in about {wait_s} "
+                            "s (closed pages free theirs within a minute): reload this page "
+                            "then. This page also tries again by itself."),
                     )
             self._starting += 1
             try:
-                return await super().start_kernel(*args, **kwargs)
+                kernel_id = await super().start_kernel(*args, **kwargs)
             finally:
                 self._starting -= 1
+            self._started[kernel_id] = time.time()
+            if visitor is not None:
+                self._owner[kernel_id] = (visitor, page)
+            self._bound_memory(kernel_id)
+            return kernel_id
+
+        def _bound_memory(self, kernel_id: str) -> None:
+            import resource
+
+            pid = getattr(getattr(self._kernels.get(kernel_id), "provisioner", None),
+                          "pid", None)
+            if pid is None or not hasattr(resource, "prlimit"):
+                return
+            try:
+                resource.prlimit(pid, resource.RLIMIT_AS, (address_space, address_space))
+            except (OSError, ValueError) as exc:
+                self.log.warning("snowprobe: cannot bound the memory of session %s: %s",
+                                 kernel_id, exc)
+
+        async def shutdown_kernel(self, kernel_id: str, *args: Any, **kwargs: Any) -> None:
+            self._owner.pop(kernel_id, None)
+            self._started.pop(kernel_id, None)
+            self._last_connected.pop(kernel_id, None)
+            await super().shutdown_kernel(kernel_id, *args, **kwargs)
 
     return BoundedKernelManager
 
@@ -286,6 +550,8 @@ def _voila_config(options: ServeOptions, boards: Sequence[Dashboard], token: str
         # visitors loading at once on two cores never finished).
         "ws_ping_interval": 30000,
         "ws_ping_timeout": 90000,
+        # what a page may send in one message: an upload is at most 2 MB
+        "websocket_max_message_size": MAX_PAGE_MESSAGE_BYTES,
     }
     if token is not None:
         config.Voila.token = token
@@ -293,14 +559,21 @@ def _voila_config(options: ServeOptions, boards: Sequence[Dashboard], token: str
     config.VoilaConfiguration.theme = "light"
     config.VoilaConfiguration.show_tracebacks = False
     config.VoilaConfiguration.page_config_hook = _page_config_hook(boards)
-    config.VoilaConfiguration.multi_kernel_manager_class = _kernel_manager_class(
-        options.max_sessions, options.workdir
-    )
+    config.VoilaConfiguration.multi_kernel_manager_class = _kernel_manager_class(options)
+    # the browser id cookie reaches the kernel manager (which removes it from the kernel's
+    # environment) so that a reload can free the same browser's earlier sessions
+    config.VoilaConfiguration.http_header_envs = ["Cookie"]
+    # Voila's executor waits only 4 s (nbclient's default) for a cell's outputs after the
+    # kernel's reply; with ten sessions starting at once the server reads the kernels'
+    # output streams (hundreds of widget messages each) more slowly than that, gave up, and
+    # sent pages without their dashboard that stayed blank for ever (measured:
+    # tests/benchmarks/bench_crowd.py). The outputs do come; wait for them.
+    config.VoilaExecutor.iopub_timeout = IOPUB_WAIT_S
     config.VoilaConfiguration.preheat_kernel = options.warm
     config.VoilaConfiguration.default_pool_size = 1
     config.MappingKernelManager.cull_idle_timeout = idle_s
     config.MappingKernelManager.cull_interval = max(1, min(60, idle_s // 4))
-    config.MappingKernelManager.cull_connected = False
+    config.MappingKernelManager.cull_connected = True
     config.MappingKernelManager.cull_busy = False
     return config
 
@@ -320,8 +593,10 @@ def _print_banner(options: ServeOptions, port: int, token: str | None) -> None:
     lines = [
         f"snowprobe {__version__}: serving {what}",
         f"  open {url}",
-        f"  sessions end after {idle_min:g} min without an open page; at most "
-        f"{options.max_sessions} at once. Stop the server with Ctrl-C.",
+        f"  at most {options.max_sessions} sessions at once, {options.memory_mb:.0f} MB of "
+        f"working memory each; a session ends when its page has been closed for "
+        f"{min(RELEASE_AFTER_S, options.idle_s):.0f} s or idle for {idle_min:g} min. Stop the "
+        "server with Ctrl-C.",
     ]
     if options.remote:
         lines += [
@@ -334,11 +609,96 @@ def _print_banner(options: ServeOptions, port: int, token: str | None) -> None:
         threading.Thread(target=webbrowser.open, args=(url,), daemon=True).start()
 
 
+def check_runtime_folders() -> list[Path]:
+    """Make sure the folders the server and its kernels write to are writable.
+
+    The Jupyter runtime folder holds each kernel's connection file; the IPython folder its
+    profile. A read-only home folder otherwise makes every page answer 500 while the server
+    says it is running.
+
+    Raises
+    ------
+    LauncherError
+        Naming the folder that cannot be written and the variable that moves it.
+    """
+    import tempfile
+
+    from jupyter_core.paths import jupyter_runtime_dir
+
+    folders = [(Path(jupyter_runtime_dir()), "JUPYTER_RUNTIME_DIR",
+                "the kernels' connection files")]
+    ipython = os.environ.get("IPYTHONDIR") or str(Path.home() / ".ipython")
+    folders.append((Path(ipython), "IPYTHONDIR", "the kernels' IPython profile"))
+    checked = []
+    for folder, variable, what in folders:
+        try:
+            folder.mkdir(parents=True, exist_ok=True)
+            with tempfile.NamedTemporaryFile(dir=folder, prefix=".snowprobe-check-"):
+                pass
+        except OSError as exc:
+            raise LauncherError(
+                f"cannot write to {folder} ({what}): {exc.strerror or exc}. Make it "
+                f"writable, or set {variable} to a writable folder") from None
+        checked.append(folder)
+    return checked
+
+
+def kernel_environment(options: ServeOptions) -> dict[str, str]:
+    """Environment variables the served kernels inherit (see :mod:`snowprobe_widgets.serving`).
+
+    ``MALLOC_ARENA_MAX=2`` keeps glibc from giving each of a kernel's threads its own
+    memory arena (tens of MB per kernel that a dashboard never uses).
+    """
+    limits = serving.limits_for_memory(options.memory_mb)
+    return {
+        serving.SERVED_ENV: "1",
+        serving.KERNEL_MEMORY_ENV: f"{options.memory_mb:.0f}",
+        serving.MAX_CELLS_ENV: str(limits.max_cells),
+        serving.MAX_WORK_ENV: f"{limits.max_work:.6g}",
+        "MALLOC_ARENA_MAX": "2",
+    }
+
+
+def _quiet_404_handler() -> type:
+    import tornado.web
+
+    class Quiet404(tornado.web.RequestHandler):
+        """404 for paths the server has no page for (no traceback, no log line)."""
+
+        def prepare(self) -> None:
+            raise tornado.web.HTTPError(404)
+
+        def log_exception(self, *args: Any) -> None:
+            return None
+
+    return Quiet404
+
+
+def _safe_template_static_handler() -> type:
+    import tornado.web
+    from voila.static_file_handler import TemplateStaticFileHandler
+
+    class SafeTemplateStatic(TemplateStaticFileHandler):
+        """Voila's template static files, answering 404 to anything but
+        ``<template>/static/<file>`` without ``..`` (Voila's own answers 500 and prints a
+        traceback)."""
+
+        def parse_url_path(self, path: str) -> str:
+            parts = path.replace("\\", "/").split("/")
+            if len(parts) < 3 or parts[1] != "static" or ".." in parts or "" in parts[:2]:
+                raise tornado.web.HTTPError(404)
+            return super().parse_url_path(path)
+
+    return SafeTemplateStatic
+
+
 def serve(options: ServeOptions) -> int:
     """Run the Voila server for ``options`` until Ctrl-C or SIGTERM; return the exit status."""
     check_port_free(options.host, options.port)
+    check_runtime_folders()
     boards = list(find_dashboards().values())
-    token = secrets.token_urlsafe(24) if options.remote else None
+    token = secrets.token_urlsafe(24) if options.uses_token else None
+    os.environ.update(kernel_environment(options))
 
     # Voila finds templates on the Jupyter data path; ours goes first.
     others = [p for p in os.environ.get("JUPYTER_PATH", "").split(os.pathsep) if p]
@@ -358,6 +718,7 @@ def serve(options: ServeOptions) -> int:
                 raise LauncherError(
                     f"cannot listen on {self.ip} port {self.port}: {exc.strerror}"
                 ) from exc
+            _harden(self.app)
             server = tornado.httpserver.HTTPServer(self.app)
             server.add_sockets(sockets)
             self.port = sockets[0].getsockname()[1]
@@ -374,6 +735,27 @@ def serve(options: ServeOptions) -> int:
                 print("snowprobe: stopping the server and its sessions", flush=True)
                 server.stop()
                 self.stop()
+
+    def _harden(app: Any) -> None:
+        import tornado.web
+        from tornado.routing import HostMatches, Rule
+
+        quiet = _quiet_404_handler()
+        static = _safe_template_static_handler()
+        quiet_kinds = (quiet, static)
+        ours = tornado.web._ApplicationRouter(app, [
+            (r"/logout/?", quiet), (r"/voila/templates/(.*)", static)])
+        # ahead of every rule Voila and the Jupyter server registered
+        app.default_router.rules.insert(
+            0, app.default_router.process_rule(Rule(HostMatches(".*$"), ours)))
+        logged = app.settings.get("log_function")
+        if logged is not None:
+            def log_function(handler: Any) -> None:
+                if not isinstance(handler, quiet_kinds):
+                    logged(handler)
+
+            app.settings["log_function"] = log_function
+        app.transforms.append(_visitor_transform())
 
     target = options.dashboard.path if options.dashboard else dashboards_dir()
     app = SnowprobeVoila(config=_voila_config(options, boards, token))
@@ -426,7 +808,11 @@ def build_parser() -> argparse.ArgumentParser:
     commands = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     commands.add_parser("list", help="name the dashboards this installation can serve")
     serve_parser = commands.add_parser(
-        "serve", help="serve one dashboard (or all of them) in a web browser"
+        "serve", help="serve one dashboard (or all of them) in a web browser",
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+        description="Serve the dashboards to web browsers. Every page gets its own Python "
+        "session (kernel) on this computer.",
+        epilog=SERVE_EPILOG,
     )
     serve_parser.add_argument(
         "name",
@@ -447,11 +833,25 @@ def build_parser() -> argparse.ArgumentParser:
         "address lets other machines in, with a token printed at start",
     )
     serve_parser.add_argument(
+        "--token",
+        action="store_true",
+        help="require the printed token on this computer's own address too (always "
+        "required with another --host)",
+    )
+    serve_parser.add_argument(
+        "--kernel-memory-mb",
+        type=_bounded_int(128, 65536, "--kernel-memory-mb"),
+        default=None,
+        help="working memory of each session, MB (default: 70 %% of this computer's memory "
+        "less 400 MB, shared by --max-sessions, from 256 to 4096); work that needs more is "
+        "refused with a message",
+    )
+    serve_parser.add_argument(
         "--idle-minutes",
         type=_positive_float,
         default=DEFAULT_IDLE_MINUTES,
-        help="end a session this long after its page was closed "
-        f"(default {DEFAULT_IDLE_MINUTES:g})",
+        help="end a session whose page is open but unused this long "
+        f"(default {DEFAULT_IDLE_MINUTES:g}); a closed page's session ends within a minute",
     )
     serve_parser.add_argument(
         "--max-sessions",
@@ -510,6 +910,8 @@ def _serve_options(args: argparse.Namespace) -> ServeOptions:
         open_browser=interactive and not args.no_browser,
         workdir=Path.cwd(),
         verbose=args.verbose,
+        token_required=args.token,
+        kernel_memory_mb=None if args.kernel_memory_mb is None else float(args.kernel_memory_mb),
     )
 
 

@@ -20,8 +20,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ._validate import check_choice, check_frequency, check_range
-from .constants import C0_M_S, EPS0_F_M, NP_TO_DB, RHO_ICE_KG_M3
+from ._validate import check_choice, check_frequency, check_pore_water, check_range
+from .constants import C0_M_S, EPS0_F_M, MAX_LWC_PERCENT, NP_TO_DB, RHO_ICE_KG_M3
 from .registry import Registry
 
 __all__ = [
@@ -278,14 +278,8 @@ def _matzler_dry(density_kg_m3: float, temperature_c: float = -5.0) -> Material:
 
 
 def _check_lwc(density_kg_m3: float, lwc_percent: float) -> float:
-    w = check_range("lwc_percent", lwc_percent, 0.0, 12.0, unit="%")
-    total = density_kg_m3 / RHO_ICE_KG_M3 + w / 100.0
-    if total > 1.0:
-        raise ValueError(
-            f"lwc_percent = {w:g} % with density_kg_m3 = {density_kg_m3:g} kg/m3 fills more than "
-            f"the whole volume (ice + water = {100 * total:.1f} %); allowed up to "
-            f"{100 * (1 - density_kg_m3 / RHO_ICE_KG_M3):.1f} % at this density"
-        )
+    w = check_range("lwc_percent", lwc_percent, 0.0, MAX_LWC_PERCENT, unit="%")
+    check_pore_water(density_kg_m3, w, RHO_ICE_KG_M3)
     return w
 
 

@@ -36,9 +36,9 @@ import json
 import math
 import os
 import stat
-import tempfile
 from typing import Any
 
+from .atomic_files import write_atomically
 from .cautions import CAUTION_SHORT
 from .scene import (
     Clutter,
@@ -209,47 +209,46 @@ def dumps(scenario: Scenario) -> str:
 def save(scenario: Scenario, path: str | os.PathLike[str]) -> None:
     """Write ``scenario`` to ``path`` atomically.
 
-    The text is built first, then written to a temporary file in the same folder, flushed
-    to disk and renamed over ``path`` (``os.replace``); on any failure the temporary file
-    is removed and an existing ``path`` is left as it was. A new file gets mode 0644; a
-    replaced file keeps its permission bits.
+    The text is built first, then written with
+    :func:`snowprobe_widgets.atomic_files.write_atomically`: a temporary file created
+    exclusively in the same folder (never through a symbolic link), flushed to disk and
+    renamed over ``path``. On any failure the temporary file is removed and an existing
+    ``path`` is left as it was; temporaries left by a killed save are removed by the next
+    save to that folder. A new file gets mode 0644; a replaced file keeps its permission
+    bits.
 
     Raises
     ------
     ScenarioFileError
-        If the folder cannot be written or ``path`` is a folder.
+        If the path is not usable (a NUL character, a folder), the folder cannot be
+        written, or the scenario holds text that cannot be written as UTF-8.
     """
-    text = dumps(scenario).encode("utf-8")
-    target = os.fspath(path)
-    if os.path.isdir(target):
-        raise ScenarioFileError(f"cannot save scenario to {target!r}: it is a folder")
-    folder = os.path.dirname(os.path.abspath(target))
+    target = _path_text(path)
     try:
-        mode = stat.S_IMODE(os.stat(target).st_mode)
-    except OSError:
-        mode = 0o644
+        text = dumps(scenario).encode("utf-8")
+    except UnicodeEncodeError as exc:
+        raise ScenarioFileError(
+            f"cannot save scenario to {target!r}: its text holds a character that is not "
+            f"valid Unicode ({exc.object[exc.start:exc.end]!r})") from None
     try:
-        fd, tmp = tempfile.mkstemp(dir=folder, prefix="." + os.path.basename(target) + ".",
-                                   suffix=".tmp")
+        write_atomically(target, text)
     except OSError as exc:
         raise ScenarioFileError(
             f"cannot save scenario to {target!r}: {exc.strerror or exc}") from exc
+
+
+def _path_text(path: Any) -> str:
+    """``path`` as text, refusing what no file system accepts (a NUL character)."""
     try:
-        with os.fdopen(fd, "wb") as f:
-            f.write(text)
-            f.flush()
-            os.fsync(f.fileno())
-        os.chmod(tmp, mode)
-        os.replace(tmp, target)
-    except BaseException as exc:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        if isinstance(exc, OSError):
-            raise ScenarioFileError(
-                f"cannot save scenario to {target!r}: {exc.strerror or exc}") from exc
-        raise
+        name = os.fspath(path)
+    except TypeError:
+        raise ScenarioFileError(
+            f"a scenario file path must be text, got {type(path).__name__}") from None
+    if isinstance(name, bytes):
+        name = os.fsdecode(name)
+    if "\0" in name:
+        raise ScenarioFileError(f"scenario file path {name!r} contains a NUL character")
+    return name
 
 
 # --------------------------------------------------------------------------- reading
@@ -272,7 +271,8 @@ def _parse_float(text: str) -> float:
 
 def _parse_int(text: str) -> int:
     if len(text.lstrip("-")) > _MAX_INT_DIGITS:
-        raise _Refused(f"an integer with {len(text)} digits is too long")
+        raise _Refused(f"an integer with {len(text.lstrip('-'))} digits is too long (at most "
+                       f"{_MAX_INT_DIGITS} digits)")
     return int(text)
 
 
@@ -340,6 +340,12 @@ def _read_value(value: Any, kind: Any, path: str) -> Any:
         return value
     if not isinstance(value, str):
         raise ScenarioFileError(f"{path}: expected a string, got {_show(value)}")
+    try:
+        value.encode("utf-8")
+    except UnicodeEncodeError as exc:
+        raise ScenarioFileError(
+            f"{path}: holds a character that is not valid Unicode (a lone surrogate "
+            f"{value[exc.start]!r} at position {exc.start})") from None
     return value
 
 
@@ -491,7 +497,7 @@ def load(path: str | os.PathLike[str]) -> Scenario:
         If the file cannot be read or is not a valid scenario file; the message starts
         with the file name.
     """
-    name = os.fspath(path)
+    name = _path_text(path)
     where = f"scenario file {name!r}"
     try:
         if not stat.S_ISREG(os.stat(name).st_mode):  # never open a FIFO or a device

@@ -21,6 +21,7 @@ from typing import Any
 import numpy as np
 
 from ._validate import check_choice, check_range
+from ._validate import check_int as _check_int
 from .scene_objects import (
     Boulder,
     Branch,
@@ -71,26 +72,16 @@ def _set(obj: object, name: str, value: Any) -> None:
     object.__setattr__(obj, name, value)
 
 
-def _check_int(name: str, value: object, low: int, high: int) -> int:
-    """Return ``value`` as an int in ``[low, high]``; integral floats are accepted."""
-    if isinstance(value, (bool, np.bool_)):
-        raise ValueError(f"{name} must be a whole number, got {value!r}")
-    if isinstance(value, (int, np.integer)):
-        n = int(value)
-    elif isinstance(value, (float, np.floating)) and math.isfinite(value) and value == int(value):
-        n = int(value)
-    else:
-        raise ValueError(f"{name} must be a whole number, got {value!r}")
-    if not low <= n <= high:
-        raise ValueError(f"{name} = {n} is outside the allowed range [{low}, {high}]")
-    return n
-
-
 def _check_text(name: str, value: object, max_len: int) -> str:
     if not isinstance(value, str):
         raise ValueError(f"{name} must be a string, got {value!r}")
     if len(value) > max_len:
         raise ValueError(f"{name} is {len(value)} characters long; at most {max_len} allowed")
+    try:
+        value.encode("utf-8")
+    except UnicodeEncodeError as exc:
+        raise ValueError(f"{name} holds a character that is not valid Unicode (a lone "
+                         f"surrogate {value[exc.start]!r} at position {exc.start})") from None
     return value
 
 

@@ -24,8 +24,8 @@ from typing import Any
 
 import numpy as np
 
-from ._validate import check_choice, check_range
-from .constants import RHO_ICE_KG_M3
+from ._validate import check_choice, check_pore_water, check_range
+from .constants import MAX_LWC_PERCENT, RHO_ICE_KG_M3
 from .targets.base import check_bool, set_field
 from .targets.boulder import Boulder
 from .targets.branch import DRY_WOOD_PERMITTIVITY, Branch
@@ -52,7 +52,6 @@ _MAX_DENSITY = RHO_ICE_KG_M3
 _MIN_DENSITY = 30.0
 #: Highest liquid water content accepted, percent by volume ("slush" starts near 15 %,
 #: Fierz et al. 2009, UNESCO-IHP Tech. Doc. Hydrol. 83, table of wetness classes).
-_MAX_LWC_PERCENT = 12.0  # the wet-snow models' calibrated range (materials.wet_snow)
 #: Crust densities: melt-freeze crusts and ice lenses (common practice: 700-917 kg/m3).
 _CRUST_DENSITY = (700.0, _MAX_DENSITY)
 _MAX_CRUST_THICKNESS_M = 0.3
@@ -99,15 +98,9 @@ class Layer:
         set_field(self, "density_kg_m3", check_range(
             "density_kg_m3", self.density_kg_m3, _MIN_DENSITY, _MAX_DENSITY, unit="kg/m3"))
         set_field(self, "lwc_percent", check_range(
-            "lwc_percent", self.lwc_percent, 0.0, _MAX_LWC_PERCENT, unit="%"))
+            "lwc_percent", self.lwc_percent, 0.0, MAX_LWC_PERCENT, unit="%"))
         set_field(self, "ice_crust", check_bool("ice_crust", self.ice_crust))
-        ice = self.density_kg_m3 / RHO_ICE_KG_M3
-        if ice + self.lwc_percent / 100.0 > 1.0 + 1e-12:
-            raise ValueError(
-                f"lwc_percent = {self.lwc_percent:g} % does not fit in the pores of snow of "
-                f"density_kg_m3 = {self.density_kg_m3:g}: the ice already fills "
-                f"{100 * ice:.1f} % of the volume, so at most {100 * (1 - ice):.1f} % water"
-            )
+        check_pore_water(self.density_kg_m3, self.lwc_percent, RHO_ICE_KG_M3)
         if self.ice_crust:
             lo, hi = _CRUST_DENSITY
             if not lo <= self.density_kg_m3 <= hi:

@@ -12,7 +12,10 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 from scipy.signal import hilbert
+from test_scenario_files import radars
 
 from snowprobe_widgets import processing as P
 from snowprobe_widgets.constants import C0_M_S
@@ -572,10 +575,10 @@ def test_velocity_analysis_recovers_material_model_velocity_on_simulated_data(
     # radius must return c0 / n'(fc) of the dry-snow model (Looyenga 1965) within 3 %.
     from snowprobe_widgets import simulate
     from snowprobe_widgets.scene import (
+        Boulder,
         Clutter,
         Ground,
         Layer,
-        MetalPlate,
         Radar,
         Scenario,
         Snowpack,
@@ -598,6 +601,38 @@ def test_velocity_analysis_recovers_material_model_velocity_on_simulated_data(
 def test_chain_refuses_what_is_not_a_radargram() -> None:
     with pytest.raises(ValueError, match="must be a Radargram"):
         P.ProcessingChain.default(800e6).apply(np.zeros((4, 4)))
+
+
+# --------------------------------------------------------------------------- default chain
+
+
+@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(radar=radars(), seed=st.integers(0, 2**16))
+def test_the_default_chain_processes_every_radar_the_model_accepts(radar, seed):
+    # property over the accepted radar space (pulse, fc, band, dt up to the Nyquist limit,
+    # 64..8192 samples): the chain's refusals depend on the sampling only, so a random
+    # section on the radar's own time axis stands for any simulated one
+    rng = np.random.default_rng(seed)
+    data = rng.standard_normal((radar.n_samples, 5))
+    rg = Radargram(data, radar.time_s, np.arange(5) * 0.1)
+    chain = P.ProcessingChain.for_radar(radar)
+    out = chain.apply(rg)
+    assert out.data.shape == data.shape
+    assert np.all(np.isfinite(out.data))
+    params = {s.name: dict(s.params) for s in chain.steps}
+    assert params["bandpass"]["high_hz"] < 0.5 / radar.dt_s
+    if chain.steps[1].enabled:
+        assert params["dewow"]["window_s"] <= radar.n_samples * radar.dt_s
+
+
+def test_the_default_chain_keeps_its_textbook_values_where_they_fit():
+    # 800 MHz sampled at 50 ps over 50 ns: fc/4 .. 2.5 fc and four periods fit unchanged
+    chain = P.ProcessingChain.default(800e6, dt_s=50e-12, record_s=50e-9)
+    params = {s.name: dict(s.params) for s in chain.steps}
+    assert params["bandpass"]["low_hz"] == pytest.approx(200e6)
+    assert params["bandpass"]["high_hz"] == pytest.approx(2e9)
+    assert params["dewow"]["window_s"] == pytest.approx(5e-9)
+    assert P.ProcessingChain.default(800e6) == P.ProcessingChain.default(800e6, dt_s=None)
 
 
 # ------------------------------------------------------------------ air gap

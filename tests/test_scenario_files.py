@@ -486,3 +486,51 @@ def test_dumps_writes_utf8_json_text():
     assert json.loads(text)["scenario"]["name"] == "test"
     unicode = dataclasses.replace(s, name="Lawine \u00e9t\u00e9 \u2744")
     assert "\u2744" in dumps(unicode) and Scenario.from_json(dumps(unicode)) == unicode
+
+
+# --------------------------------------------------------------------------- smaller defects
+
+
+def test_a_nul_byte_in_a_path_is_a_clear_error(tmp_path):
+    s, _ = good_doc()
+    for call in (lambda: save(s, f"{tmp_path}/a\0b.json"),
+                 lambda: scenario_files.load(f"{tmp_path}/a\0b.json")):
+        with pytest.raises(ScenarioFileError, match="contains a NUL character"):
+            call()
+    assert os.listdir(tmp_path) == []
+
+
+def test_a_lone_surrogate_is_refused_on_loading_naming_the_field():
+    _, doc = good_doc()
+    doc["scenario"]["name"] = "\ud800"
+    text = json.dumps(doc)  # ASCII JSON: the escape \ud800 reaches the parser
+    with pytest.raises(ScenarioFileError, match=r"scenario\.name: .*lone surrogate"):
+        scenario_files.loads(text)
+    with pytest.raises(ValueError, match="name holds a character that is not valid Unicode"):
+        dataclasses.replace(Scenario.default(), name="x\udfffy")
+
+
+def test_an_over_long_integer_is_a_clear_error():
+    _, doc = good_doc()
+    text = json.dumps(doc).replace('"seed": 0', '"seed": ' + "9" * 400)
+    assert "9" * 400 in text
+    with pytest.raises(ScenarioFileError, match="an integer with 400 digits is too long"):
+        scenario_files.loads(text)
+
+
+def test_leftovers_of_a_killed_save_are_cleaned_by_the_next_save(tmp_path):
+    import subprocess
+    import sys
+
+    s, _ = good_doc()
+    code = ("import os, sys\nfrom snowprobe_widgets import atomic_files\n"
+            "real = os.replace\n"
+            "def die(*a):\n    os._exit(9)\n"
+            "os.replace = die\n"
+            "from snowprobe_widgets.scene import Scenario\n"
+            "Scenario.default().save(sys.argv[1])\n")
+    done = subprocess.run([sys.executable, "-c", code, str(tmp_path / "a.json")])
+    assert done.returncode == 9
+    assert len(os.listdir(tmp_path)) == 1  # the killed save's temporary file
+    save(s, tmp_path / "b.json")
+    assert os.listdir(tmp_path) == ["b.json"]

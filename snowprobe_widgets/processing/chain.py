@@ -112,15 +112,28 @@ class ProcessingStep:
         return cls(d["name"], tuple(params.items()), d.get("enabled", True))
 
 
-def _default_steps(fc: float) -> tuple[ProcessingStep, ...]:
+def _default_steps(fc: float, dt_s: float | None, record_s: float | None,
+                   ) -> tuple[ProcessingStep, ...]:
+    window_s = 4.0 / fc
+    dewow_on = True
+    if record_s is not None and dt_s is not None:
+        # the window must lie in [2 dt, record] (dewow's own limits); half the record
+        # keeps a short recording's echoes from being averaged away with the wow
+        window_s = max(min(window_s, 0.5 * record_s), 2.0 * dt_s)
+        dewow_on = window_s <= record_s
+    low_hz, high_hz = 0.25 * fc, 2.5 * fc
+    if dt_s is not None:
+        # the band must stay under Nyquist: 0.9 of it leaves the filter a transition band
+        high_hz = min(high_hz, 0.9 * 0.5 / dt_s)
+        low_hz = min(low_hz, 0.5 * high_hz)
     return (
         ProcessingStep("time_zero", (("target_time_s", 0.0), ("threshold", 0.5)),
                        enabled=False),
-        ProcessingStep("dewow", (("window_s", 4.0 / fc),)),
+        ProcessingStep("dewow", (("window_s", window_s),), enabled=dewow_on),
         ProcessingStep("background_removal", (("method", "median"),)),
         ProcessingStep("gain", (("kind", "spreading"), ("power", 1.0),
                                 ("max_gain_db", 40.0))),
-        ProcessingStep("bandpass", (("low_hz", 0.25 * fc), ("high_hz", 2.5 * fc),
+        ProcessingStep("bandpass", (("low_hz", low_hz), ("high_hz", high_hz),
                                     ("order", 4))),
     )
 
@@ -155,19 +168,36 @@ class ProcessingChain:
 
     # ---------------------------------------------------------------- building
     @classmethod
-    def default(cls, center_frequency_hz: float = 800e6) -> ProcessingChain:
+    def default(cls, center_frequency_hz: float = 800e6, *, dt_s: float | None = None,
+                record_s: float | None = None) -> ProcessingChain:
         """A starting chain for simulated radargrams of an antenna at ``center_frequency_hz``.
 
         time-zero (disabled; enable it when the antenna is held above the snow), dewow over
         four periods, median background removal (the mean would print a strong hyperbola's
         apex as a band across the whole section), spreading gain ``t**1`` capped at 40 dB and a
         band-pass from fc/4 to 2.5 fc (order 4). The choices are common practice, not
-        taken from a source; the band needs a sampling interval below 1 / (5 fc).
+        taken from a source.
+
+        Given the sampling interval ``dt_s`` and the record length ``record_s`` (both s),
+        the defaults adapt so that the chain runs on that record: the band's top stays at
+        0.9 of the Nyquist frequency (the bottom at most half the top), and the dewow window
+        at most half the record (at least two samples; dewow is switched off when even that
+        does not fit). :meth:`for_radar` passes them from a :class:`Radar`.
         """
         from .._validate import check_range
 
         fc = check_range("center_frequency_hz", center_frequency_hz, 10e6, 10e9, unit="Hz")
-        return cls(_default_steps(fc))
+        dt = None if dt_s is None else check_range("dt_s", dt_s, 0.0, 1.0, unit="s",
+                                                   low_open=True)
+        record = None if record_s is None else check_range("record_s", record_s, 0.0, 1.0,
+                                                           unit="s", low_open=True)
+        return cls(_default_steps(fc, dt, record))
+
+    @classmethod
+    def for_radar(cls, radar: Any) -> ProcessingChain:
+        """:meth:`default` adapted to a :class:`~snowprobe_widgets.scene.Radar`'s sampling."""
+        return cls.default(radar.center_frequency_hz, dt_s=radar.dt_s,
+                           record_s=radar.n_samples * radar.dt_s)
 
     @classmethod
     def from_history(cls, history: Iterable[ProcessingRecord]) -> ProcessingChain:

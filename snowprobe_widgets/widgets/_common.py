@@ -6,6 +6,7 @@ Nothing here computes physics; these helpers only build ipywidgets and format te
 from __future__ import annotations
 
 import html
+import logging
 from collections.abc import Callable
 from typing import Any
 
@@ -126,15 +127,37 @@ def caution_box(long: bool = True) -> widgets.HTML:
     return box
 
 
-def guarded(line: widgets.HTML, action: Callable[[], Any]) -> bool:
-    """Run ``action``; a ValueError is shown in ``line`` instead of raised.
+def guarded(line: widgets.HTML, action: Callable[[], Any],
+            on_unexpected: Callable[[], Any] | None = None) -> bool:
+    """Run ``action``; any exception is shown in ``line`` as a plain message, never raised.
 
-    Returns True when the action succeeded (and clears the line), False when refused.
+    A ValueError is a refusal: its message (which names the field and the range) is shown
+    as it is. A MemoryError says the work needs more memory than this session may use.
+    Anything else is a fault: a plain message is shown, the traceback goes to the log
+    (the operator's console) and ``on_unexpected`` runs (the caller puts its controls back
+    to the last good state there).
+
+    Returns True when the action succeeded (and clears the line), False otherwise.
     """
     try:
         action()
     except ValueError as exc:
         show_message(line, str(exc))
+        return False
+    except MemoryError:
+        show_message(line, "This needs more memory than this session may use: use fewer "
+                           "traces (a wider spacing or a shorter line) or fewer samples (a "
+                           "shorter time window). The picture shows the last result.")
+        return False
+    except Exception as exc:
+        logging.getLogger("snowprobe_widgets").exception("callback failed")
+        show_message(line, f"Something went wrong here ({type(exc).__name__}); the page "
+                           "keeps the last good picture and settings.")
+        if on_unexpected is not None:
+            try:
+                on_unexpected()
+            except Exception:
+                logging.getLogger("snowprobe_widgets").exception("restoring failed")
         return False
     show_message(line, "")
     return True

@@ -31,6 +31,7 @@ from snowprobe_widgets.fdtd2d import scenario_check
 from snowprobe_widgets.processing import ProcessingChain
 from snowprobe_widgets.radargram import Radargram
 from snowprobe_widgets.scene import Scenario
+from snowprobe_widgets.serving import work_limits
 from snowprobe_widgets.synthesis import column_optics, simulate
 from snowprobe_widgets.trace import echo_times, synthesize_trace
 from snowprobe_widgets.validity import scenario_warnings
@@ -44,6 +45,7 @@ from snowprobe_widgets.widgets._common import (
     share_plain_styles,
     show_message,
 )
+from snowprobe_widgets.widgets.file_panel import OPEN_CLASS, PATH_CLASS, SAVE_CLASS, FilePanel
 from snowprobe_widgets.widgets.materials_lab import MaterialsExplorer
 from snowprobe_widgets.widgets.panels import (
     DebrisPanel,
@@ -61,9 +63,6 @@ from snowprobe_widgets.widgets.views import (
     TraceView,
     budget_table_html,
 )
-
-#: CSS classes of the file controls (browser tests rely on them).
-SAVE_CLASS, OPEN_CLASS, PATH_CLASS = "sp-save", "sp-open", "sp-file-path"
 
 _NS = 1e-9
 
@@ -198,49 +197,25 @@ class ScenarioExplorer(widgets.VBox):
             children=self._lower_slots,
             titles=["Trace", "Spectrum", "Link budget", "Materials lab",
                     "Detection probability"])
-        self.lower.observe(lambda _: self._fill_tab(), names="selected_index")
-        self.show_processed.observe(lambda _: self._show_section(), names="value")
-        self.mark_detections.observe(lambda _: self._update_detections(), names="value")
-        self.detection_threshold.observe(lambda _: self._update_detections(), names="value")
-        self.radargram_view.observe(self._on_pick, names="picked_trace_index")
-        self.lower.observe(lambda _: self._refresh_lazy(), names="selected_index")
-        self.trace_view.fdtd_button.on_click(lambda _: self.run_fdtd())
-        self.trace_view.fdtd2d_button.on_click(lambda _: self.run_fdtd2d())
+        # every callback runs guarded: a fault shows a plain message, never a traceback
+        self.lower.observe(self._safe(self._fill_tab), names="selected_index")
+        self.show_processed.observe(self._safe(self._show_section), names="value")
+        self.mark_detections.observe(self._safe(self._update_detections), names="value")
+        self.detection_threshold.observe(self._safe(self._update_detections), names="value")
+        self.radargram_view.observe(self._safe(self._on_pick, True),
+                                    names="picked_trace_index")
+        self.lower.observe(self._safe(self._refresh_lazy), names="selected_index")
+        self.trace_view.fdtd_button.on_click(self._safe(self.run_fdtd))
+        self.trace_view.fdtd2d_button.on_click(self._safe(self.run_fdtd2d))
 
-        # files
-        self.path = widgets.Text(value="scenario.json", description="file",
-                                 placeholder="path/to/scenario.json",
-                                 layout=widgets.Layout(width="360px"))
-        self.path.add_class(PATH_CLASS)
-        self.open_button = widgets.Button(description="open", icon="")
-        self.open_button.add_class(OPEN_CLASS)
-        self.save_button = widgets.Button(description="save")
-        self.save_button.add_class(SAVE_CLASS)
-        self.demo = widgets.Dropdown(options=list(Scenario.examples()), description="demo")
-        self.demo_button = widgets.Button(description="start from demo")
-        self.export_csv = widgets.Button(description="data as CSV")
-        self.export_npz = widgets.Button(description="data as NPZ")
-        self.export_png = widgets.Button(description="picture as PNG")
-        self.export_report = widgets.Button(description="design report (HTML)")
-        self.file_message = message_line()
-        self.file_status = widgets.HTML()
-        self.open_button.on_click(lambda _: self.open_file())
-        self.save_button.on_click(lambda _: self.save_file())
-        self.demo_button.on_click(lambda _: self._load_demo())
-        self.export_csv.on_click(lambda _: self._export("csv"))
-        self.export_npz.on_click(lambda _: self._export("npz"))
-        self.export_png.on_click(lambda _: self._export("png"))
-        self.export_report.on_click(lambda _: self._export("report"))
+        # files: upload/download when served, paths in a notebook (widgets/file_panel.py)
+        self.files = FilePanel(get_scenario=lambda: self.scenario,
+                               set_scenario=self._show_opened,
+                               export_bytes=self.export_bytes)
         self.status = widgets.HTML()
         #: where a buried object's scattering method is outside its domain (model's words)
         self.validity = widgets.HTML()
 
-        file_bar = widgets.VBox([
-            widgets.HBox([self.path, self.open_button, self.save_button, self.demo,
-                          self.demo_button]),
-            widgets.HBox([widgets.HTML("export next to the file:"), self.export_csv,
-                          self.export_npz, self.export_png, self.export_report]),
-            self.file_message, self.file_status])
         left = widgets.VBox([self.controls, self.message, self.status, self.validity])
         right = widgets.VBox([
             self.section, self.radargram_view,
@@ -250,7 +225,7 @@ class ScenarioExplorer(widgets.VBox):
             "<h3 style='margin:4px 0'>Radar search planner</h3><div>Change the snow, the "
             "buried person, the debris and the radar; see the scene, the radargram, a "
             "trace and whether the echo would stand out.</div>")
-        super().__init__(children=[header, caution_box(), file_bar,
+        super().__init__(children=[header, caution_box(), self.files,
                                    widgets.HBox([left, right])], **kwargs)
         share_plain_styles(self)
         self.scenario = scenario
@@ -268,7 +243,7 @@ class ScenarioExplorer(widgets.VBox):
             raise ValueError(f"scenario must be a Scenario, got {type(scenario).__name__}")
         for p in self._panels:
             p.show(scenario)
-        self.processing.show(ProcessingChain.default(scenario.radar.center_frequency_hz))
+        self.processing.show(ProcessingChain.for_radar(scenario.radar))
         first = scenario.persons[0].position_m if scenario.persons else \
             0.5 * (scenario.survey.start_m + scenario.survey.end_m)
         self._accept(scenario, pick_m=first)
@@ -288,34 +263,46 @@ class ScenarioExplorer(widgets.VBox):
         """The section on screen (processed or raw, as chosen)."""
         return self._shown
 
-    def save_file(self, path: str | None = None) -> pathlib.Path | None:
-        """Save the scenario on screen to ``path`` (default: the path field)."""
-        target = pathlib.Path(path or self.path.value).expanduser()
-        ok = guarded(self.file_message, lambda: self._guard_io(
-            lambda: self.scenario.save(target)))
-        if ok:
-            self.file_status.value = f"saved {html.escape(str(target))}"
-            return target
-        return None
+    def save_file(self, path: str | None = None, *,
+                  overwrite: bool | None = None) -> pathlib.Path | None:
+        """Save the scenario on screen to ``path`` (notebook use; see :class:`FilePanel`).
+
+        An existing file is replaced only with ``overwrite=True``. Returns the path written,
+        or None when refused (the reason is shown in ``files.message``).
+        """
+        return self.files.save_file(path, overwrite=overwrite)
 
     def open_file(self, path: str | None = None) -> bool:
-        """Open a scenario file (default: the path field); True on success."""
-        target = pathlib.Path(path or self.path.value).expanduser()
-        loaded: list[Scenario] = []
-        ok = guarded(self.file_message, lambda: self._guard_io(
-            lambda: loaded.append(Scenario.load(target))))
-        if ok:
-            self.scenario = loaded[0]
-            self.file_status.value = f"opened {html.escape(str(target))}"
-        return ok
+        """Open a scenario file (notebook use; see :class:`FilePanel`); True on success."""
+        return self.files.open_file(path)
+
+    def _show_opened(self, scenario: Scenario) -> None:
+        self.scenario = scenario
 
     # ------------------------------------------------------------------ pipeline
+    def _safe(self, action: Any, pass_change: bool = False) -> Any:
+        """A widget callback running ``action`` under :func:`guarded`."""
+        def callback(change: Any) -> None:
+            guarded(self.message, (lambda: action(change)) if pass_change else action,
+                    self._restore_controls)
+
+        return callback
+
+    def _restore_controls(self) -> None:
+        """Put every control back to the scenario and chain on screen."""
+        if self._scenario is not None:
+            for p in self._panels:
+                p.show(self._scenario)
+        if self._chain is not None:
+            self.processing.show(self._chain)
+
     def _on_controls(self) -> None:
         base = self._scenario
         if base is None:
             return
         new: list[Scenario] = []
-        if guarded(self.message, lambda: new.append(build_scenario(base, self._panels))):
+        if guarded(self.message, lambda: new.append(build_scenario(base, self._panels)),
+                   self._restore_controls):
             self._accept(new[0])
 
     def _on_processing(self) -> None:
@@ -324,11 +311,21 @@ class ScenarioExplorer(widgets.VBox):
 
     def _accept(self, scenario: Scenario, pick_m: float | None = None) -> None:
         raw: list[Radargram] = []
-        if not guarded(self.message, lambda: raw.append(self.simulation(scenario))):
+
+        def run() -> None:
+            work_limits().check(scenario)
+            raw.append(self.simulation(scenario))
+
+        if not guarded(self.message, run, self._restore_controls):
             return
+        if not guarded(self.message, lambda: self._show_accepted(scenario, raw[0], pick_m),
+                       self._restore_controls):
+            return
+
+    def _show_accepted(self, scenario: Scenario, raw: Radargram, pick_m: float | None) -> None:
         old = self._scenario
         self._scenario = scenario
-        self._raw = raw[0]
+        self._raw = raw
         if old is None or _column_media_key(old) != _column_media_key(scenario):
             self.trace_view.clear_reference()
         self.section.update(scenario)
@@ -371,7 +368,7 @@ class ScenarioExplorer(widgets.VBox):
             done.append(c.apply(raw))
             chain.append(c)
 
-        if not guarded(self.message, run):
+        if not guarded(self.message, run, self._restore_controls):
             return
         self._chain = chain[0]
         self._processed = done[0]
@@ -555,56 +552,33 @@ class ScenarioExplorer(widgets.VBox):
         return res.agreement
 
     # ------------------------------------------------------------------ files
-    @staticmethod
-    def _guard_io(action: Any) -> None:
-        try:
-            action()
-        except OSError as exc:
-            raise ValueError(f"could not use the file: {exc.strerror or exc}") from None
-
-    def _load_demo(self) -> None:
-        self.scenario = Scenario.example(self.demo.value)
-        self.file_status.value = f"demo {html.escape(self.demo.value)}"
-
     def export_paths(self) -> dict[str, pathlib.Path]:
-        """Where the exports go: next to the path field's file, same stem."""
-        base = pathlib.Path(self.path.value).expanduser()
-        stem = base.with_suffix("") if base.suffix else base
-        return {"csv": stem.with_name(stem.name + ".csv"),
-                "npz": stem.with_name(stem.name + ".npz"),
-                "png": stem.with_name(stem.name + ".png"),
-                "report": stem.with_name(stem.name + "_report.html")}
+        """Where :meth:`export` writes: next to the file panel's path, same stem."""
+        return self.files.export_paths()
 
-    def _export(self, kind: str) -> pathlib.Path | None:
-        target = self.export_paths()[kind]
-        ok = guarded(self.file_message, lambda: self._guard_io(lambda: self._write(kind,
-                                                                                   target)))
-        if ok:
-            self.file_status.value = f"wrote {html.escape(str(target))}"
-            return target
-        return None
+    def export(self, kind: str, *, overwrite: bool | None = None) -> pathlib.Path | None:
+        """Write one export next to the scenario file: ``"csv"``, ``"npz"``, ``"png"`` or
+        ``"report"`` (notebook use; a served page offers downloads instead)."""
+        return self.files.export(kind, overwrite=overwrite)
 
-    def export(self, kind: str) -> pathlib.Path | None:
-        """Write one export: ``"csv"``, ``"npz"``, ``"png"`` or ``"report"``."""
-        if kind not in ("csv", "npz", "png", "report"):
-            raise ValueError(f"kind = {kind!r}; allowed: csv, npz, png, report")
-        return self._export(kind)
-
-    def _write(self, kind: str, target: pathlib.Path) -> None:
+    def export_bytes(self, kind: str) -> bytes:
+        """The bytes of one export of what is on screen (layouts in ``widgets.exports``)."""
         rg, raw = self._shown, self._raw
         if rg is None or raw is None:
             raise ValueError("nothing to export yet")
         view = self.radargram_view
-        name = self.scenario.name or "scenario"
         if kind == "csv":
-            exports.write_csv(rg, target, title=name)
-        elif kind == "npz":
-            exports.write_npz(rg, raw, target, scenario_json=self.scenario.to_json(),
-                              processing_json=self._chain.to_json() if self._chain else "")
-        elif kind == "png":
-            exports.write_png(rg, target, view.colour_dropdown.value, view.clip_slider.value)
-        else:
-            exports.write_report(target, self.report())
+            return exports.csv_bytes(rg, title=self.scenario.name or "scenario")
+        if kind == "npz":
+            return exports.npz_bytes(
+                rg, raw, scenario_json=self.scenario.to_json(),
+                processing_json=self._chain.to_json() if self._chain else "")
+        if kind == "png":
+            return exports.radargram_png(rg, view.colour_dropdown.value,
+                                         view.clip_slider.value)
+        if kind == "report":
+            return self.report().encode("utf-8")
+        raise ValueError(f"kind = {kind!r}; allowed: csv, npz, png, report")
 
     def report(self) -> str:
         """The one-page HTML design report of what is on screen."""

@@ -18,12 +18,14 @@ from __future__ import annotations
 import base64
 import datetime
 import html
+import io
 import os
-from typing import Any
+from typing import Any, BinaryIO
 
 import numpy as np
 
 from snowprobe_widgets import __version__
+from snowprobe_widgets.atomic_files import write_atomically
 from snowprobe_widgets.cautions import CAUTION_SHORT, CAUTION_TEXT
 from snowprobe_widgets.radargram import Radargram
 from snowprobe_widgets.widgets.palette_png import (
@@ -35,37 +37,47 @@ from snowprobe_widgets.widgets.palette_png import (
 from snowprobe_widgets.widgets.radargram_view import colour_range
 
 
-def _atomic_write(path: str | os.PathLike[str], payload: bytes) -> None:
-    tmp = f"{os.fspath(path)}.tmp-{os.getpid()}"
-    with open(tmp, "wb") as fh:
-        fh.write(payload)
-    os.replace(tmp, path)
-
-
-def write_csv(rg: Radargram, path: str | os.PathLike[str], *, title: str = "") -> None:
-    """Write ``rg`` as CSV (layout in the module docstring)."""
+def csv_bytes(rg: Radargram, *, title: str = "") -> bytes:
+    """``rg`` as CSV text, UTF-8 (layout in the module docstring)."""
     lines = [f"# {CAUTION_SHORT}",
              f"# radargram {title}".rstrip(),
              "# columns: two-way time (ns), then the amplitude of each trace (model units)",
              "# position_m: " + ",".join(f"{x:.6g}" for x in rg.position_m)]
     table = np.column_stack([rg.time_s * 1e9, rg.data])
     body = "\n".join(",".join(f"{v:.9g}" for v in row) for row in table)
-    _atomic_write(path, ("\n".join(lines) + "\n" + body + "\n").encode("utf-8"))
+    return ("\n".join(lines) + "\n" + body + "\n").encode("utf-8")
 
 
-def write_npz(rg: Radargram, raw: Radargram, path: str | os.PathLike[str], *,
-              scenario_json: str = "", processing_json: str = "") -> None:
-    """Write the section on screen and the raw one as NPZ (layout in the docstring)."""
+def write_csv(rg: Radargram, path: str | os.PathLike[str], *, title: str = "") -> None:
+    """Write :func:`csv_bytes` to ``path`` atomically."""
+    write_atomically(path, csv_bytes(rg, title=title))
+
+
+def _write_npz_to(fh: BinaryIO, rg: Radargram, raw: Radargram, scenario_json: str,
+                  processing_json: str) -> None:
     truth = rg.truth
-    tmp = f"{os.fspath(path)}.tmp-{os.getpid()}.npz"
     np.savez_compressed(
-        tmp, data=rg.data, raw_data=raw.data, time_s=rg.time_s, position_m=rg.position_m,
+        fh, data=rg.data, raw_data=raw.data, time_s=rg.time_s, position_m=rg.position_m,
         truth_position_m=np.array([m.position_m for m in truth], dtype=float),
         truth_depth_m=np.array([m.depth_m for m in truth], dtype=float),
         truth_time_s=np.array([m.apex_time_s for m in truth], dtype=float),
         scenario_json=np.array(scenario_json), processing_json=np.array(processing_json),
         caution=np.array(CAUTION_TEXT))
-    os.replace(tmp, path)
+
+
+def npz_bytes(rg: Radargram, raw: Radargram, *, scenario_json: str = "",
+              processing_json: str = "") -> bytes:
+    """The section on screen and the raw one as NPZ bytes (layout in the docstring)."""
+    buffer = io.BytesIO()
+    _write_npz_to(buffer, rg, raw, scenario_json, processing_json)
+    return buffer.getvalue()
+
+
+def write_npz(rg: Radargram, raw: Radargram, path: str | os.PathLike[str], *,
+              scenario_json: str = "", processing_json: str = "") -> None:
+    """Write the section on screen and the raw one as NPZ, atomically."""
+    write_atomically(path, lambda fh: _write_npz_to(fh, rg, raw, scenario_json,
+                                                    processing_json))
 
 
 def radargram_png(rg: Radargram, colour_map_name: str, clip_percent: float) -> bytes:
@@ -78,7 +90,7 @@ def radargram_png(rg: Radargram, colour_map_name: str, clip_percent: float) -> b
 def write_png(rg: Radargram, path: str | os.PathLike[str], colour_map_name: str,
               clip_percent: float) -> None:
     """Write :func:`radargram_png` to ``path``."""
-    _atomic_write(path, radargram_png(rg, colour_map_name, clip_percent))
+    write_atomically(path, radargram_png(rg, colour_map_name, clip_percent))
 
 
 def report_html(scenario: Any, *, picture_png: bytes, budget_html: str, verdict: str,
@@ -140,8 +152,8 @@ antenna {r.antenna_height_m:.2f} m above the snow; sampling {r.dt_s * 1e12:.0f} 
 
 def write_report(path: str | os.PathLike[str], text: str) -> None:
     """Write a report made by :func:`report_html`."""
-    _atomic_write(path, text.encode("utf-8"))
+    write_atomically(path, text.encode("utf-8"))
 
 
-__all__ = ["radargram_png", "report_html", "write_csv", "write_npz", "write_png",
-           "write_report"]
+__all__ = ["csv_bytes", "npz_bytes", "radargram_png", "report_html", "write_csv", "write_npz",
+           "write_png", "write_report"]

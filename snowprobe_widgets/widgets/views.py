@@ -198,10 +198,13 @@ class CrossSectionView(widgets.VBox):
         if self.true_shape.value:
             width = self.x_scale.max - self.x_scale.min
             height = self.z_scale.min - self.z_scale.max
-            ratio = abs(width / height) if height else 1.0
-            self.figure.min_aspect_ratio = self.figure.max_aspect_ratio = ratio
+            lo = hi = abs(width / height) if height else 1.0
         else:
-            self.figure.min_aspect_ratio, self.figure.max_aspect_ratio = 0.01, 100.0
+            lo, hi = 0.01, 100.0
+        # both bounds at once: bqplot refuses min > max in between (a wider scene after a
+        # narrower one raised TraitError)
+        with self.figure.hold_trait_notifications():
+            self.figure.min_aspect_ratio, self.figure.max_aspect_ratio = lo, hi
 
     def _draw_pick(self) -> None:
         sc = self._scenario

@@ -54,9 +54,9 @@ def test_css_hooks_and_cautions_are_present(app: ScenarioExplorer) -> None:
     assert "sp-radargram-status" == STATUS_CLASS
     assert STATUS_CLASS in app.radargram_view.status._dom_classes
     assert (SAVE_CLASS, OPEN_CLASS, PATH_CLASS) == ("sp-save", "sp-open", "sp-file-path")
-    assert SAVE_CLASS in app.save_button._dom_classes
-    assert OPEN_CLASS in app.open_button._dom_classes
-    assert PATH_CLASS in app.path._dom_classes
+    assert SAVE_CLASS in app.files.save_button._dom_classes
+    assert OPEN_CLASS in app.files.open_button._dom_classes
+    assert PATH_CLASS in app.files.path._dom_classes
     texts = [c.value for c in app.children if hasattr(c, "value")]
     assert any(CAUTION_TEXT[:50] in t for t in texts)
     assert not app.person.depth.continuous_update  # heavy slider: released value only
@@ -126,6 +126,21 @@ def test_validity_warnings_show_under_the_status_line(app: ScenarioExplorer) -> 
     assert "the body is small against the wavelength" in app.validity.value
     app.radar.frequency.value = 800.0
     assert "the body is small" not in app.validity.value
+
+
+def test_material_band_warnings_and_air_gap_migration_follow_the_scenario(
+        app: ScenarioExplorer) -> None:
+    # a material model outside its calibrated band is said on screen (validity line),
+    # and the migration step migrates through the radar's air gap
+    app.scenario = Scenario.example("deep_wet_spring")  # Tiuri wet snow at 400 MHz
+    assert "Tiuri et al. 1984" in app.validity.value
+    assert app.processing.mig_height.value == pytest.approx(0.3)
+    app.radar.height.value = 2.0
+    assert app.processing.mig_height.value == pytest.approx(2.0)
+    params = dict(next(st for st in app.processing.chain().steps if st.name == "migrate").params)
+    assert params["antenna_height_m"] == pytest.approx(2.0)
+    app.scenario = Scenario.default()
+    assert "Tiuri" not in app.validity.value
 
 
 def test_trace_spacing_and_window_change_the_section_shape(app: ScenarioExplorer) -> None:
@@ -390,11 +405,11 @@ def test_save_then_open_restores_the_scenario(app: ScenarioExplorer, tmp_path) -
     app.snowpack.density.value = 260.0
     saved = app.scenario
     path = tmp_path / "plan.json"
-    app.path.value = str(path)
-    app.save_button.click()
-    assert path.exists() and "saved" in app.file_status.value
+    app.files.path.value = str(path)
+    app.files.save_button.click()
+    assert path.exists() and "saved" in app.files.status.value
     app.scenario = Scenario.example("two_burials")
-    app.open_button.click()
+    app.files.open_button.click()
     assert app.scenario == saved
     assert app.person.depth.value == 1.1
 
@@ -403,16 +418,16 @@ def test_opening_a_bad_file_shows_a_message(app: ScenarioExplorer, tmp_path) -> 
     good = app.scenario
     bad = tmp_path / "bad.json"
     bad.write_text("{not json")
-    app.path.value = str(bad)
+    app.files.path.value = str(bad)
     assert not app.open_file()
-    assert app.file_message.value != "" and app.scenario is good
-    app.path.value = str(tmp_path / "missing.json")
+    assert app.files.message.value != "" and app.scenario is good
+    app.files.path.value = str(tmp_path / "missing.json")
     assert not app.open_file()
-    assert "No such file" in app.file_message.value and app.scenario is good
+    assert "No such file" in app.files.message.value and app.scenario is good
 
 
 def test_exports_parse_back(app: ScenarioExplorer, tmp_path) -> None:
-    app.path.value = str(tmp_path / "plan.json")
+    app.files.path.value = str(tmp_path / "plan.json")
     paths = {k: app.export(k) for k in ("csv", "npz", "png", "report")}
     rg = app.radargram
     table = np.loadtxt(paths["csv"], delimiter=",")
@@ -516,3 +531,55 @@ def test_the_app_sends_few_widget_models() -> None:
     before = len(ipywidgets.widgets.widget._instances)
     ScenarioExplorer()
     assert len(ipywidgets.widgets.widget._instances) - before < 420
+
+
+# --------------------------------------------------------------------------- bounded work
+
+
+def test_work_over_the_page_limit_is_refused_saying_what_to_reduce(monkeypatch) -> None:
+    from snowprobe_widgets import serving
+
+    monkeypatch.setenv(serving.MAX_CELLS_ENV, str(512 * 300))  # the default: 512 x 201
+    monkeypatch.setenv(serving.MAX_WORK_ENV, "1e12")
+    app = ScenarioExplorer()
+    assert app.message_text == ""
+    first = app.scenario
+    picture = app.radargram_view.image_mark.image.value
+    app.radar.window.value = app.radar.window.value * 2  # twice the samples
+    text = app.message_text
+    assert "over this page's limit" in text and "fewer traces" in text
+    assert "shorter time window" in text
+    assert app.scenario is first
+    assert app.radargram_view.image_mark.image.value == picture
+    monkeypatch.setenv(serving.MAX_WORK_ENV, "10")
+    monkeypatch.setenv(serving.MAX_CELLS_ENV, str(10**9))
+    app.radar.window.value = app.radar.window.value / 2 * 1.01
+    assert "clutter scatterer density" in app.message_text
+
+
+def test_a_fault_in_a_callback_shows_a_plain_message_and_keeps_the_last_state(
+        app: ScenarioExplorer, monkeypatch) -> None:
+    good = app.scenario
+    depth = app.person.depth.value
+    picture = app.radargram_view.image_mark.image.value
+
+    def broken(*args, **kwargs):
+        raise RuntimeError("a fault deep in the model")
+
+    monkeypatch.setattr(app.simulation, "__call__", broken, raising=False)
+    monkeypatch.setattr(type(app.simulation), "__call__", broken)
+    app.person.depth.value = depth + 0.2
+    assert "Something went wrong here (RuntimeError)" in app.message_text
+    assert "Traceback" not in app.message.value
+    assert app.scenario is good
+    assert app.person.depth.value == depth  # controls back beside the picture they made
+    assert app.radargram_view.image_mark.image.value == picture
+    monkeypatch.undo()
+
+    def no_memory(*args, **kwargs):
+        raise MemoryError
+
+    monkeypatch.setattr(type(app.simulation), "__call__", no_memory)
+    app.person.depth.value = depth + 0.2
+    assert "more memory than this session may use" in app.message_text
+    assert app.scenario is good

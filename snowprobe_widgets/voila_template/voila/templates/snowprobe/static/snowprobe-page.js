@@ -1,4 +1,5 @@
-/* snowprobe page watch: show a plain notice when the page loses its kernel.
+/* snowprobe page watch: show a plain notice when the page loses its kernel, and load the
+ * page again when it has not drawn within a bounded time.
  *
  * Runs before the dashboard's own scripts open their sockets. It wraps the browser's
  * WebSocket so that every kernel-channel socket is watched:
@@ -158,5 +159,94 @@
       cells.style.display = "";
     }
     document.body.setAttribute("data-sp-ready", "true");
+    watchFirstDraw();
   };
+
+  // First-draw watch. A page whose outputs never arrive (the server gave up waiting for
+  // the kernel's output while many sessions started at once) or whose widgets never draw
+  // would stay blank for ever; instead it says so and loads again by itself (the
+  // launcher frees the old session of this browser), a few times at most.
+  var DRAW_DEADLINE_MS = 60000;
+  var EMPTY_PAGE_MS = 3000;
+  var MAX_RETRIES = 3;
+  var RETRY_KEY = "snowprobe-retries:" + window.location.pathname;
+
+  function retries() {
+    try {
+      return Number(window.sessionStorage.getItem(RETRY_KEY) || "0");
+    } catch (err) {
+      return MAX_RETRIES;
+    }
+  }
+
+  function drawn() {
+    var cells = document.getElementById("rendered_cells");
+    if (!cells) {
+      return false;
+    }
+    var views = cells.querySelectorAll(".jupyter-widgets");
+    for (var i = 0; i < views.length; i++) {
+      var text = views[i].textContent || "";
+      if (text.indexOf("Loading widget") !== 0 && text.indexOf("Error displaying") !== 0) {
+        return true;
+      }
+    }
+    return false;
+  }
+
+  function expectsWidgets() {
+    // every dashboard displays an app; a page with no output at all never will
+    return document.querySelectorAll("#rendered_cells .jp-Cell:not(.jp-mod-noOutputs)")
+      .length > 0;
+  }
+
+  function retry(reason) {
+    var n = retries();
+    if (n >= MAX_RETRIES) {
+      document.body.setAttribute("data-sp-draw", "failed");
+      show(reason + " Loading it again did not help: the server is very busy. Wait a " +
+        "minute, then reload the page.", false);
+      return;
+    }
+    try {
+      window.sessionStorage.setItem(RETRY_KEY, String(n + 1));
+    } catch (err) {
+      return;
+    }
+    document.body.setAttribute("data-sp-draw", "retrying");
+    show(reason + " Loading it again by itself (attempt " + (n + 2) + " of " +
+      (MAX_RETRIES + 1) + ").", true);
+    window.setTimeout(function () {
+      window.location.reload();
+    }, 1500);
+  }
+
+  function watchFirstDraw() {
+    var started = Date.now();
+    var timer = window.setInterval(function () {
+      if (stopped) {
+        window.clearInterval(timer);
+        return;
+      }
+      if (drawn()) {
+        window.clearInterval(timer);
+        document.body.setAttribute("data-sp-draw", "drawn");
+        try {
+          window.sessionStorage.removeItem(RETRY_KEY);
+        } catch (err) {
+          return;
+        }
+        return;
+      }
+      var waited = Date.now() - started;
+      if (!expectsWidgets() && waited > EMPTY_PAGE_MS) {
+        window.clearInterval(timer);
+        retry("This page arrived without its dashboard.");
+      } else if (waited > DRAW_DEADLINE_MS) {
+        window.clearInterval(timer);
+        retry("This page has not drawn its dashboard within " + DRAW_DEADLINE_MS / 1000 +
+          " s.");
+      }
+    }, 500);
+  }
 })();
