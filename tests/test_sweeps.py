@@ -57,19 +57,28 @@ def test_package_level_sweep_is_the_function_and_dims_are_the_paths(small):
         assert ds[name].attrs["units"]
 
 
-def test_identical_in_process_on_a_pool_and_on_a_dask_cluster():
+def test_identical_in_process_on_a_pool_and_on_a_dask_cluster(tmp_path):
     distributed = pytest.importorskip("distributed")
+    from snowprobe_widgets.sweep_spec import run_command
+
     base = Scenario.example("shallow_dry_powder")
     vary = {DEPTH: [0.5, 1.1]}
     kw = dict(uncertain={WET: Uniform(0.0, 2.0)}, realizations=3, seed=3, progress=False)
     serial = sweeps.sweep(base, vary, executor=1, **kw)
     pooled = sweeps.sweep(base, vary, executor=2, chunk_size=1, **kw)
+    spec = tmp_path / "spec.json"
+    spec.write_text(spec_to_json("example:shallow_dry_powder", vary,
+                                 {WET: Uniform(0.0, 2.0).to_dict()}, realizations=3, seed=3))
     with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
                                   dashboard_address=None) as cluster, \
             distributed.Client(cluster) as client:
         on_dask = sweeps.sweep(base, vary, executor=client, chunk_size=2, **kw)
+        # the command's --scheduler ADDRESS path, on the same cluster
+        assert run_command(str(spec), str(tmp_path / "cli.nc"),
+                           scheduler=cluster.scheduler_address, progress=False) == 0
     xr.testing.assert_identical(serial, pooled)
     xr.testing.assert_identical(serial, on_dask)
+    xr.testing.assert_identical(serial, sweeps.load(tmp_path / "cli.nc"))
 
 
 def test_probability_falls_with_depth_and_wetness():
