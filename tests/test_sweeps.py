@@ -242,3 +242,22 @@ def test_command_line_sweep_from_a_spec(tmp_path, capsys):
     bad.write_text(json.dumps(extra))
     assert snowprobe_main(["sweep", str(bad), "--out", str(tmp_path / "y.nc")]) == 2
     assert "colour" in capsys.readouterr().err
+
+
+def test_spec_reads_a_base_file_next_to_it_and_refuses_duplicates(tmp_path):
+    from snowprobe_widgets.sweep_spec import SweepSpecError, read_spec
+
+    sc = Scenario.example("two_burials")
+    sc.save(tmp_path / "scene.json")
+    spec = tmp_path / "spec.json"
+    spec.write_text(spec_to_json("scene.json", {"persons[1].offset_m": [0.0, 0.5]},
+                                 realizations=4))
+    kwargs = read_spec(spec)
+    assert kwargs["base"] == sc and kwargs["realizations"] == 4 and kwargs["reduced"]
+    spec.write_text('{"format": "snowprobe-sweep-spec", "version": 1, "base": "scene.json",'
+                    ' "vary": {}, "vary": {}}')
+    with pytest.raises(SweepSpecError, match="given twice"):
+        read_spec(spec)
+    spec.write_text(spec_to_json("missing.json", {}))
+    with pytest.raises(SweepSpecError, match="missing.json"):
+        read_spec(spec)
