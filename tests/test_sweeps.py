@@ -261,3 +261,18 @@ def test_spec_reads_a_base_file_next_to_it_and_refuses_duplicates(tmp_path):
     spec.write_text(spec_to_json("missing.json", {}))
     with pytest.raises(SweepSpecError, match="missing.json"):
         read_spec(spec)
+
+
+def test_sweeps_import_no_user_interface():
+    import subprocess
+    import sys
+
+    code = ("import sys; from snowprobe_widgets import sweeps, sweep_spec; "
+            "from snowprobe_widgets.scene import Scenario; "
+            "sweeps.empty_sweep(Scenario.default(), {'persons[0].depth_m': [0.5]}, "
+            "realizations=1); p = sweeps._Progress(1, True, None); p.update(1); p.close(); "
+            "bad = [m for m in sys.modules if m.split('.')[0] in ('ipywidgets', 'bqplot')]; "
+            "print(bad); sys.exit(1 if bad else 0)")
+    res = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         check=False)
+    assert res.returncode == 0, res.stdout + res.stderr
