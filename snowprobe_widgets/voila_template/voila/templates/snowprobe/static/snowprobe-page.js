@@ -166,7 +166,7 @@
   // the kernel's output while many sessions started at once) or whose widgets never draw
   // would stay blank for ever; instead it says so and loads again by itself (the
   // launcher frees the old session of this browser), a few times at most.
-  var DRAW_DEADLINE_MS = 60000;
+  var DRAW_DEADLINE_MS = 120000;
   var EMPTY_PAGE_MS = 3000;
   var MAX_RETRIES = 3;
   var RETRY_KEY = "snowprobe-retries:" + window.location.pathname;
