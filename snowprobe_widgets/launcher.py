@@ -749,12 +749,22 @@ def serve(options: ServeOptions) -> int:
         app.default_router.rules.insert(
             0, app.default_router.process_rule(Rule(HostMatches(".*$"), ours)))
         logged = app.settings.get("log_function")
-        if logged is not None:
-            def log_function(handler: Any) -> None:
-                if not isinstance(handler, quiet_kinds):
-                    logged(handler)
 
-            app.settings["log_function"] = log_function
+        def log_function(handler: Any) -> None:
+            if isinstance(handler, quiet_kinds):
+                return  # 404s for probing paths: no log line (it would show the token)
+            if logged is not None:
+                logged(handler)
+                return
+            from tornado.log import access_log
+
+            status = handler.get_status()
+            write = access_log.info if status < 400 else (
+                access_log.warning if status < 500 else access_log.error)
+            write("%d %s %.2fms", status, handler._request_summary(),
+                  1000.0 * handler.request.request_time())
+
+        app.settings["log_function"] = log_function
         app.transforms.append(_visitor_transform())
 
     target = options.dashboard.path if options.dashboard else dashboards_dir()
