@@ -329,6 +329,13 @@ class ScenarioExplorer(widgets.VBox):
 
     def _show_accepted(self, scenario: Scenario, raw: Radargram, pick_m: float | None) -> None:
         old = self._scenario
+        if old is not None and old.radar != scenario.radar:
+            # a new sampling may put the tuned band above Nyquist or the dewow window
+            # beyond the record: fit them, keep everything else the user chose
+            chain = self.processing.chain()
+            fitted = chain.fitted_to(scenario.radar)
+            if fitted != chain:
+                self.processing.show(fitted)
         self._scenario = scenario
         self._raw = raw
         if old is None or _column_media_key(old) != _column_media_key(scenario):

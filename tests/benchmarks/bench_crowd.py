@@ -75,8 +75,14 @@ async def _visitor(browser, url: str) -> tuple[float | None, str]:
         return time.perf_counter() - start, ""
     except Exception as exc:  # a page that never drew: recorded, not raised
         state = await page.evaluate(
-            "() => [document.body && document.body.getAttribute('data-sp-draw'),"
-            " document.body && document.body.getAttribute('data-sp-kernel')]")
+            "() => ({ready: document.body && document.body.getAttribute('data-sp-ready'),"
+            " draw: document.body && document.body.getAttribute('data-sp-draw'),"
+            " kernel: document.body && document.body.getAttribute('data-sp-kernel'),"
+            " emptyCells: document.querySelectorAll('.jp-Cell.jp-mod-noOutputs').length,"
+            " widgets: document.querySelectorAll('#rendered_cells .jupyter-widgets').length,"
+            " loadingWidget: document.body && document.body.innerText.includes("
+            "'Loading widget'), notice: (document.querySelector('#sp-notice') || {})"
+            ".innerText})")
         return None, f"{type(exc).__name__}; page state {state}"
 
 
