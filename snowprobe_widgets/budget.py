@@ -525,12 +525,13 @@ def _depth_sentence(lim: _DepthLimit, radar: Any, thr: float) -> str:
         return f"Detectable at every depth searched, down to {SEARCH_LIMIT_M:g} m; {beyond}."
     if lim.limited_by == "window":
         if lim.snow_limited_by == "search limit":
-            reach = (f"the snow would pass its echo from deeper than {SEARCH_LIMIT_M:g} m "
+            reach = (f"the snow would let its echo through from deeper than {SEARCH_LIMIT_M:g} m "
                      f"({beyond}), which needs a window of more than "
                      f"{lim.window_needed_s * 1e9:.0f} ns")
         else:
-            reach = (f"the snow would pass its echo from about {lim.snow_depth_m:.1f} m, which "
-                     f"needs a window of about {lim.window_needed_s * 1e9:.0f} ns")
+            reach = (f"the snow would let its echo through from as deep as about "
+                     f"{lim.snow_depth_m:.1f} m, which needs a window of about "
+                     f"{lim.window_needed_s * 1e9:.0f} ns")
         return (f"Deepest detectable at this setting: about {lim.depth_m:.1f} m, where the "
                 f"{radar.time_window_s * 1e9:.0f} ns recording window ends, not the snow: "
                 f"{reach}.")

@@ -25,7 +25,8 @@ Scheme (Yee 1966; Taflove & Hagness, *Computational Electrodynamics*, 3rd ed. 20
 - square cells dx, time step at Courant number ``COURANT`` (0.99 of the 2-D limit
   1/sqrt(2)); lossy media by the semi-implicit conductivity update (T&H eq. 3.28); media
   frozen at the pulse centre frequency as in the 1-D solver
-  (:func:`snowprobe_widgets.fdtd.frozen_at`);
+  (``eps'(f0)`` and ``sigma = 2 pi f0 eps0 eps''(f0)``, as
+  :func:`snowprobe_widgets.fdtd.frozen_at`);
 - absorbing boundaries: a convolutional PML (Roden & Gedney, Microw. Opt. Technol. Lett.
   27, 2000; T&H sect. 7.9) of ``PML_CELLS`` cells on all four sides, polynomial grading
   m = 3, sigma_max = 0.8 (m + 1) / (eta0 dx), kappa = 1, alpha falling from
@@ -56,7 +57,7 @@ import numpy as np
 
 from ._validate import check_choice, check_range
 from .constants import C0_M_S, EPS0_F_M
-from .fdtd import frozen_at
+from .fdtd import _frozen_params
 from .materials import Material
 from .pulses import Pulse
 
@@ -132,6 +133,20 @@ class Scene2D:
     layers: tuple[tuple[float, float, float], ...]
     upper: tuple[float, float] = (1.0, 0.0)
     cylinder: tuple[float, float, float, float, float, bool] | None = None
+
+    def __post_init__(self) -> None:
+        for name in ("x_range_m", "z_range_m"):
+            lo, hi = getattr(self, name)
+            check_range(f"{name}[0]", lo, -1e4, 1e4, unit="m")
+            check_range(f"{name}[1]", hi, float(lo), 1e4, unit="m", low_open=True)
+        for j, (d, e, sg) in enumerate(self.layers):
+            check_range(f"layers[{j}] thickness", d, 0.0, 1e4, unit="m", low_open=True)
+            check_range(f"layers[{j}] eps_r", e, 1.0, 100.0)
+            check_range(f"layers[{j}] sigma", sg, 0.0, 100.0, unit="S/m")
+        check_range("upper eps_r", self.upper[0], 1.0, 100.0)
+        check_range("upper sigma", self.upper[1], 0.0, 100.0, unit="S/m")
+        if not self.layers:
+            raise ValueError("layers must hold at least one layer (the last extends down)")
 
     def sample(self, x: np.ndarray, z: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """(eps_r, sigma, perfect-conductor flag) at points (x, z), arrays of their shape."""
@@ -333,11 +348,14 @@ def solve_scene(
     """
     pol = check_choice("polarization", polarization, POLARIZATIONS)
     start = time.perf_counter()
-    dx = float(dx_m)
+    dx = check_range("dx_m", dx_m, 1e-4, 1.0, unit="m")
+    check_range("duration_s", duration_s, 0.0, 1e-6, unit="s", low_open=True)
+    check_range("center_frequency_hz", center_frequency_hz, 1e6, 1e11, unit="Hz")
     dt = COURANT * dx / C0_M_S
     pml = PML_CELLS
     (x_lo, x_hi), (z_lo, z_hi) = scene.x_range_m, scene.z_range_m
-    sx, sz = (float(v) for v in source_m)
+    sx = check_range("source_m[0]", source_m[0], x_lo, x_hi, unit="m")
+    sz = check_range("source_m[1]", source_m[1], z_lo, z_hi, unit="m")
     shift = 0.5 * dx if pol == "TM" else 0.0  # the H_y node is at (i + 1/2, k + 1/2)
     i_s = int(math.ceil((sx - x_lo) / dx)) + pml
     k_s = int(math.ceil((sz - z_lo) / dx)) + pml
@@ -479,12 +497,6 @@ class CylinderTrace:
     elapsed_s: float
 
 
-def _frozen_eps_sigma(material: Material, f0: float) -> tuple[float, float]:
-    m = frozen_at(material, f0)
-    eps = complex(m.permittivity(f0))
-    return eps.real, 2 * math.pi * f0 * EPS0_F_M * max(-eps.imag, 0.0)
-
-
 def cylinder_trace(
     materials: Sequence[Material],
     thickness_m: Sequence[float],
@@ -507,9 +519,10 @@ def cylinder_trace(
     materials, thickness_m
         The snow layers, top down, plus the ground (one material more than thicknesses,
         as for :func:`snowprobe_widgets.fdtd.fdtd_trace`); frozen at the pulse centre
-        frequency. The domain ends ``margin_m`` below the cylinder: what lies deeper
-        continues into the absorbing layer (its echoes would be the same in both runs and
-        cancel, apart from multiples between it and the cylinder).
+        frequency. The domain ends ``margin_m`` below the cylinder (at the ground surface
+        when the ground is metal): what lies deeper continues into the absorbing layer
+        (its echoes would be the same in both runs and cancel, apart from multiples
+        between it and the cylinder).
     cylinder : BuriedCylinder
     antenna_x_m, antenna_height_m : float
         Antenna (line source and receiver) position along the line and height, m.
@@ -542,19 +555,20 @@ def cylinder_trace(
     if not isinstance(cylinder, BuriedCylinder):
         raise ValueError(f"cylinder must be a BuriedCylinder, got {type(cylinder).__name__}")
     f0 = pulse.center_frequency_hz
-    layers = tuple((float(t), *_frozen_eps_sigma(m, f0))
+    c = cylinder
+    snow_depth = float(d.sum())
+    if c.centre_depth_m + c.radius_m > snow_depth:
+        raise ValueError(f"the cylinder reaches {c.centre_depth_m + c.radius_m:g} m, "
+                         f"below the {snow_depth:g} m snowpack")
+    bottom = c.centre_depth_m + c.radius_m + margin
+    metal_ground = materials[-1].perfect_conductor
+    if metal_ground:  # left out: the absorbing layer continues the lowest snow layer
+        bottom = min(bottom, snow_depth)
+    layers = tuple((float(t), *_frozen_params(m, f0))
                    for t, m in zip(list(d) + [1.0], materials, strict=True)
                    if not m.perfect_conductor)
-    if materials[-1].perfect_conductor:
-        raise ValueError("cylinder_trace needs a dielectric ground (a metal ground is a 1-D "
-                         "check: use snowprobe_widgets.fdtd.fdtd_trace)")
-    c = cylinder
     pec = c.material.perfect_conductor
-    e_c, s_c = (1.0, 0.0) if pec else _frozen_eps_sigma(c.material, f0)
-    bottom = c.centre_depth_m + c.radius_m + margin
-    if bottom > float(d.sum()):
-        raise ValueError(f"the cylinder reaches {c.centre_depth_m + c.radius_m:g} m, "
-                         f"below the {float(d.sum()):g} m snowpack")
+    e_c, s_c = (1.0, 0.0) if pec else _frozen_params(c.material, f0)
     scene = Scene2D((min(xa, c.position_m - c.radius_m) - margin,
                      max(xa, c.position_m + c.radius_m) + margin),
                     (-h - margin, bottom), layers,
@@ -657,7 +671,9 @@ def scenario_cylinder(scenario: object) -> tuple[BuriedCylinder, str]:
     elif kind == "boulder":
         d = obj.diameter_m
         material = obj.material()
-        what = f"the boulder as a rock cylinder {d:.2f} m across"
+        what = (f"the boulder as a rock cylinder {d:.2f} m across (a cylinder focuses in "
+                "one plane only: its back-face echo differs from a sphere's in phase and "
+                "strength)")
     elif kind == "branch":
         from .materials import rock
 
@@ -706,10 +722,9 @@ def scenario_check(scenario: object, position_m: float, *,
     mats = list(scenario.snowpack.materials()) + [scenario.ground.material()]
     thick = scenario.snowpack.thicknesses_m
     # the size of the run before starting it
-    n_max = max([math.sqrt(_frozen_eps_sigma(m, pulse.center_frequency_hz)[0])
-                 for m in mats] + ([1.0] if cyl.material.perfect_conductor else
-                                   [math.sqrt(_frozen_eps_sigma(cyl.material,
-                                                                pulse.center_frequency_hz)[0])]))
+    f0 = pulse.center_frequency_hz
+    media = [m for m in mats + [cyl.material] if not m.perfect_conductor]
+    n_max = max([1.0] + [math.sqrt(_frozen_params(m, f0)[0]) for m in media])
     dx = grid_step_m(pulse.band_hz(1e-2)[1], n_max, 10.0, cyl.radius_m)
     width = abs(cyl.position_m - x) + cyl.radius_m + 0.6
     height = radar.antenna_height_m + cyl.centre_depth_m + cyl.radius_m + 0.6

@@ -7,11 +7,12 @@ is measured where the persons are not. Both radargrams go through the default pr
 chain and the detector; the detections are scored against the truth with
 :func:`snowprobe_widgets.detection.compare_with_truth`.
 
-The radargram is built from four linear parts of :func:`snowprobe_widgets.synthesis.simulate`
-(the layered column with its thin clutter layers; clutter scatterers and debris objects;
-receiver noise; the persons), so the twin shares three of them and the echo-to-clutter
-ratio can be measured on the clutter part alone. The sum equals one full simulation to
-rounding (``simulate`` is linear in its parts; tests/test_sweeps.py checks it).
+The radargram is built from three linear parts of
+:func:`snowprobe_widgets.synthesis.simulate` (the layered column with its thin clutter
+layers and the receiver noise; clutter scatterers and debris objects; the persons), so
+the twin shares two of them and the echo-to-clutter ratio can be measured on the clutter
+part alone. The sum equals one full simulation to rounding (``simulate`` is linear in
+its parts; tests/test_sweeps.py checks it).
 
 **Reduced scene** (the default in sweeps): only what the detector uses is simulated:
 the base line's traces within :data:`LINE_HALF_WIDTH_M` of the persons (the same trace
@@ -145,20 +146,21 @@ def _without_scatterers(scenario: Any) -> Any:
 def realization_radargrams(scenario: Any) -> tuple[Radargram, Radargram, dict[str, Radargram]]:
     """(with persons, nobody-buried twin, parts) for ``scenario`` as given.
 
-    Parts: ``"column"`` (layers and thin clutter layers), ``"clutter"`` (clutter
-    scatterers and debris objects), ``"noise"`` and ``"persons"``; the twin is
-    column + clutter + noise, the radargram with the persons adds the persons' echoes.
+    Parts: ``"column"`` (layers, thin clutter layers and receiver noise: the noise is
+    seeded by the clutter seed, which the part keeps), ``"clutter"`` (clutter scatterers
+    and debris objects) and ``"persons"``; the twin is column + clutter, the radargram
+    with the persons adds the persons' echoes.
     """
     twin = dataclasses.replace(scenario, persons=())
     parts = {
-        "column": simulate(_without_scatterers(twin), components=("layers", "clutter")),
+        "column": simulate(_without_scatterers(twin),
+                           components=("layers", "clutter", "noise")),
         "clutter": simulate(twin, components=("clutter", "objects")),
-        "noise": simulate(twin, components=("noise",)),
         "persons": simulate(dataclasses.replace(scenario, objects=()),
                             components=("objects",)),
     }
     base = parts["column"]
-    twin_data = parts["column"].data + parts["clutter"].data + parts["noise"].data
+    twin_data = parts["column"].data + parts["clutter"].data
     twin_rg = Radargram(twin_data, base.time_s, base.position_m, scenario=twin, truth=())
     full = Radargram(twin_data + parts["persons"].data, base.time_s, base.position_m,
                      scenario=scenario, truth=parts["persons"].truth)

@@ -33,7 +33,7 @@ import json
 import math
 import multiprocessing
 import os
-import sys
+import signal
 import tempfile
 import threading
 from collections.abc import Callable, Mapping, Sequence
@@ -330,7 +330,14 @@ def local_pool(workers: int) -> cf.ProcessPoolExecutor:
         ctx.set_forkserver_preload(["snowprobe_widgets.sweeps"])
     else:
         ctx = multiprocessing.get_context("spawn")
-    return cf.ProcessPoolExecutor(max_workers=workers, mp_context=ctx)
+    return cf.ProcessPoolExecutor(max_workers=workers, mp_context=ctx,
+                                  initializer=_ignore_interrupt)
+
+
+def _ignore_interrupt() -> None:
+    """Workers leave Ctrl-C to the process that started them, which stops handing out
+    work and keeps what the workers finish."""
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
 
 
 def _chunks(items: list[tuple[int, int]], size: int) -> list[list[tuple[int, int]]]:
@@ -398,20 +405,33 @@ def _execute(plan: _Plan, items: list[tuple[int, int]], executor: Any, progress:
     else:
         raise ValueError(f"executor must be None, a worker count, an Executor or a "
                          f"dask.distributed.Client, got {type(executor).__name__}")
+    kept: set[int] = set()
+
+    def keep(fut: Any) -> None:
+        part = fut.result()
+        sink(part)
+        kept.add(id(fut))
+        progress.update(len(part))
+
     try:
         for fut in done_iter:
+            keep(fut)
             if stop.is_set():
                 break
-            part = fut.result()
-            sink(part)
-            progress.update(len(part))
         else:
             return True
     except KeyboardInterrupt:
         stop.set()
-    # stopped: drop what has not started, keep what finished
+    # stopped: drop what has not started, keep what finished or was already running
     for fut in futures:
         fut.cancel()
+    if isinstance(executor, cf.Executor):
+        cf.wait(futures)
+    for fut in futures:
+        if id(fut) not in kept and fut.done() and not fut.cancelled() \
+                and getattr(fut, "status", "finished") == "finished" \
+                and fut.exception() is None:
+            keep(fut)
     return False
 
 
@@ -703,10 +723,6 @@ def _run(plan: _Plan, rec: _Records, executor: Any, progress: bool,
     finally:
         bar.close()
     complete = complete and bool(rec.arrays["done"].all())
-    if not complete:
-        print(f"sweep stopped: {int(rec.arrays['done'].sum())} of "
-              f"{rec.arrays['done'].size} realizations finished; resume() completes it",
-              file=sys.stderr)
     return _dataset(plan, rec, complete)
 
 
@@ -773,6 +789,9 @@ def save(dataset: Any, path: str | os.PathLike[str]) -> None:
     os.close(fd)
     try:
         dataset.to_netcdf(tmp, engine="scipy")
+        mask = os.umask(0)
+        os.umask(mask)
+        os.chmod(tmp, 0o666 & ~mask)  # as an ordinary new file (mkstemp makes it 0600)
         os.replace(tmp, target)
     except BaseException:
         if os.path.exists(tmp):

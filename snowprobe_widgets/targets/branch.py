@@ -33,7 +33,7 @@ from .base import (
     fresnel_angle_ratio,
     set_field,
 )
-from .series import cylinder_echo, cylinder_po_shape
+from .series import cylinder_echoes, cylinder_po_shape
 
 __all__ = ["Branch", "BranchKind", "DRY_WOOD_PERMITTIVITY", "MIN_LENGTH_WAVELENGTHS"]
 
@@ -151,8 +151,8 @@ class BranchKind:
         x = 2 * math.pi * f * math.sqrt(eps_s) / C0_M_S * (obj.diameter_m / 2)
         m = math.sqrt(obj.permittivity / eps_s)
         beta = math.radians(field_axis_angle_deg(obj.heading_deg, polarization))
-        echo = (cylinder_echo(x, m, "along") * math.cos(beta) ** 2
-                + cylinder_echo(x, m, "across") * math.sin(beta) ** 2)
+        along, across = cylinder_echoes(x, m)
+        echo = along * math.cos(beta) ** 2 + across * math.sin(beta) ** 2
         return Reflection(ratio, echo, cylinder_po_shape(x, ratio, ANGLES_DEG))
 
     def outline(self, obj: Branch) -> tuple[np.ndarray, np.ndarray]:

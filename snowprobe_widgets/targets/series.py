@@ -27,8 +27,8 @@ import math
 import numpy as np
 from scipy import special
 
-__all__ = ["sphere_echo", "cylinder_echo", "sphere_po_shape", "cylinder_po_shape",
-           "n_terms"]
+__all__ = ["sphere_echo", "cylinder_echo", "cylinder_echoes", "sphere_po_shape",
+           "cylinder_po_shape", "n_terms"]
 
 
 def n_terms(x: float) -> int:
@@ -111,37 +111,57 @@ def cylinder_echo(x: np.ndarray, m: np.ndarray | None, case: str) -> np.ndarray:
         front face, that reference being -1. The echo width is
         ``sigma_2d = pi a |result|^2``.
     """
+    along, across = cylinder_echoes(x, m)
+    return along if case == "along" else across
+
+
+def _with_derivative(values: np.ndarray, z: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """C_n and C_n' for n = 0..N from C_n, n = 0..N+1, of a Bessel-type function:
+    C_n' = C_{n-1} - (n / z) C_n, C_0' = -C_1 (Abramowitz & Stegun 9.1.27)."""
+    n = np.arange(values.shape[0] - 1)[:, None]
+    c = values[:-1]
+    d = np.empty_like(c)
+    d[0] = -values[1]
+    d[1:] = values[:-2] - n[1:] / z * c[1:]
+    return c, d
+
+
+def cylinder_echoes(x: np.ndarray, m: np.ndarray | None) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`cylinder_echo` for the field along and across the axis, computed together
+    (one set of Bessel functions for both)."""
     x = np.atleast_1d(np.asarray(x, float))
     n_max = n_terms(float(x.max()))
     with np.errstate(all="ignore"):  # terms beyond a frequency's nstop are masked out
-        return _cylinder_sum(x, m, case, n_max)
+        return _cylinder_sums(x, m, n_max)
 
 
-def _cylinder_sum(x: np.ndarray, m: np.ndarray | None, case: str, n_max: int) -> np.ndarray:
-    n = np.arange(n_max + 1)[:, None]
-    nstop = np.array([n_terms(v) for v in x])[None, :]
+def _cylinder_sums(x: np.ndarray, m: np.ndarray | None, n_max: int
+                   ) -> tuple[np.ndarray, np.ndarray]:
+    n_all = np.arange(n_max + 2)[:, None]
+    n = n_all[:-1]
     xx = x[None, :]
-    jx, djx = special.jv(n, xx), special.jvp(n, xx)
-    hx, dhx = special.hankel1(n, xx), special.h1vp(n, xx)
+    jx, djx = _with_derivative(special.jv(n_all, xx), xx)
+    hx, dhx = _with_derivative(special.hankel1(n_all, xx), xx)
     if m is None:
-        coef = jx / hx if case == "along" else djx / dhx
+        coef_along, coef_across = jx / hx, djx / dhx
     else:
         mb = np.conj(np.broadcast_to(np.asarray(m, complex), x.shape))[None, :]
-        jm, djm = special.jv(n, mb * xx), special.jvp(n, mb * xx)
-        if case == "along":
-            coef = (jm * djx - mb * djm * jx) / (jm * dhx - mb * djm * hx)
-        else:
-            coef = (mb * djx * jm - jx * djm) / (mb * jm * dhx - djm * hx)
-    weight = np.where(n == 0, 1.0, 2.0) * (-1.0) ** n
-    terms = np.where(n <= nstop, weight * coef, 0.0)
-    t = np.sum(terms, axis=0)
-    # t is T(180 deg) of the book; the geometric-optics echo of a large perfect conductor
-    # is -/+ (sqrt(pi x) / 2) exp(-2ix) exp(-3i pi / 4) along / across the axis (the
-    # book's basis vectors differ between the cases; checked in
+        z = mb * xx
+        if not np.any(z.imag):
+            z = z.real  # real-argument Bessel functions are much cheaper
+        jm, djm = _with_derivative(special.jv(n_all, z), z)
+        coef_along = (jm * djx - mb * djm * jx) / (jm * dhx - mb * djm * hx)
+        coef_across = (mb * djx * jm - jx * djm) / (mb * jm * dhx - djm * hx)
+    nstop = np.array([n_terms(v) for v in x])[None, :]
+    weight = np.where(n <= nstop, np.where(n == 0, 1.0, 2.0) * (-1.0) ** n, 0.0)
+    # the sums are T(180 deg) of the book; the geometric-optics echo of a large perfect
+    # conductor is -/+ (sqrt(pi x) / 2) exp(-2ix) exp(-3i pi / 4) along / across the axis
+    # (the book's basis vectors differ between the cases; checked in
     # tests/targets/test_series.py against the series itself at x = 200)
-    sign = 1.0 if case == "along" else -1.0
-    return np.conj(sign * t * np.exp(2j * x) * np.exp(0.75j * math.pi)
-                   / (math.sqrt(math.pi) * np.sqrt(x) / 2.0))
+    ref = np.exp(2j * x) * np.exp(0.75j * math.pi) / (math.sqrt(math.pi) * np.sqrt(x) / 2.0)
+    along = np.conj(np.sum(np.where(weight != 0, weight * coef_along, 0.0), axis=0) * ref)
+    across = np.conj(-np.sum(np.where(weight != 0, weight * coef_across, 0.0), axis=0) * ref)
+    return along, across
 
 
 def _midpoints(x_max: float, lo: float, hi: float) -> tuple[np.ndarray, float]:

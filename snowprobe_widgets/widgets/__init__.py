@@ -4,9 +4,10 @@ This is the only package that imports ipywidgets or bqplot; the model layer belo
 never imports this package.
 
 Apps: :class:`ScenarioExplorer` (everything around one scenario),
-:class:`MaterialsExplorer`, :class:`TrainingSession` (blind radargram exercises) and
-:class:`DetectabilityView` (detection probability from Monte Carlo sweeps); their pieces
-(control panels, views) are importable too.
+:class:`MaterialsExplorer`, :class:`TrainingSession` (blind radargram exercises),
+:class:`DetectabilityView` (detection probability from Monte Carlo sweeps) and
+:class:`SearchPlanBoard` (the search plan); their pieces (control panels, views) are
+importable too.
 """
 
 from __future__ import annotations
@@ -27,6 +28,7 @@ from snowprobe_widgets.widgets.panels import (
     RadarPanel,
     SnowpackEditor,
 )
+from snowprobe_widgets.widgets.plan import SearchPlanBoard
 from snowprobe_widgets.widgets.processing_panel import ProcessingPanel
 from snowprobe_widgets.widgets.radargram_view import RadargramView
 from snowprobe_widgets.widgets.training import TrainingSession
@@ -46,6 +48,7 @@ __all__ = [
     "RadarPanel",
     "RadargramView",
     "ScenarioExplorer",
+    "SearchPlanBoard",
     "SnowpackEditor",
     "SpectrumView",
     "TraceView",

@@ -51,7 +51,7 @@ READY_JS = """(statusSelector) => {
 #: The status line each dashboard updates after drawing.
 STATUS_SELECTOR = {"design": ".sp-radargram-status", "materials": ".sp-materials-status",
                    "training": ".sp-training-status",
-                   "detectability": ".sp-detectability-status"}
+                   "detectability": ".sp-detectability-status", "plan": ".sp-plan-status"}
 
 
 def chromium_missing_reason() -> str | None:

@@ -27,7 +27,7 @@ from snowprobe_widgets.scenario_files import loads
 #: Time limit for a first render with one visitor (the goal is under 5 s; CI machines vary).
 RENDER_LIMIT_S = 60.0
 
-DASHBOARDS = ["materials", "design", "training", "detectability"]
+DASHBOARDS = ["materials", "design", "training", "detectability", "plan"]
 
 
 @pytest.fixture(scope="module")

@@ -130,6 +130,21 @@ def test_validity_warnings_show_under_the_status_line(app: ScenarioExplorer) -> 
     assert "the body is small" not in app.validity.value
 
 
+def test_material_band_warnings_and_air_gap_migration_follow_the_scenario(
+        app: ScenarioExplorer) -> None:
+    # a material model outside its calibrated band is said on screen (validity line),
+    # and the migration step migrates through the radar's air gap
+    app.scenario = Scenario.example("deep_wet_spring")  # Tiuri wet snow at 400 MHz
+    assert "Tiuri et al. 1984" in app.validity.value
+    assert app.processing.mig_height.value == pytest.approx(0.3)
+    app.radar.height.value = 2.0
+    assert app.processing.mig_height.value == pytest.approx(2.0)
+    params = dict(next(st for st in app.processing.chain().steps if st.name == "migrate").params)
+    assert params["antenna_height_m"] == pytest.approx(2.0)
+    app.scenario = Scenario.default()
+    assert "Tiuri" not in app.validity.value
+
+
 def test_trace_spacing_and_window_change_the_section_shape(app: ScenarioExplorer) -> None:
     app.radar.spacing.value = 10.0
     assert app.radargram.data.shape[1] == 101
