@@ -115,9 +115,10 @@ who can reach the page:
   scenarios come in by upload and results leave as downloads.
 
 serving more people:
-  each session needs a share of the CPU and about 150 MB of memory; on two cores
-  about 20 visitors arriving together wait up to a minute. For more, use more
-  cores, several servers behind a proxy, or JupyterHub (see the README).
+  each session costs the server about 2.5 CPU-seconds to start and about 135 MB
+  of its own memory; visitors arriving together wait about (visitors x 2.5 s /
+  cores). For more, use more cores, several servers behind a proxy, or
+  JupyterHub (see the README).
 """
 
 

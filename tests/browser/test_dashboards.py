@@ -194,3 +194,48 @@ def test_scenario_and_data_download_then_the_scenario_uploads_again(opened, serv
         ".trim() === '1.25'", timeout=30_000)
     assert list(server.workdir.iterdir()) == []  # nothing written on the server
     assert record.foreign_requests(server.base_url) == []
+
+
+def test_a_page_that_arrives_without_its_dashboard_says_so_and_loads_again(server, browser):
+    # what ten visitors at once used to get: the page without the app's output (the server
+    # stopped waiting for it). Simulated by removing the output from the first response.
+    import re as _re
+
+    from harness import READY_JS, dashboard_url
+
+    context = browser.new_context(viewport={"width": 1500, "height": 1100})
+    try:
+        page = context.new_page()
+        url = dashboard_url(server.base_url, "materials")
+        served = []
+
+        def strip_first(route):
+            response = route.fetch()
+            body = response.text()
+            if not served:
+                body = _re.sub(r'<script type="application/vnd\.voila\.cell-output\+json">'
+                               r".*?</script>", "", body, flags=_re.S)
+            served.append(len(body))
+            route.fulfill(response=response, body=body)
+
+        page.route(url, strip_first)
+        page.goto(url, wait_until="commit")
+        said = page.wait_for_function(
+            "() => { const n = document.querySelector('#sp-notice .sp-notice-text');"
+            " return n && n.textContent.includes('arrived without its dashboard')"
+            " && n.textContent; }", timeout=120_000, polling=100).json_value()
+        assert "Loading it again by itself" in said
+        try:
+            page.wait_for_function(READY_JS, arg=STATUS_SELECTOR["materials"],
+                                   timeout=180_000, polling=250)
+        except Exception:
+            print("[browser] state:", served, page.evaluate(
+                "() => [document.body.getAttribute('data-sp-ready'), document.body"
+                ".getAttribute('data-sp-draw'), document.body.getAttribute('data-sp-kernel'),"
+                " (document.querySelector('#sp-notice .sp-notice-text') || {}).textContent,"
+                " document.querySelectorAll('#rendered_cells .jupyter-widgets').length]"))
+            raise
+        assert len(served) >= 2  # it loaded itself again, and then drew
+        assert page.locator("body").get_attribute("data-sp-draw") == "drawn"
+    finally:
+        context.close()
