@@ -63,9 +63,14 @@ DEFAULT_IDLE_MINUTES: float = 15.0
 #: Default upper bound on the number of kernels running at once.
 DEFAULT_MAX_SESSIONS: int = 8
 
-#: A session whose page never connected, or disconnected, is ended this long after its
-#: last activity (seconds): a plain GET without a browser holds a slot for no longer.
+#: A session whose page closed is ended this long after its last activity, seconds (or
+#: after ``--idle-minutes`` when that is shorter).
 RELEASE_AFTER_S: float = 45.0
+
+#: A session whose page never connected is ended this long after its last activity (the
+#: end of the page's delivery), seconds: a plain GET without a browser holds a slot for no
+#: longer, and a browser slowed by a busy machine still has a minute to connect.
+NEVER_CONNECTED_S: float = 60.0
 
 #: How often the launcher looks for sessions to release, seconds.
 RELEASE_CHECK_S: float = 5.0
@@ -360,8 +365,9 @@ def _kernel_manager_class(options: ServeOptions) -> type:
 
     * at most ``options.max_sessions`` kernels; beyond that a 503 page saying when one is
       expected to free up;
-    * a kernel with no page connected is ended :data:`RELEASE_AFTER_S` after its last
-      activity (a GET without a browser, a closed tab, a page that never drew);
+    * a kernel whose page closed is ended :data:`RELEASE_AFTER_S` after its last
+      activity, one whose page never connected (a GET without a browser) after
+      :data:`NEVER_CONNECTED_S`;
     * a new page of a dashboard frees the same browser's disconnected sessions of it, and
       its oldest beyond :data:`SESSIONS_PER_BROWSER` (a reload storm holds two slots);
     * each kernel process gets an address-space limit (``resource.prlimit``) so that a
@@ -414,6 +420,10 @@ def _kernel_manager_class(options: ServeOptions) -> type:
                        activity.timestamp() if activity is not None else 0.0)
             return now - last
 
+        def _grace_s(self, kernel_id: str) -> float:
+            """How long a session may be without a page: longer if it never had one."""
+            return release_s if kernel_id in self._last_connected else NEVER_CONNECTED_S
+
         async def release_unattended(self) -> list[str]:
             """End kernels with no page for :data:`RELEASE_AFTER_S`; return their ids."""
             now = time.time()
@@ -423,7 +433,7 @@ def _kernel_manager_class(options: ServeOptions) -> type:
                 if kernel_id in pooled or kernel_id not in self._started:
                     continue
                 quiet = self._quiet_s(kernel_id, now)
-                if quiet is not None and quiet > release_s:
+                if quiet is not None and quiet > self._grace_s(kernel_id):
                     ended.append(kernel_id)
             for kernel_id in ended:
                 self.log.info("snowprobe: ending session %s (no page for %.0f s)",
@@ -459,7 +469,7 @@ def _kernel_manager_class(options: ServeOptions) -> type:
             for kernel_id in self._kernels:
                 quiet = self._quiet_s(kernel_id, now)
                 if quiet is not None:
-                    waits.append(max(release_s - quiet, 0.0) + RELEASE_CHECK_S)
+                    waits.append(max(self._grace_s(kernel_id) - quiet, 0.0) + RELEASE_CHECK_S)
                 else:
                     kernel = self._kernels.get(kernel_id)
                     activity = getattr(kernel, "last_activity", None)
