@@ -178,12 +178,12 @@ def test_scenario_and_data_download_then_the_scenario_uploads_again(opened, serv
     saved = loads(saved_bytes)
     assert saved.persons and abs(saved.persons[0].depth_m - 1.25) < 1e-9
     csv = _download(page, "data as CSV").decode("utf-8").splitlines()
-    assert csv[0].startswith("# ") and "," in csv[-1]
+    assert len(csv) > 100 and "," in csv[-1]  # one row per time sample (widgets.exports)
     # move away, then upload the downloaded file: the control comes back
-    _set_depth(page, 2.0)
+    _set_depth(page, 1.6)
     page.wait_for_function(
         "() => document.querySelector('.sp-person-depth .widget-readout').textContent"
-        ".trim() === '2.00'")
+        ".trim() === '1.60'", timeout=30_000)
     upload = server.workdir.parent / "uploaded-plan.json"
     upload.write_bytes(saved_bytes)
     with page.expect_file_chooser(timeout=30_000) as chooser:
