@@ -39,6 +39,7 @@ import signal
 import socket
 import sys
 import threading
+import time
 import webbrowser
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
@@ -323,6 +324,11 @@ def _page_config_hook(boards: Sequence[Dashboard]) -> Callable[..., dict]:
     return hook
 
 
+#: When each browser last asked the server for anything (its page's scripts, the kernel
+#: record): a page still loading on a busy machine keeps its session this way.
+_VISITOR_SEEN: dict[str, float] = {}
+
+
 def _visitor_of(cookie_header: str) -> str | None:
     """The browser id in a Cookie header (None when absent or malformed)."""
     for part in cookie_header.split(";"):
@@ -344,7 +350,10 @@ def _visitor_transform() -> type:
         def __init__(self, request: Any) -> None:
             super().__init__(request)
             self._new: str | None = None
-            if _visitor_of(request.headers.get("Cookie", "")) is None:
+            visitor = _visitor_of(request.headers.get("Cookie", ""))
+            if visitor is not None:
+                _VISITOR_SEEN[visitor] = time.time()
+            else:
                 self._new = secrets.token_hex(16)
                 old = request.headers.get("Cookie", "")
                 request.headers["Cookie"] = (f"{old}; " if old else "") + \
@@ -374,7 +383,6 @@ def _kernel_manager_class(options: ServeOptions) -> type:
       runaway allocation fails inside that kernel, not the machine;
     * kernels run in ``options.workdir`` rather than in the package folder.
     """
-    import time
 
     from jupyter_server.services.kernels.kernelmanager import AsyncMappingKernelManager
     from tornado.ioloop import PeriodicCallback
@@ -415,7 +423,9 @@ def _kernel_manager_class(options: ServeOptions) -> type:
                 return None
             kernel = self._kernels.get(kernel_id)
             activity = getattr(kernel, "last_activity", None)
+            owner = self._owner.get(kernel_id)
             last = max(self._started.get(kernel_id, now),
+                       _VISITOR_SEEN.get(owner[0], 0.0) if owner else 0.0,
                        self._last_connected.get(kernel_id, 0.0),
                        activity.timestamp() if activity is not None else 0.0)
             return now - last
