@@ -590,6 +590,8 @@ def _screen_refusal(f: Field, value: Any, lo: float, hi: float, lo_open: bool,
         return f"{f.label} is {len(value)} characters long: shorten it to {f.max_length}."
     try:
         x = float(value)
+    except OverflowError:
+        return f"{f.label}: that number is far too large."
     except (TypeError, ValueError):
         return f"{f.label}: type a number."
     if isinstance(value, bool) or not math.isfinite(x):

@@ -39,6 +39,7 @@ import signal
 import socket
 import sys
 import threading
+import time
 import webbrowser
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
@@ -63,9 +64,14 @@ DEFAULT_IDLE_MINUTES: float = 15.0
 #: Default upper bound on the number of kernels running at once.
 DEFAULT_MAX_SESSIONS: int = 8
 
-#: A session whose page never connected, or disconnected, is ended this long after its
-#: last activity (seconds): a plain GET without a browser holds a slot for no longer.
+#: A session whose page closed is ended this long after its last activity, seconds (or
+#: after ``--idle-minutes`` when that is shorter).
 RELEASE_AFTER_S: float = 45.0
+
+#: A session whose page never connected is ended this long after its last activity (the
+#: end of the page's delivery), seconds: a plain GET without a browser holds a slot for no
+#: longer, and a browser slowed by a busy machine still has a minute to connect.
+NEVER_CONNECTED_S: float = 60.0
 
 #: How often the launcher looks for sessions to release, seconds.
 RELEASE_CHECK_S: float = 5.0
@@ -115,9 +121,10 @@ who can reach the page:
   scenarios come in by upload and results leave as downloads.
 
 serving more people:
-  each session needs a share of the CPU and about 150 MB of memory; on two cores
-  about 20 visitors arriving together wait up to a minute. For more, use more
-  cores, several servers behind a proxy, or JupyterHub (see the README).
+  each session costs the server about 2.5 CPU-seconds to start and about 135 MB
+  of its own memory; visitors arriving together wait about (visitors x 2.5 s /
+  cores). For more, use more cores, several servers behind a proxy, or
+  JupyterHub (see the README).
 """
 
 
@@ -317,6 +324,11 @@ def _page_config_hook(boards: Sequence[Dashboard]) -> Callable[..., dict]:
     return hook
 
 
+#: When each browser last asked the server for anything (its page's scripts, the kernel
+#: record): a page still loading on a busy machine keeps its session this way.
+_VISITOR_SEEN: dict[str, float] = {}
+
+
 def _visitor_of(cookie_header: str) -> str | None:
     """The browser id in a Cookie header (None when absent or malformed)."""
     for part in cookie_header.split(";"):
@@ -338,7 +350,10 @@ def _visitor_transform() -> type:
         def __init__(self, request: Any) -> None:
             super().__init__(request)
             self._new: str | None = None
-            if _visitor_of(request.headers.get("Cookie", "")) is None:
+            visitor = _visitor_of(request.headers.get("Cookie", ""))
+            if visitor is not None:
+                _VISITOR_SEEN[visitor] = time.time()
+            else:
                 self._new = secrets.token_hex(16)
                 old = request.headers.get("Cookie", "")
                 request.headers["Cookie"] = (f"{old}; " if old else "") + \
@@ -359,15 +374,15 @@ def _kernel_manager_class(options: ServeOptions) -> type:
 
     * at most ``options.max_sessions`` kernels; beyond that a 503 page saying when one is
       expected to free up;
-    * a kernel with no page connected is ended :data:`RELEASE_AFTER_S` after its last
-      activity (a GET without a browser, a closed tab, a page that never drew);
+    * a kernel whose page closed is ended :data:`RELEASE_AFTER_S` after its last
+      activity, one whose page never connected (a GET without a browser) after
+      :data:`NEVER_CONNECTED_S`;
     * a new page of a dashboard frees the same browser's disconnected sessions of it, and
       its oldest beyond :data:`SESSIONS_PER_BROWSER` (a reload storm holds two slots);
     * each kernel process gets an address-space limit (``resource.prlimit``) so that a
       runaway allocation fails inside that kernel, not the machine;
     * kernels run in ``options.workdir`` rather than in the package folder.
     """
-    import time
 
     from jupyter_server.services.kernels.kernelmanager import AsyncMappingKernelManager
     from tornado.ioloop import PeriodicCallback
@@ -408,10 +423,16 @@ def _kernel_manager_class(options: ServeOptions) -> type:
                 return None
             kernel = self._kernels.get(kernel_id)
             activity = getattr(kernel, "last_activity", None)
+            owner = self._owner.get(kernel_id)
             last = max(self._started.get(kernel_id, now),
+                       _VISITOR_SEEN.get(owner[0], 0.0) if owner else 0.0,
                        self._last_connected.get(kernel_id, 0.0),
                        activity.timestamp() if activity is not None else 0.0)
             return now - last
+
+        def _grace_s(self, kernel_id: str) -> float:
+            """How long a session may be without a page: longer if it never had one."""
+            return release_s if kernel_id in self._last_connected else NEVER_CONNECTED_S
 
         async def release_unattended(self) -> list[str]:
             """End kernels with no page for :data:`RELEASE_AFTER_S`; return their ids."""
@@ -422,7 +443,7 @@ def _kernel_manager_class(options: ServeOptions) -> type:
                 if kernel_id in pooled or kernel_id not in self._started:
                     continue
                 quiet = self._quiet_s(kernel_id, now)
-                if quiet is not None and quiet > release_s:
+                if quiet is not None and quiet > self._grace_s(kernel_id):
                     ended.append(kernel_id)
             for kernel_id in ended:
                 self.log.info("snowprobe: ending session %s (no page for %.0f s)",
@@ -458,7 +479,7 @@ def _kernel_manager_class(options: ServeOptions) -> type:
             for kernel_id in self._kernels:
                 quiet = self._quiet_s(kernel_id, now)
                 if quiet is not None:
-                    waits.append(max(release_s - quiet, 0.0) + RELEASE_CHECK_S)
+                    waits.append(max(self._grace_s(kernel_id) - quiet, 0.0) + RELEASE_CHECK_S)
                 else:
                     kernel = self._kernels.get(kernel_id)
                     activity = getattr(kernel, "last_activity", None)
@@ -749,12 +770,22 @@ def serve(options: ServeOptions) -> int:
         app.default_router.rules.insert(
             0, app.default_router.process_rule(Rule(HostMatches(".*$"), ours)))
         logged = app.settings.get("log_function")
-        if logged is not None:
-            def log_function(handler: Any) -> None:
-                if not isinstance(handler, quiet_kinds):
-                    logged(handler)
 
-            app.settings["log_function"] = log_function
+        def log_function(handler: Any) -> None:
+            if isinstance(handler, quiet_kinds):
+                return  # 404s for probing paths: no log line (it would show the token)
+            if logged is not None:
+                logged(handler)
+                return
+            from tornado.log import access_log
+
+            status = handler.get_status()
+            write = access_log.info if status < 400 else (
+                access_log.warning if status < 500 else access_log.error)
+            write("%d %s %.2fms", status, handler._request_summary(),
+                  1000.0 * handler.request.request_time())
+
+        app.settings["log_function"] = log_function
         app.transforms.append(_visitor_transform())
 
     target = options.dashboard.path if options.dashboard else dashboards_dir()

@@ -4,6 +4,7 @@
 
 from __future__ import annotations
 
+import os
 import re
 import socket
 import subprocess
@@ -216,6 +217,10 @@ def test_sessions_beyond_the_limit_get_a_busy_page(remote_server):
     assert "All dashboard sessions are in use" in second
     assert "limit" in second and "reload" in second.lower()
     assert "Traceback" not in second
+    # it says when to retry, and retries by itself
+    assert re.search(r"free up in about \d+ s", second)
+    assert '<meta http-equiv="refresh" content="20">' in second
+    assert "tries again by itself" in second
 
 
 def test_ctrl_c_stops_the_server_and_its_kernels(tmp_path):
@@ -244,3 +249,119 @@ def test_websocket_pong_timeout_exceeds_the_ping_interval():
                                     workdir=Path("."), verbose=False)
     settings = launcher._voila_config(options, [], None).Voila.tornado_settings
     assert settings["ws_ping_timeout"] > settings["ws_ping_interval"] > 0
+
+
+# ------------------------------------------------------------------ safe sharing (issue 11)
+
+
+def test_serve_help_says_who_can_reach_the_page():
+    done = run("serve", "--help")
+    assert done.returncode == 0
+    text = " ".join(done.stdout.split())
+    assert "who can reach the page:" in text
+    assert "every program and every user account on THIS computer" in text
+    assert "--token (on 127.0.0.1) only whoever has the printed address with its token" in text
+    assert "other machines on the network too, always with the token" in text
+    assert "cannot open or write files on this computer by name" in text
+
+
+def test_an_unwritable_runtime_folder_is_named_at_start(tmp_path):
+    blocker = tmp_path / "a-file"
+    blocker.write_text("not a folder")
+    env = dict(os.environ, JUPYTER_RUNTIME_DIR=str(blocker / "runtime"))
+    done = subprocess.run([*launcher_command(), "serve", "--no-browser", "--port", "0"],
+                          capture_output=True, text=True, timeout=60, env=env)
+    assert done.returncode == launcher.EXIT_USAGE
+    lines = done.stderr.strip().splitlines()
+    assert len(lines) == 1, done.stderr
+    assert f"cannot write to {blocker / 'runtime'}" in lines[0]
+    assert "JUPYTER_RUNTIME_DIR" in lines[0]
+
+
+def test_served_kernels_are_marked_and_bounded():
+    from snowprobe_widgets import serving
+
+    options = launcher.ServeOptions(dashboard=None, host="127.0.0.1", port=0, idle_s=600.0,
+                                    max_sessions=4, warm=False, open_browser=False,
+                                    workdir=Path("."), verbose=False, kernel_memory_mb=600.0)
+    env = launcher.kernel_environment(options)
+    assert env[serving.SERVED_ENV] == "1"
+    assert env[serving.KERNEL_MEMORY_ENV] == "600"
+    limits = serving.limits_for_memory(600.0)
+    assert int(env[serving.MAX_CELLS_ENV]) == limits.max_cells
+    assert limits.max_cells * serving.BYTES_PER_CELL <= 600 * 2**20
+    # more sessions on the same computer: less memory each
+    assert launcher.default_kernel_memory_mb(2) >= launcher.default_kernel_memory_mb(16)
+    assert 256.0 <= launcher.default_kernel_memory_mb(64) <= 4096.0
+
+
+@pytest.fixture(scope="module")
+def token_server(tmp_path_factory):
+    """Loopback with --token, a 2 min idle time, two sessions, 600 MB each."""
+    server = Launcher(args=["--token", "--idle-minutes", "2", "--max-sessions", "2",
+                            "--kernel-memory-mb", "600"],
+                      workdir=tmp_path_factory.mktemp("token"))
+    try:
+        wait_until(lambda: http_status(server.base_url) in (302, 403), 60, "server answering")
+        yield server
+    finally:
+        server.stop()
+
+
+def test_token_on_loopback(token_server):
+    token = _token(token_server)
+    assert http_status(token_server.base_url) in (302, 403)
+    status, body = _get(f"{token_server.base_url}?token={token}")
+    assert status == 200 and "data-sp-dashboard" in body
+
+
+def test_logout_and_dot_dot_under_the_template_route_answer_404_quietly(token_server):
+    token = _token(token_server)
+    for path in ("logout", "voila/templates/snowprobe/static/../conf.json",
+                 "voila/templates/snowprobe/static/../../../../etc/passwd",
+                 "voila/templates/snowprobe/static/..%2f..%2fconf.json", "voila/templates/x"):
+        request = urllib.request.Request(f"{token_server.base_url}{path}?token={token}")
+        try:
+            with urllib.request.urlopen(request, timeout=30) as reply:
+                status = reply.status
+        except urllib.error.HTTPError as exc:
+            status = exc.code
+        assert status == 404, path
+    assert http_status(f"{token_server.base_url}voila/templates/snowprobe/static/"
+                       f"snowprobe.css?token={token}") == 200
+    assert "Traceback" not in token_server.log()
+
+
+def _alive(server, token, kernel_id):
+    return http_status(f"{server.base_url}api/kernels/{kernel_id}?token={token}") == 200
+
+
+def test_a_page_never_connected_is_released_and_a_reload_frees_the_old_session(
+        token_server):
+    import http.cookiejar
+    import resource
+    import time
+
+    token = _token(token_server)
+    url = f"{token_server.base_url}voila/render/materials.ipynb?token={token}"
+    browser = urllib.request.build_opener(
+        urllib.request.HTTPCookieProcessor(http.cookiejar.CookieJar()))
+    with browser.open(url, timeout=180) as reply:  # a GET without a browser behind it
+        first = re.search(r'"kernelId": "([0-9a-f-]{36})"', reply.read().decode()).group(1)
+    assert _alive(token_server, token, first)
+    # the kernel's address space is bounded: 600 MB of work + the base allowance
+    process = wait_until(lambda: token_server.kernel_processes().get(first), 30, "kernel")
+    soft, hard = resource.prlimit(process.pid, resource.RLIMIT_AS)
+    assert soft == hard == (600 + launcher.KERNEL_BASE_ADDRESS_SPACE_MB) * 2**20
+    # the same browser loads the page again: its unconnected first session is freed
+    with browser.open(url, timeout=180) as reply:
+        second = re.search(r'"kernelId": "([0-9a-f-]{36})"', reply.read().decode()).group(1)
+    assert _alive(token_server, token, second)
+    assert not _alive(token_server, token, first)
+    # nobody connects to the second one: released a minute after its page's delivery
+    # (launcher.NEVER_CONNECTED_S) plus one check, long before the 2 min idle time
+    start = time.monotonic()
+    wait_until(lambda: not _alive(token_server, token, second), 100,
+               "unconnected session released", poll_s=1.0)
+    waited = time.monotonic() - start
+    assert launcher.NEVER_CONNECTED_S * 0.5 < waited < launcher.NEVER_CONNECTED_S + 30

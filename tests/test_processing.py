@@ -695,3 +695,17 @@ def test_rms_velocity_of_an_air_gap() -> None:
         assert rms_velocity_m_s(np.array([t_air + t_snow]), v, h)[0] == pytest.approx(
             dix, rel=1e-12)
     assert rms_velocity_m_s(np.array([0.5 * t_air]), v, h)[0] == c
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(first=radars(), second=radars())
+def test_a_tuned_chain_fitted_to_a_new_radar_processes_it(first, second):
+    # the user tuned the chain for one radar, then changed the radar: the fitted chain
+    # keeps what fits and runs on the new sampling
+    tuned = P.ProcessingChain.for_radar(first).replace_params("gain", power=2.0)
+    fitted = tuned.fitted_to(second)
+    rg = Radargram(np.random.default_rng(0).standard_normal((second.n_samples, 3)),
+                   second.time_s, np.arange(3) * 0.1)
+    assert np.all(np.isfinite(fitted.apply(rg).data))
+    assert dict(dict((s.name, s.params) for s in fitted.steps)["gain"])["power"] == 2.0
+    assert tuned.fitted_to(first) == tuned  # nothing changes where everything fits

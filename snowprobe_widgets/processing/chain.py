@@ -199,6 +199,33 @@ class ProcessingChain:
         return cls.default(radar.center_frequency_hz, dt_s=radar.dt_s,
                            record_s=radar.n_samples * radar.dt_s)
 
+    def fitted_to(self, radar: Any) -> ProcessingChain:
+        """A copy whose band-pass and dewow settings fit ``radar``'s sampling.
+
+        Settings that already fit are kept; a band-pass edge at or above the Nyquist
+        frequency, or a dewow window outside [2 dt, record], takes the value
+        :meth:`for_radar` would choose. Used when the radar changes under a chain the
+        user tuned, so that every radar the model accepts can still be processed.
+        """
+        dt = radar.dt_s
+        record = radar.n_samples * dt
+        nyquist = 0.5 / dt
+        fresh = {s.name: (dict(s.params), s.enabled)
+                 for s in type(self).for_radar(radar).steps}
+        out = []
+        for step in self.steps:
+            params, enabled = dict(step.params), step.enabled
+            if step.name == "bandpass":
+                if not 0.0 < params.get("low_hz", 0.0) < params.get("high_hz", 0.0) < nyquist:
+                    default = fresh["bandpass"][0]
+                    params["low_hz"], params["high_hz"] = default["low_hz"], default["high_hz"]
+            elif step.name == "dewow":
+                if not 2.0 * dt <= params.get("window_s", 0.0) <= record:
+                    params["window_s"] = fresh["dewow"][0]["window_s"]
+                    enabled = enabled and fresh["dewow"][1]
+            out.append(ProcessingStep(step.name, tuple(params.items()), enabled))
+        return ProcessingChain(tuple(out))
+
     @classmethod
     def from_history(cls, history: Iterable[ProcessingRecord]) -> ProcessingChain:
         """The chain that replays a radargram's history."""

@@ -60,6 +60,7 @@ from snowprobe_widgets.widgets.file_panel import (
     FilePanel,
 )
 from snowprobe_widgets.widgets.glossary import glossary_html, tip
+from snowprobe_widgets.widgets.long_work import LongWork
 from snowprobe_widgets.widgets.materials_lab import MaterialsExplorer
 from snowprobe_widgets.widgets.panels import (
     DebrisPanel,
@@ -274,7 +275,9 @@ class ScenarioExplorer(widgets.VBox):
         # tab gets its view the first time it is shown
         self._lower_views = [self.trace_view, self.spectrum_view, self.budget_view,
                              self.materials, self.compare, self.glossary]
-        self._lower_slots = [widgets.VBox([self.trace_view])] + [
+        #: the full-wave checks run beside the page, with progress and a stop button
+        self.long_work = LongWork("stop the full-wave check")
+        self._lower_slots = [widgets.VBox([self.trace_view, self.long_work.stop_button])] + [
             widgets.VBox() for _ in range(len(self._lower_views))]
         #: The "Detection probability" tab's view, made when the tab is first shown.
         self.detectability: Any = None
@@ -290,8 +293,10 @@ class ScenarioExplorer(widgets.VBox):
         self.radargram_view.observe(self._safe(self._on_pick, True),
                                     names="picked_trace_index")
         self.lower.observe(self._safe(self._refresh_lazy), names="selected_index")
-        self.trace_view.fdtd_button.on_click(self._safe(self.run_fdtd))
-        self.trace_view.fdtd2d_button.on_click(self._safe(self.run_fdtd2d))
+        self.trace_view.fdtd_button.on_click(
+            self._safe(lambda: self.run_fdtd(background=True)))
+        self.trace_view.fdtd2d_button.on_click(
+            self._safe(lambda: self.run_fdtd2d(background=True)))
         self._check2d_at: float | None = None  # position of the 2-D check on screen
 
 
@@ -459,6 +464,13 @@ class ScenarioExplorer(widgets.VBox):
     def _show_accepted(self, scenario: Scenario, raw: Radargram, pick_m: float | None,
                        keep_limits: bool, record: bool) -> None:
         old = self._scenario
+        if old is not None and old.radar != scenario.radar:
+            # a new sampling may put the tuned band above Nyquist or the dewow window
+            # beyond the record: fit them, keep everything else the user chose
+            chain = self.processing.chain()
+            fitted = chain.fitted_to(scenario.radar)
+            if fitted != chain:
+                self.processing.show(fitted)
         if old is not None and not keep_limits:
             for p in self._panels:  # slider ranges follow the new scenario
                 p.follow(scenario)
@@ -703,14 +715,19 @@ class ScenarioExplorer(widgets.VBox):
             self._stale["materials"] = False
 
     # ------------------------------------------------------------------ FDTD
-    def run_fdtd(self) -> float | None:
+    def run_fdtd(self, background: bool = False) -> float | None:
         """Full-wave check of the snow column at the picked position.
 
         Runs the 1-D FDTD solver (:func:`snowprobe_widgets.fdtd.fdtd_trace`) over the snow
         layers and ground, and the frequency-domain plane-wave trace of the same media
         frozen at the centre frequency (:func:`snowprobe_widgets.fdtd.frozen_at`); shows
-        both and their normalised cross-correlation. Returns that number (None if refused).
+        both and their normalised cross-correlation. Returns that number (None if refused
+        or stopped). With ``background=True`` (the page's button) it runs beside the page
+        (:class:`LongWork`: progress, stop button) and returns None at once.
         """
+        return self.long_work.run(self._fdtd_job, background)
+
+    def _fdtd_job(self) -> float | None:
         s = self.scenario
         mats, d = _column_media(s)
         r = s.radar
@@ -718,9 +735,7 @@ class ScenarioExplorer(widgets.VBox):
         tv = self.trace_view
         tv.progress.value = 0.0
         out: list[tuple] = []
-
-        def progress(fraction: float) -> None:
-            tv.progress.value = float(min(max(fraction, 0.0), 1.0))
+        progress = self.long_work.progress(lambda f: setattr(tv.progress, "value", f))
 
         def run() -> None:
             res = fdtd_trace(mats, d, antenna_height_m=r.antenna_height_m, pulse=pulse,
@@ -751,21 +766,23 @@ class ScenarioExplorer(widgets.VBox):
         self._check2d_at = None
         return ncc
 
-    def run_fdtd2d(self) -> float | None:
+    def run_fdtd2d(self, background: bool = False) -> float | None:
         """2-D full-wave check of the first buried object at the picked position.
 
         Runs :func:`snowprobe_widgets.fdtd2d.scenario_check` (the object as a cylinder
         across the line, said on screen) and overlays its echo and the model's echo of the
-        object; returns their normalised cross-correlation (None if refused).
+        object; returns their normalised cross-correlation (None if refused or stopped).
+        ``background`` as in :meth:`run_fdtd`.
         """
+        return self.long_work.run(self._fdtd2d_job, background)
+
+    def _fdtd2d_job(self) -> float | None:
         tv = self.trace_view
         x = self.radargram_view.picked_position_m
         x = float(self.scenario.survey.position_m[0]) if x is None else float(x)
         tv.progress2d.value = 0.0
         out: list = []
-
-        def progress(fraction: float) -> None:
-            tv.progress2d.value = float(min(max(fraction, 0.0), 1.0))
+        progress = self.long_work.progress(lambda f: setattr(tv.progress2d, "value", f))
 
         tv.fdtd2d_button.disabled = True
         try:

@@ -1,6 +1,6 @@
 """Many visitors, leaving visitors and a dying kernel, against the real launcher.
 
-Two servers: one with the default idle time for five visitors arriving together (a short
+Two servers: one with the default idle time for ten visitors arriving together (a short
 idle time could end a session whose page is still loading on a busy machine), and one that
 ends idle sessions after 9 s (``--idle-minutes 0.15``) so that culling can be watched.
 """
@@ -18,8 +18,11 @@ IDLE_MINUTES = 0.15
 CULL_INTERVAL_S = max(1, round(IDLE_MINUTES * 60) // 4)
 #: Slack for a loaded CI machine on top of the idle time and one check interval.
 CULL_SLACK_S = 20.0
-#: Hard limit per session when five arrive together (the goal is under 15 s).
-CROWD_LIMIT_S = 120.0
+#: Visitors arriving at the same moment (a class opening the page together).
+CROWD = 10
+#: Hard limit per session when they arrive together (goal: 20 together within 60 s each on
+#: two cores; this suite runs beside other work, so the limit leaves room).
+CROWD_LIMIT_S = 240.0
 
 
 def _serve(workdir, *args):
@@ -30,7 +33,7 @@ def _serve(workdir, *args):
 
 @pytest.fixture(scope="module")
 def crowd_server(tmp_path_factory, browser):
-    launcher = _serve(tmp_path_factory.mktemp("serve-crowd"), "--max-sessions", "8")
+    launcher = _serve(tmp_path_factory.mktemp("serve-crowd"), "--max-sessions", str(CROWD + 2))
     yield launcher
     launcher.stop()
 
@@ -45,7 +48,7 @@ def server(tmp_path_factory, browser):
 
 @pytest.fixture(scope="module")
 def crowd(crowd_server):
-    """Five sessions of the design dashboard opened at the same moment, then closed."""
+    """Ten sessions of the design dashboard opened at the same moment, then closed."""
 
     server = crowd_server
 
@@ -54,20 +57,21 @@ def crowd(crowd_server):
         return {k: processes[k].memory_info().rss / 2**20 for k in kernel_ids if k in processes}
 
     seconds, kernel_ids, rss_mb = open_concurrently(
-        server.base_url, "design", 5, CROWD_LIMIT_S, while_open=memory)
-    print("[browser] five at once, first render (s):", [round(s, 1) for s in seconds])
-    print("[browser] five at once, kernel resident memory (MB):",
+        server.base_url, "design", CROWD, CROWD_LIMIT_S, while_open=memory)
+    print(f"[browser] {CROWD} at once, first render (s):", [round(s, 1) for s in seconds])
+    print(f"[browser] {CROWD} at once, kernel resident memory (MB):",
           [round(v) for v in rss_mb.values()])
     return {"seconds": seconds, "kernel_ids": kernel_ids, "rss_mb": rss_mb}
 
 
-def test_five_concurrent_sessions_each_render(crowd, record_property):
+def test_a_class_arriving_together_all_render(crowd, record_property):
     record_property("first_render_s", [round(s, 2) for s in crowd["seconds"]])
     record_property("kernel_rss_mb", [round(v) for v in crowd["rss_mb"].values()])
-    assert len(crowd["seconds"]) == 5
+    # every page drew its dashboard (open_concurrently raises if one did not in time)
+    assert len(crowd["seconds"]) == CROWD
     assert max(crowd["seconds"]) < CROWD_LIMIT_S
-    assert len(set(crowd["kernel_ids"])) == 5  # one kernel per visitor
-    assert len(crowd["rss_mb"]) == 5  # each kernel process was found and measured
+    assert len(set(crowd["kernel_ids"])) == CROWD  # one kernel per visitor
+    assert len(crowd["rss_mb"]) == CROWD  # each kernel process was found and measured
 
 
 def test_closed_sessions_are_culled_within_the_idle_time(server, browser):

@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import dataclasses
 import io
+import threading
+import time
 
 import numpy as np
 import pytest
@@ -607,3 +609,34 @@ def test_a_fault_in_a_callback_shows_a_plain_message_and_keeps_the_last_state(
     app.person.depth.value = depth + 0.2
     assert "more memory than this session may use" in app.message_text
     assert app.scenario is good
+
+
+def test_the_full_wave_check_runs_beside_the_page_and_can_be_stopped(app: ScenarioExplorer
+                                                                      ) -> None:
+    tv = app.trace_view
+    assert app.long_work.stop_button.disabled
+    started = threading.Event()
+    real = app.long_work.progress
+
+    def slow_progress(show):
+        report = real(show)
+
+        def wrapped(fraction):
+            started.set()
+            time.sleep(0.01)  # a slow machine: the visitor has time to press stop
+            report(fraction)
+
+        return wrapped
+
+    app.long_work.progress = slow_progress
+    tv.fdtd_button.click()  # the page's button: returns at once, work in a thread
+    assert started.wait(60)
+    assert not app.long_work.stop_button.disabled
+    app.long_work.stop_button.click()
+    app.long_work.thread.join(60)
+    assert not app.long_work.running
+    assert "Stopped: the calculation was cancelled" in tv.message.value
+    assert app.long_work.stop_button.disabled
+    assert tv.progress.value < 1.0  # stopped before the end
+    app.long_work.progress = real
+    assert app.run_fdtd() is not None  # a later check runs to the end

@@ -166,7 +166,7 @@
   // the kernel's output while many sessions started at once) or whose widgets never draw
   // would stay blank for ever; instead it says so and loads again by itself (the
   // launcher frees the old session of this browser), a few times at most.
-  var DRAW_DEADLINE_MS = 60000;
+  var DRAW_DEADLINE_MS = 120000;
   var EMPTY_PAGE_MS = 3000;
   var MAX_RETRIES = 3;
   var RETRY_KEY = "snowprobe-retries:" + window.location.pathname;
@@ -195,9 +195,11 @@
   }
 
   function expectsWidgets() {
-    // every dashboard displays an app; a page with no output at all never will
-    return document.querySelectorAll("#rendered_cells .jp-Cell:not(.jp-mod-noOutputs)")
-      .length > 0;
+    // every dashboard displays an app: its output arrives in the page as a script that the
+    // page then renders; a page with neither never will draw
+    return document.querySelectorAll(
+      '#rendered_cells script[type="application/vnd.voila.cell-output+json"], ' +
+      "#rendered_cells .jp-OutputArea-output").length > 0;
   }
 
   function retry(reason) {
@@ -230,6 +232,9 @@
       }
       if (drawn()) {
         window.clearInterval(timer);
+        if (document.body.getAttribute("data-sp-draw") === "waiting" && !stopped) {
+          notice().hidden = true;
+        }
         document.body.setAttribute("data-sp-draw", "drawn");
         try {
           window.sessionStorage.removeItem(RETRY_KEY);
@@ -243,9 +248,17 @@
         window.clearInterval(timer);
         retry("This page arrived without its dashboard.");
       } else if (waited > DRAW_DEADLINE_MS) {
-        window.clearInterval(timer);
-        retry("This page has not drawn its dashboard within " + DRAW_DEADLINE_MS / 1000 +
-          " s.");
+        if (document.body.getAttribute("data-sp-kernel") === "connected") {
+          // connected, yet nothing drew: this page will not recover by waiting
+          window.clearInterval(timer);
+          retry("This page has not drawn its dashboard within " + DRAW_DEADLINE_MS / 1000 +
+            " s.");
+        } else {
+          // still connecting: reloading would only add work to a busy server
+          document.body.setAttribute("data-sp-draw", "waiting");
+          show("This page has not drawn its dashboard within " + DRAW_DEADLINE_MS / 1000 +
+            " s: the server is busy starting sessions. It keeps trying by itself.", true);
+        }
       }
     }, 500);
   }

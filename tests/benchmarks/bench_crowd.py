@@ -1,0 +1,179 @@
+"""A class arriving at once: first-picture time for 5, 10 and 20 browsers, and memory.
+
+Run by hand (not collected by pytest)::
+
+    python tests/benchmarks/bench_crowd.py            # 1 (baseline), 5, 10, 20 browsers
+    python tests/benchmarks/bench_crowd.py 1 10        # chosen crowd sizes
+
+For each crowd size it starts the real launcher (``snowprobe serve``) on a free
+loopback port, opens that many headless Debian Chromium pages at the same moment (one
+browser context each, as separate visitors), and waits for each page's first picture (the
+radargram status line reports a draw). It prints each page's seconds (or "never" past the
+deadline), the ratio of the slowest to the single-visitor baseline of the same run, the
+server's resident memory and each kernel's resident (RSS) and unique (USS) memory while
+all pages are open. Browsers and server share this machine, as in the browser tests:
+timings are upper bounds under whatever else runs here (the load average is printed).
+
+A last table shows what a kernel's memory is made of: the resident memory added by each
+import a design-dashboard kernel makes, measured in a fresh interpreter.
+
+Goals (issue 11): every page renders, every time; 20 together within 60 s each; kernel
+memory per visitor <= 150 MB.
+"""
+
+from __future__ import annotations
+
+import asyncio
+import os
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "browser"))
+
+from harness import (  # noqa: E402
+    CHROMIUM,
+    CHROMIUM_ARGS,
+    READY_JS,
+    STATUS_SELECTOR,
+    Launcher,
+    dashboard_url,
+)
+
+DEADLINE_S = 180.0
+
+IMPORT_STEPS = [
+    ("python + psutil", ""),
+    ("ipykernel + ipywidgets (every kernel)", "import ipykernel.ipkernel, ipywidgets"),
+    ("numpy", "import numpy"),
+    ("scipy.fft + scipy.special", "import scipy.fft, scipy.special"),
+    ("scipy.signal (pulls scipy.stats, optimize, interpolate)", "import scipy.signal"),
+    ("pandas (imported by bqplot)", "import pandas"),
+    ("bqplot", "import bqplot"),
+    ("snowprobe_widgets model layer", "import snowprobe_widgets.synthesis, "
+                                      "snowprobe_widgets.processing, snowprobe_widgets.budget"),
+    ("snowprobe_widgets.widgets (all apps)", "import snowprobe_widgets.widgets"),
+    ("ScenarioExplorer() built and drawn", "app = snowprobe_widgets.widgets.ScenarioExplorer()"),
+]
+
+
+def _load() -> str:
+    one, five, fifteen = os.getloadavg()
+    return f"load average {one:.1f} / {five:.1f} / {fifteen:.1f} on {os.cpu_count()} cores"
+
+
+async def _visitor(browser, url: str) -> tuple[float | None, str]:
+    context = await browser.new_context(viewport={"width": 1500, "height": 1100})
+    page = await context.new_page()
+    start = time.perf_counter()
+    try:
+        await page.goto(url, wait_until="commit", timeout=DEADLINE_S * 1000)
+        await page.wait_for_function(READY_JS, arg=STATUS_SELECTOR["design"],
+                                     timeout=DEADLINE_S * 1000, polling=250)
+        return time.perf_counter() - start, ""
+    except Exception as exc:  # a page that never drew: recorded, not raised
+        state = await page.evaluate(
+            "() => ({ready: document.body && document.body.getAttribute('data-sp-ready'),"
+            " draw: document.body && document.body.getAttribute('data-sp-draw'),"
+            " kernel: document.body && document.body.getAttribute('data-sp-kernel'),"
+            " emptyCells: document.querySelectorAll('.jp-Cell.jp-mod-noOutputs').length,"
+            " widgets: document.querySelectorAll('#rendered_cells .jupyter-widgets').length,"
+            " loadingWidget: document.body && document.body.innerText.includes("
+            "'Loading widget'), notice: (document.querySelector('#sp-notice') || {})"
+            ".innerText})")
+        return None, f"{type(exc).__name__}; page state {state}"
+
+
+async def _crowd(server: Launcher, count: int) -> tuple[list, dict]:
+    from playwright.async_api import async_playwright
+
+    async with async_playwright() as playwright:
+        browser = await playwright.chromium.launch(executable_path=str(CHROMIUM),
+                                                   args=CHROMIUM_ARGS)
+        try:
+            url = dashboard_url(server.base_url, "design")
+            results = await asyncio.gather(*(_visitor(browser, url)
+                                             for _ in range(count)))
+            memory = _memory(server)
+        finally:
+            await browser.close()
+    return results, memory
+
+
+def _memory(server: Launcher) -> dict:
+    import psutil
+
+    out = {"server_mb": psutil.Process(server.process.pid).memory_info().rss / 2**20,
+           "kernels": []}
+    for process in server.kernel_processes().values():
+        try:
+            full = process.memory_full_info()
+        except (psutil.NoSuchProcess, psutil.AccessDenied):
+            continue
+        out["kernels"].append((full.rss / 2**20, full.uss / 2**20))
+    return out
+
+
+def _run(count: int) -> tuple[list, dict]:
+    with tempfile.TemporaryDirectory() as workdir:
+        # all dashboards behind a start page: polling the start page starts no kernel
+        server = Launcher(args=["--max-sessions", str(max(count, 1) + 2)],
+                          workdir=Path(workdir))
+        try:
+            server.wait_ready()
+            return asyncio.run(_crowd(server, count))
+        finally:
+            server.stop()
+
+
+def _import_costs() -> list[tuple[str, float]]:
+    code = ["import psutil, sys; p = psutil.Process(); last = p.memory_info().rss",
+            "import snowprobe_widgets"]
+    for label, statement in IMPORT_STEPS:
+        code.append(statement or "pass")
+        code.append("now = p.memory_info().rss; "
+                    f"print({label!r} + '\\t' + str((now - last) / 2**20)); last = now")
+    done = subprocess.run([sys.executable, "-c", "\n".join(code)], capture_output=True,
+                          text=True, check=True, env=dict(os.environ, MALLOC_ARENA_MAX="2"))
+    rows = [line.split("\t") for line in done.stdout.splitlines() if "\t" in line]
+    return [(label, float(mb)) for label, mb in rows]
+
+
+def main(argv: list[str]) -> None:
+    sizes = [int(a) for a in argv] or [1, 5, 10, 20]
+    print(f"bench_crowd: design dashboard, {_load()}")
+    baseline = None
+    for count in sizes:
+        started = _load()
+        results, memory = _run(count)
+        seconds = [s for s, _ in results if s is not None]
+        failed = [why for s, why in results if s is None]
+        if count == 1 and seconds:
+            baseline = seconds[0]
+        shown = ", ".join("never" if s is None else f"{s:.1f}" for s, _ in results)
+        print(f"\n{count} browser(s) together ({started} at start)")
+        print(f"  first picture (s): {shown}")
+        print(f"  rendered {len(seconds)} of {count}; slowest "
+              f"{max(seconds) if seconds else float('nan'):.1f} s"
+              + (f" = {max(seconds) / baseline:.1f} x the single visitor" if baseline and
+                 seconds else ""))
+        for why in failed:
+            print(f"  not drawn: {why}")
+        kernels = memory["kernels"]
+        if kernels:
+            rss = [r for r, _ in kernels]
+            uss = [u for _, u in kernels]
+            print(f"  server {memory['server_mb']:.0f} MB; {len(kernels)} kernels: RSS "
+                  f"{min(rss):.0f}-{max(rss):.0f} MB (mean {sum(rss) / len(rss):.0f}), "
+                  f"unique {min(uss):.0f}-{max(uss):.0f} MB (mean {sum(uss) / len(uss):.0f})")
+    print("\nwhat a kernel's memory is made of (resident MB added by each step):")
+    total = 0.0
+    for label, mb in _import_costs():
+        total += mb
+        print(f"  {mb:6.1f}  {label}   (running total {total:.0f})")
+
+
+if __name__ == "__main__":
+    main(sys.argv[1:])
