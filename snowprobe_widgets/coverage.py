@@ -180,33 +180,55 @@ class DebrisArea:
         """Area, m2."""
         return _shoelace(self.vertices_m)
 
-    def lanes(self, spacing_m: float, heading_deg: float = 0.0) -> list[np.ndarray]:
-        """The pieces of track on each lane, in lane order.
+    def _turned(self, heading_deg: float) -> np.ndarray:
+        h = math.radians(check_range("heading_deg", heading_deg, -360.0, 360.0, unit="deg"))
+        c, sn = math.cos(h), math.sin(h)
+        return self.vertices_m @ np.array([[c, -sn], [sn, c]])  # turn lanes onto x
+
+    def chords(self, y_m: object, heading_deg: float = 0.0) -> list[np.ndarray]:
+        """Pieces of the line y = const inside the area, for each ``y_m`` (turned frame).
 
         Returns
         -------
         list of ndarray, shape (n_pieces, 2)
-            For lane k, the along-lane start and end coordinates of each piece inside
-            the area (in the frame turned by ``heading_deg``), increasing.
+            Start and end x of each piece, increasing.
         """
-        s = check_range("spacing_m", spacing_m, 0.01, 1e3, unit="m")
-        h = math.radians(check_range("heading_deg", heading_deg, -360.0, 360.0, unit="deg"))
-        c, sn = math.cos(h), math.sin(h)
-        xy = self.vertices_m @ np.array([[c, -sn], [sn, c]])  # turn lanes onto x
-        y0, y1 = float(xy[:, 1].min()), float(xy[:, 1].max())
-        n = max(1, math.ceil((y1 - y0) / s - 1e-9))
+        xy = self._turned(heading_deg)
         a, b = xy, np.roll(xy, -1, axis=0)
+        lo = np.minimum(a[:, 1], b[:, 1])
+        hi = np.maximum(a[:, 1], b[:, 1])
         out = []
-        start = y0 - 0.5 * (n * s - (y1 - y0))  # the n strips centred over the area
-        for k in range(n):
-            y = start + (k + 0.5) * s
-            lo = np.minimum(a[:, 1], b[:, 1])
-            hi = np.maximum(a[:, 1], b[:, 1])
+        for y in np.atleast_1d(np.asarray(y_m, float)):
             crosses = (lo <= y) & (y < hi)
             t = (y - a[crosses, 1]) / (b[crosses, 1] - a[crosses, 1])
             xs = np.sort(a[crosses, 0] + t * (b[crosses, 0] - a[crosses, 0]))
             out.append(xs.reshape(-1, 2))
         return out
+
+    def lane_centres_m(self, spacing_m: float, heading_deg: float = 0.0) -> np.ndarray:
+        """Across-lane coordinate of each lane's centre line (turned frame), m: as many
+        strips ``spacing_m`` wide as the width needs, centred across it."""
+        s = check_range("spacing_m", spacing_m, 0.01, 1e3, unit="m")
+        y = self._turned(heading_deg)[:, 1]
+        y0, y1 = float(y.min()), float(y.max())
+        n = max(1, math.ceil((y1 - y0) / s - 1e-9))
+        start = y0 - 0.5 * (n * s - (y1 - y0))
+        return start + (np.arange(n) + 0.5) * s
+
+    def lanes(self, spacing_m: float, heading_deg: float = 0.0) -> list[np.ndarray]:
+        """The pieces of track on each lane, in lane order (:meth:`chords` of
+        :meth:`lane_centres_m`)."""
+        return self.chords(self.lane_centres_m(spacing_m, heading_deg), heading_deg)
+
+    def width_profile(self, heading_deg: float = 0.0, samples: int = 400
+                      ) -> tuple[np.ndarray, np.ndarray]:
+        """Across-lane positions and the area's length along the lanes at each: a target
+        placed uniformly over the area lies at y with probability proportional to it."""
+        y = self._turned(heading_deg)[:, 1]
+        y0, y1 = float(y.min()), float(y.max())
+        ys = y0 + (np.arange(samples) + 0.5) / samples * (y1 - y0)
+        return ys, np.array([float(np.sum(p[:, 1] - p[:, 0])) for p in self.chords(
+            ys, heading_deg)])
 
 
 def _shoelace(xy: np.ndarray) -> float:
@@ -241,6 +263,10 @@ class Coverage:
         Against the ICAR 2006 guideline (100 m2/min; 1 measurement per second).
     schedule_s, schedule_track_m : ndarray
         Times and track covered at each lane event: :meth:`track_done_m` interpolates.
+    lane_y_m, lane_start_s, lane_end_s : ndarray, shape (lanes,)
+        Across-lane position of each lane flown (turned frame), and when its track
+        starts and ends.
+    heading_deg : float
     """
 
     spacing_m: float
@@ -257,6 +283,10 @@ class Coverage:
     icar_measurements_ok: bool
     schedule_s: np.ndarray = field(repr=False)
     schedule_track_m: np.ndarray = field(repr=False)
+    lane_y_m: np.ndarray = field(repr=False)
+    lane_start_s: np.ndarray = field(repr=False)
+    lane_end_s: np.ndarray = field(repr=False)
+    heading_deg: float = 0.0
 
     @property
     def icar_ok(self) -> bool:
@@ -280,14 +310,17 @@ def coverage(area: DebrisArea, platform: Platform, spacing_m: float,
         raise ValueError(f"area must be a DebrisArea, got {type(area).__name__}")
     if not isinstance(platform, Platform):
         raise ValueError(f"platform must be a Platform, got {type(platform).__name__}")
-    lanes = area.lanes(spacing_m, heading_deg)
+    centres = area.lane_centres_m(spacing_m, heading_deg)
+    lanes = area.chords(centres, heading_deg)
     v = platform.speed_m_s
     t, track, transit = 0.0, 0.0, 0.0
     times, done = [0.0], [0.0]
+    lane_y, starts, ends = [], [], []
     here: float | None = None
     for k, pieces in enumerate(lanes):
         if not len(pieces):
             continue
+        lane_y.append(float(centres[k]))
         seq = pieces if k % 2 == 0 else pieces[::-1, ::-1]
         if here is not None:
             t += platform.turn_time_s
@@ -296,6 +329,7 @@ def coverage(area: DebrisArea, platform: Platform, spacing_m: float,
             t += gap / v
             times.append(t)
             done.append(track)
+        starts.append(t)
         for j, (x0, x1) in enumerate(seq):
             if j > 0:
                 gap = abs(float(x0) - here)
@@ -309,6 +343,7 @@ def coverage(area: DebrisArea, platform: Platform, spacing_m: float,
             times.append(t)
             done.append(track)
             here = float(x1)
+        ends.append(t)
     n_lanes = sum(1 for p in lanes if len(p))
     rate = area.area_m2 / (t / 60.0)
     return Coverage(
@@ -318,7 +353,9 @@ def coverage(area: DebrisArea, platform: Platform, spacing_m: float,
         trace_spacing_m=platform.trace_spacing_m,
         icar_rate_ok=rate >= ICAR_RATE_M2_MIN,
         icar_measurements_ok=platform.trace_rate_hz >= ICAR_MEASUREMENTS_PER_S,
-        schedule_s=np.array(times), schedule_track_m=np.array(done))
+        schedule_s=np.array(times), schedule_track_m=np.array(done),
+        lane_y_m=np.array(lane_y), lane_start_s=np.array(starts), lane_end_s=np.array(ends),
+        heading_deg=float(heading_deg))
 
 
 @dataclass(frozen=True)

@@ -56,8 +56,8 @@ from .coverage import (
     coverage,
 )
 from .search_theory import (
+    lane_by_lane_pod,
     lateral_curve_arrays,
-    parallel_sweep_pod,
     random_search_pod,
     sweep_width_m,
 )
@@ -486,7 +486,8 @@ class SearchPlan:
     sweep_width_median_m : float
         Sweep width interpolated to the median burial depth.
     pod_parallel, pod_random : ndarray, shape (n_depths,)
-        Probability of detection at each depth once the area is covered, by each form.
+        Probability of detection at each depth once the area is covered, by each form
+        (parallel: lane after lane over this area, edges included).
     form : str
         "parallel sweep" or "random search": the one used for :attr:`pod` and the summary.
     form_reason : str
@@ -504,6 +505,8 @@ class SearchPlan:
     beyond_table : float
         Share of the finds whose dig-out time lies past the survival table's end (not
         counted in the two numbers above).
+    probe_found_alive, probe_beyond_table : float or None, float
+        The same for the probe line over both its passes.
     summary : tuple of str
         Plain-language sentences.
     """
@@ -531,6 +534,8 @@ class SearchPlan:
     found_alive: float | None
     expected_survival: float | None
     beyond_table: float
+    probe_found_alive: float | None
+    probe_beyond_table: float
     summary: tuple[str, ...]
 
     @property
@@ -562,11 +567,23 @@ def _depth_weights(lateral: LateralRange, dist: DepthDistribution) -> tuple[np.n
     return dist.weights(lateral.depth_m)
 
 
-def _pod_depths(lateral: LateralRange, spacing_m: float) -> tuple[np.ndarray, np.ndarray]:
-    w = lateral.sweep_width_m
-    par = np.array([parallel_sweep_pod(lateral.offset_m, row, spacing_m)
-                    for row in lateral.probability])
-    return w, par
+def _lane_progress(lateral: LateralRange, area: DebrisArea, cov: Coverage
+                   ) -> tuple[np.ndarray, np.ndarray]:
+    """Parallel-sweep probability over time at each depth, as breakpoints.
+
+    Returns ``(times_s, pod)``: times at the start and end of every lane and the
+    probability of detection there, shape (2 n_lanes + 1,) and (n_depths, 2 n_lanes + 1);
+    along a lane it grows linearly with the track flown.
+    """
+    n = cov.lane_y_m.size
+    ys, length = area.width_profile(cov.heading_deg, int(np.clip(8 * n, 400, 4000)))
+    after = np.array([lane_by_lane_pod(lateral.offset_m, row, cov.lane_y_m, ys, length)
+                      for row in lateral.probability])
+    times = np.empty(2 * n + 1)
+    times[0], times[1::2], times[2::2] = 0.0, cov.lane_start_s, cov.lane_end_s
+    pod = np.empty((after.shape[0], 2 * n + 1))
+    pod[:, 0], pod[:, 1::2], pod[:, 2::2] = 0.0, after[:, :-1], after[:, 1:]
+    return times, pod
 
 
 def plan_search(lateral: LateralRange, area: DebrisArea, platform: Platform, spacing_m: float,
@@ -613,7 +630,9 @@ def plan_search(lateral: LateralRange, area: DebrisArea, platform: Platform, spa
     cov = coverage(area, platform, s, heading_deg)
 
     weights, deeper = _depth_weights(lateral, dist)
-    w, par = _pod_depths(lateral, s)
+    w = lateral.sweep_width_m
+    lane_t, lane_pod = _lane_progress(lateral, area, cov)
+    par = lane_pod[:, -1]
     med = dist.median_m if lateral.depth_m.size > 1 else float(lateral.depth_m[0])
     w_med = float(np.interp(med, lateral.depth_m, w))
     form, reason = _form(s, w_med, "the median burial depth" if lateral.depth_m.size > 1
@@ -622,29 +641,22 @@ def plan_search(lateral: LateralRange, area: DebrisArea, platform: Platform, spa
     horizon = max(1.25 * cover_min, 30.0)
     minute = np.unique(np.append(np.linspace(0.0, horizon, n_t), cover_min))
     done = cov.track_done_m(minute * 60.0)
-    frac = done / cov.track_m if cov.track_m > 0 else np.zeros_like(done)
-    pod_par_d = frac[:, None] * par[None, :]
+    pod_par_d = np.array([np.interp(minute * 60.0, lane_t, row) for row in lane_pod]).T
     pod_rand_d = random_search_pod(w[None, :], done[:, None], cov.area_m2)
     pod_par = pod_par_d @ weights
     pod_rand = pod_rand_d @ weights
     chosen = pod_par if form == "parallel sweep" else pod_rand
-    par_med = float(np.interp(med, lateral.depth_m, par))
-    pod_med = (frac * par_med if form == "parallel sweep"
-               else random_search_pod(w_med, done, cov.area_m2))
+    pod_med = np.array([np.interp(med, lateral.depth_m, row) for row in (
+        pod_par_d if form == "parallel sweep" else pod_rand_d)])
     probe = probes.pod(minute * 60.0, lateral.depth_m, cov.area_m2) @ weights
 
     burial = arrival + minute
-    dug = burial + dig
-    inside = dug <= table.last_minute + 1e-9
-    surv = np.full(minute.shape, np.nan)
-    if inside.any():
-        surv[inside] = table.at(dug[inside])[0]
-    step = np.diff(chosen, prepend=0.0)
-    total = float(chosen[-1])
-    counted = float(step[inside].sum())
-    found_alive = float(np.sum(step[inside] * surv[inside])) if counted > 0 else None
-    expected = found_alive / counted if found_alive is not None and counted > 0 else None
-    beyond = (total - counted) / total if total > 0 else 0.0
+    surv, found_alive, expected, beyond = _alive(minute, chosen, arrival + dig, table)
+    probe_end = (probes.pass_time_s(cov.area_m2, False)
+                 + probes.pass_time_s(cov.area_m2, True)) / 60.0
+    probe_min = np.linspace(0.0, probe_end, n_t)
+    probe_alive = _alive(probe_min, probes.pod(probe_min * 60.0, lateral.depth_m,
+                                               cov.area_m2) @ weights, arrival + dig, table)
 
     import xarray as xr
 
@@ -663,8 +675,30 @@ def plan_search(lateral: LateralRange, area: DebrisArea, platform: Platform, spa
         pod_parallel=par, pod_random=1.0 - np.exp(-w * cov.track_m / cov.area_m2),
         form=form, form_reason=reason, arrival_min=arrival, dig_min=dig, curves=curves,
         found_alive=found_alive, expected_survival=expected, beyond_table=beyond,
-        summary=())
+        probe_found_alive=probe_alive[1], probe_beyond_table=probe_alive[3], summary=())
     return dataclasses.replace(plan, summary=_summary(plan))
+
+
+def _alive(minute: np.ndarray, pod: np.ndarray, offset_min: float, table: SurvivalTable
+           ) -> tuple[np.ndarray, float | None, float | None, float]:
+    """Survival of the finds of a search: a find at ``minute`` is dug out ``offset_min``
+    later on the burial clock (arrival + digging).
+
+    Returns ``(survival at each minute (NaN past the table), found alive, mean survival of
+    the finds, share of the finds past the table's end)``; finds past the end are not
+    counted (the table says nothing there).
+    """
+    dug = minute + offset_min
+    inside = dug <= table.last_minute + 1e-9
+    surv = np.full(minute.shape, np.nan)
+    if inside.any():
+        surv[inside] = table.at(dug[inside])[0]
+    step = np.diff(pod, prepend=0.0)
+    total = float(pod[-1])
+    counted = float(step[inside].sum())
+    alive = float(np.sum(step[inside] * surv[inside])) if counted > 0 else None
+    mean = alive / counted if alive is not None else None
+    return surv, alive, mean, (total - counted) / total if total > 0 else 0.0
 
 
 def _pct(x: float) -> str:
@@ -728,11 +762,24 @@ def _summary(plan: SearchPlan) -> tuple[str, ...]:
     t1 = probes.pass_time_s(cov.area_m2, False) / 60.0
     t2 = probes.pass_time_s(cov.area_m2, True) / 60.0
     p_probe = float(np.interp(minutes, c["minute"].values, c["pod_probe_line"].values))
+    alive = ("" if plan.probe_found_alive is None else
+             f"; over both passes it finds the person alive with "
+             f"{_pct(plan.probe_found_alive)} probability"
+             + (f" ({_pct(plan.probe_beyond_table)} of its finds fall past the table's end "
+                "and are not counted)" if plan.probe_beyond_table > 0.005 else ""))
     out.append(f"A probe line of {probes.team_size} on a {100 * probes.grid_m:.0f} cm grid "
                f"needs {t1:.0f} min for the first pass to {probes.first_depth_m:g} m and "
                f"{t2:.0f} min more to {probes.full_depth_m:g} m; in the radar's "
                f"{minutes:.0f} min it would find the person with {_pct(p_probe)} "
-               "probability.")
+               f"probability{alive}.")
+    w_lane = float(np.clip(plan.sweep_width_median_m, 0.1, 100.0))
+    if abs(w_lane - plan.spacing_m) > 0.05 * plan.spacing_m:
+        wide = coverage(plan.area, plan.platform, w_lane, cov.heading_deg)
+        found = float(_lane_progress(plan.lateral, plan.area, wide)[1][:, -1]
+                      @ plan.depth_weights)
+        out.append(f"For comparison, lanes as far apart as that sweep width ({w_lane:.1f} m) "
+                   f"would clear the area in {wide.time_s / 60:.0f} min and find the person "
+                   f"with {_pct(found)} probability (parallel-sweep form).")
     cut = plan.lateral.cut_short
     if cut.any():
         out.append(f"The lateral range curve has not fallen to zero at its outermost offset "
@@ -769,7 +816,7 @@ def spacing_tradeoff(lateral: LateralRange, area: DebrisArea, platform: Platform
     rows = []
     for s in sp:
         cov = coverage(area, platform, float(s), heading_deg)
-        _w, par = _pod_depths(lateral, float(s))
+        par = _lane_progress(lateral, area, cov)[1][:, -1]
         rand = 1.0 - np.exp(-w * cov.track_m / cov.area_m2)
         p_par, p_rand = float(par @ weights), float(rand @ weights)
         form, _ = _form(float(s), w_med)

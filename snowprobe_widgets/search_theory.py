@@ -13,16 +13,16 @@ the inverse-cube law and 0.63 for random search):
   perfect "cookie-cutter" detector that finds as many targets per unit track as the real one.
 * **Parallel sweeps** at lane spacing S over a target placed uniformly at random: each lane
   gives an independent chance, so the probability of detection is
-  ``(1/S) integral_0^S [1 - prod_k (1 - p(x - k S))] dx``. A definite-range detector of
-  half-width R (W = 2R) gives 1 when S <= W and W/S when S > W.
+  ``(1/S) integral_0^S [1 - prod_k (1 - p(x - k S))] dx`` far from the area's edges. A
+  definite-range detector of half-width R (W = 2R) gives 1 when S <= W and W/S when
+  S > W; the inverse-cube law gives erf(sqrt(pi) W / (2 S)). :func:`lane_by_lane_pod`
+  follows it lane after lane over a finite area.
 * **Random search** (track laid down without regard to the lanes already flown; Koopman's
   conservative bound for a search with navigation errors): ``1 - exp(-W L / A)`` after a
   track of length L over an area A (L = v t at speed v).
 """
 
 from __future__ import annotations
-
-import math
 
 import numpy as np
 from scipy.integrate import trapezoid
@@ -32,7 +32,7 @@ from ._validate import check_range
 __all__ = [
     "lateral_curve_arrays",
     "sweep_width_m",
-    "parallel_sweep_pod",
+    "lane_by_lane_pod",
     "random_search_pod",
 ]
 
@@ -93,34 +93,50 @@ def sweep_width_m(offset_m: object, probability: object) -> float:
     return 2.0 * w if x[0] >= 0.0 else w
 
 
-def parallel_sweep_pod(offset_m: object, probability: object, spacing_m: float,
-                       *, samples: int = 400) -> float:
-    """Probability of detecting a uniformly placed target with parallel lanes ``spacing_m``
-    apart (each lane an independent look; Koopman 1980 ch. 3, Washburn 2002 ch. 2).
+def _both_sides(x: np.ndarray, p: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """A one-sided curve (offsets >= 0) mirrored onto both sides of the line."""
+    if x[0] < 0.0:
+        return x, p
+    x, p = np.concatenate([-x[::-1], x]), np.concatenate([p[::-1], p])
+    keep = np.concatenate([[True], np.diff(x) > 0])
+    return x[keep], p[keep]
+
+
+def lane_by_lane_pod(offset_m: object, probability: object, lane_y_m: object,
+                     target_y_m: object, target_weight: object) -> np.ndarray:
+    """Probability of having detected the target after each lane of a parallel search.
+
+    Each lane is an independent look with the lateral range curve (Koopman 1980 ch. 3,
+    Washburn 2002 ch. 2); the target lies across the lanes at ``target_y_m`` with
+    probabilities proportional to ``target_weight`` (for a target placed uniformly over an
+    area: the area's length along the lanes at each y). Far from the edges of a wide area
+    this tends to Koopman's parallel-sweep value; near them it counts that the outer
+    lanes see to one side only.
 
     Parameters
     ----------
     offset_m, probability : array_like
         The lateral range curve; one-sided samples (offsets >= 0) are mirrored. Zero
         beyond the outermost samples.
-    spacing_m : float
-        Lane spacing, m, in (0, 10 km].
-    samples : int
-        Target positions across one lane interval (midpoint rule).
+    lane_y_m : array_like, shape (n_lanes,)
+        Across-lane position of each lane, in the order flown, m.
+    target_y_m, target_weight : array_like, shape (n_targets,)
+        Possible target positions across the lanes and their weights (>= 0, not all 0).
+
+    Returns
+    -------
+    ndarray, shape (n_lanes + 1,)
+        Probability of detection after 0, 1, ..., n_lanes lanes.
     """
-    s = check_range("spacing_m", spacing_m, 0.0, 1e4, unit="m", low_open=True)
-    x, p = lateral_curve_arrays(offset_m, probability)
-    if x[0] >= 0.0:
-        x, p = np.concatenate([-x[::-1], x]), np.concatenate([p[::-1], p])
-        keep = np.concatenate([[True], np.diff(x) > 0])
-        x, p = x[keep], p[keep]
-    reach = max(abs(x[0]), abs(x[-1]))
-    k = np.arange(-math.ceil(reach / s) - 1, math.ceil(reach / s) + 2)
-    pos = (np.arange(samples) + 0.5) / samples * s
-    rel = pos[:, None] - k[None, :] * s
-    p_k = np.interp(rel, x, p, left=0.0, right=0.0)
-    miss = np.prod(1.0 - p_k, axis=1)
-    return float(np.mean(1.0 - miss))
+    x, p = _both_sides(*lateral_curve_arrays(offset_m, probability))
+    lanes = np.asarray(lane_y_m, float).ravel()
+    y = np.asarray(target_y_m, float).ravel()
+    w = np.asarray(target_weight, float).ravel()
+    if w.size != y.size or np.any(w < 0) or not w.sum() > 0:
+        raise ValueError("target_weight must be >= 0, not all zero, one per target_y_m")
+    look = np.interp(y[None, :] - lanes[:, None], x, p, left=0.0, right=0.0)
+    miss = np.cumprod(1.0 - look, axis=0) @ (w / w.sum())
+    return np.concatenate([[0.0], 1.0 - miss])
 
 
 def random_search_pod(sweep_width_m: object, track_m: object, area_m2: float) -> np.ndarray:

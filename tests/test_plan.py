@@ -137,11 +137,13 @@ def test_budget_estimate_refuses_a_scenario_without_a_person():
 
 def test_parallel_form_and_expected_survival_by_hand():
     # Definite-range curve of W = 4 m, lanes 2 m apart (overlap: parallel-sweep form,
-    # every swept person found). No turns, so finds are spread evenly over the search.
-    # 20 m x 20 m at 1 m/s: 10 lanes x 20 m = 200 s = 3.33 min. Arriving 10 min after the
-    # burial and digging 10 min, finds are dug out at 20.0 .. 23.33 min, on the straight
-    # Rauch 2024 segment from (10 min, 0.91) to (30 min, 0.30): mean at 21.67 min =
-    # 0.91 - 0.61 * 11.67 / 20 = 0.5542 (worked by hand).
+    # every swept person found). 20 m x 20 m at 1 m/s, no turns: lanes at y = 1, 3, ..., 19,
+    # 20 s each. Lane 1 sees y in [0, 3] (15 % of the targets), lanes 2-9 2 m more each
+    # (10 %), lane 10 the last metre (5 %), each found evenly along its lane: mean find
+    # time 0.15*10 + 0.1*(30+50+...+170) + 0.05*190 = 91 s. Arriving 10 min after the
+    # burial and digging 10 min, finds are dug out 20.0-23.3 min after the burial, on the
+    # straight Rauch 2024 segment from (10 min, 0.91) to (30 min, 0.30), so the mean
+    # survival is its value at 21.517 min: 0.91 - 0.0305 * 11.517 = 0.5587 (by hand).
     lr = _cookie_cutter(2.0)
     walker = Platform("walker", 1.0, 0.3, 20.0, 0.0)
     plan = plan_search(lr, DebrisArea.rectangle(20.0, 20.0), walker, 2.0, arrival_min=10.0,
@@ -150,8 +152,8 @@ def test_parallel_form_and_expected_survival_by_hand():
     assert plan.pod_parallel == pytest.approx(1.0)
     w_sum = plan.depth_weights.sum()
     assert plan.pod == pytest.approx(w_sum, abs=1e-9)
-    assert plan.expected_survival == pytest.approx(0.5542, abs=0.003)
-    assert plan.found_alive == pytest.approx(w_sum * 0.5542, abs=0.003)
+    assert plan.expected_survival == pytest.approx(0.5587, abs=0.002)
+    assert plan.found_alive == pytest.approx(w_sum * 0.5587, abs=0.002)
     assert plan.beyond_table == 0.0
     pod = plan.curves["pod"].values
     assert np.all(np.diff(pod) >= -1e-12)
@@ -201,9 +203,12 @@ def test_spacing_tradeoff_time_against_probability():
                           [1.0, 2.0, 4.0, 8.0, 16.0])
     t = ds["time_min"].values
     assert np.all(np.diff(t) < 0)
-    # W = 4: full detection up to S = 4, then W / S for parallel sweeps
+    # W = 4: full detection up to S = 4; beyond, each of the ceil(100 / S) lanes (centred
+    # across the 100 m) finds the 4 m strip it sweeps, all inside the area: 13 x 4 / 100 =
+    # 0.52 at 8 m, 7 x 4 / 100 = 0.28 at 16 m, by hand (Koopman's W / S = 0.5 and 0.25 for
+    # an area without edges)
     par = ds["pod_parallel"].values / ds["pod_parallel"].values[0]
-    assert par == pytest.approx([1.0, 1.0, 1.0, 0.5, 0.25], abs=0.01)
+    assert par == pytest.approx([1.0, 1.0, 1.0, 0.52, 0.28], abs=0.005)
     assert ds.attrs["sweep_width_median_m"] == pytest.approx(4.0, rel=0.01)
     # the form used switches to random search beyond W
     assert ds["pod"].values[3] == pytest.approx(ds["pod_random"].values[3])
@@ -234,3 +239,34 @@ def test_curves_at_one_depth_stand_for_every_burial():
     assert plan.median_depth_m == 1.0
     assert plan.pod == pytest.approx(1 - np.exp(-4.01 * 200.0 / 1600.0), abs=1e-3)
     assert any("depth distribution is not used" in s for s in plan.summary)
+
+
+def test_two_way_time_through_air_and_snow():
+    # 2 (h + sum d_j n_j) / c0 straight down; below the snowpack the bottom layer goes on
+    from snowprobe_widgets.constants import C0_M_S
+    from snowprobe_widgets.plan import two_way_time_s
+
+    sc = Scenario.example("crust_and_ski")
+    fc = sc.radar.center_frequency_hz
+    n = [float(la.material().refractive_index(fc).real) for la in sc.snowpack.layers]
+    d = [la.thickness_m for la in sc.snowpack.layers]
+    depth = sc.snowpack.depth_m + 1.0  # 1 m past the bottom
+    expected = 2 * (5.0 + sum(di * ni for di, ni in zip(d, n, strict=True)) + 1.0 * n[-1]) / C0_M_S
+    assert two_way_time_s(sc, 5.0, depth) == pytest.approx(expected, rel=1e-9)
+
+
+def test_probe_line_found_alive_by_hand():
+    # 10 m x 10 m, 8 probers, 10 s per hole to 1.5 m and 20 s to 3 m: first pass 0-8.33 min,
+    # second 8.33-25 min. Search starts at the burial, no digging time. On Rauch 2024
+    # (straight lines (0, 1) - (10, 0.91) - (30, 0.30)) the mean survival of finds spread
+    # evenly over the first pass is S(4.17 min) = 0.9625; over the second pass
+    # 0.1 * S(9.17) + 0.9 * S(17.5) = 0.1 * 0.9175 + 0.9 * 0.68125 = 0.7049.
+    # Depths 0.5 and 1 m: 0.88 in pass 1, then 0.12 * 0.88 in pass 2; 2 m: 0.88 in pass 2.
+    lr = _cookie_cutter(2.0)
+    plan = plan_search(lr, DebrisArea.rectangle(10.0, 10.0), PLATFORMS["drone"], 2.0,
+                       arrival_min=0.0, dig_min=0.0, survival=RAUCH, n_times=2001)
+    w = plan.depth_weights
+    shallow = (w[0] + w[1]) * (0.88 * 0.9625 + 0.12 * 0.88 * 0.7049)
+    deep = w[2] * 0.88 * 0.7049
+    assert plan.probe_found_alive == pytest.approx(shallow + deep, abs=0.002)
+    assert plan.probe_beyond_table == 0.0

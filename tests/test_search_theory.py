@@ -16,10 +16,17 @@ import pytest
 from scipy import special
 
 from snowprobe_widgets.plan import sweep_width_m
-from snowprobe_widgets.search_theory import (
-    parallel_sweep_pod,
-    random_search_pod,
-)
+from snowprobe_widgets.search_theory import lane_by_lane_pod, random_search_pod
+
+
+def parallel_sweep_pod(x, p, spacing, n_lanes=201, step=0.05):
+    """Koopman's parallel sweeps, approximated by many lanes over a wide area (the two
+    edge lanes, which see to one side only, change the result by under 1/n_lanes);
+    targets every ``step`` metres across."""
+    lanes = (np.arange(n_lanes) + 0.5) * spacing
+    per_lane = int(round(spacing / step))
+    ys = (np.arange(n_lanes * per_lane) + 0.5) / per_lane * spacing
+    return float(lane_by_lane_pod(x, p, lanes, ys, np.ones(ys.size))[-1])
 
 
 def test_definite_range_detector_has_sweep_width_2r():
@@ -84,7 +91,22 @@ def test_parallel_sweeps_of_the_inverse_cube_law(coverage):
     assert sweep_width_m(x, p) == pytest.approx(w, rel=0.005)
     spacing = w / coverage
     expected = special.erf(math.sqrt(math.pi) / 2 * coverage)
-    assert parallel_sweep_pod(x, p, spacing, samples=2000) == pytest.approx(expected, abs=0.01)
+    assert parallel_sweep_pod(x, p, spacing) == pytest.approx(expected, abs=0.01)
+
+
+def test_lane_by_lane_progress_by_hand():
+    # definite range R = 1 m (W = 2 m) over a 6 m wide strip, lanes at 1, 3, 5 m: each lane
+    # finds the third of the targets within 1 m of it
+    x = np.linspace(0.0, 3.0, 3001)
+    p = (x <= 1.0).astype(float)
+    ys = (np.arange(600) + 0.5) / 100.0
+    pod = lane_by_lane_pod(x, p, [1.0, 3.0, 5.0], ys, np.ones(600))
+    assert pod == pytest.approx([0.0, 1 / 3, 2 / 3, 1.0], abs=0.005)
+    # weights: targets twice as likely on the first lane's strip
+    w = np.where(ys < 2.0, 2.0, 1.0)
+    assert lane_by_lane_pod(x, p, [1.0, 3.0, 5.0], ys, w)[1] == pytest.approx(0.5, abs=0.005)
+    with pytest.raises(ValueError, match="target_weight"):
+        lane_by_lane_pod(x, p, [1.0], ys, np.zeros(600))
 
 
 def test_classic_coverage_one_values():

@@ -17,6 +17,7 @@ import bqplot
 import ipywidgets as widgets
 import numpy as np
 
+from snowprobe_widgets import scenario_files
 from snowprobe_widgets.burial_statistics import (
     DEFAULT_DEPTH_DISTRIBUTION,
     DEFAULT_SURVIVAL_TABLE,
@@ -37,7 +38,6 @@ from snowprobe_widgets.plan import (
     spacing_tradeoff,
     two_way_time_s,
 )
-from snowprobe_widgets.scenario_files import MAX_FILE_BYTES
 from snowprobe_widgets.scene import Scenario
 from snowprobe_widgets.widgets._common import (
     as_f32,
@@ -71,21 +71,26 @@ _SWEEP = "sweep: "
 
 
 def _figure(x_label: str, y_label: str, marks: list, scales: dict, *,
-            extra_axes: tuple = ()) -> bqplot.Figure:
+            extra_axes: tuple = (), x_format: str = ".0f") -> bqplot.Figure:
     axes = [bqplot.Axis(scale=scales["x"], label=x_label, grid_lines="none",
-                        tick_format=".3g"),
+                        tick_format=x_format),
             bqplot.Axis(scale=scales["y"], side="left", label=y_label,
-                        label_offset="40px", grid_lines="dashed", tick_format=".3g"),
+                        label_offset="40px", grid_lines="dashed", tick_format=".0f"),
             *extra_axes]
-    return bqplot.Figure(marks=marks, axes=axes, legend_location="top-right",
-                         fig_margin={"top": 20, "bottom": 45, "left": 60, "right": 55},
-                         layout=widgets.Layout(width="520px", height="250px"))
+    return bqplot.Figure(marks=marks, axes=axes, padding_x=0.0, padding_y=0.0,
+                         fig_margin={"top": 15, "bottom": 45, "left": 60, "right": 55},
+                         layout=widgets.Layout(width="520px", height="240px"))
 
 
 def _line(scales: dict, colour: str, label: str, style: str = "solid") -> bqplot.Lines:
     return bqplot.Lines(x=np.zeros(2, np.float32), y=np.zeros(2, np.float32), scales=scales,
-                        colors=[colour], labels=[label], display_legend=True,
-                        line_style=style, stroke_width=2)
+                        colors=[colour], labels=[label], line_style=style, stroke_width=2)
+
+
+def _key(*items: tuple[str, str]) -> str:
+    """A one-line colour key under a plot: (colour, text) pairs."""
+    return "<div style='font-size:85%;line-height:1.3'>" + " &nbsp; ".join(
+        f"<span style='color:{c}'>{html.escape(t)}</span>" for c, t in items) + "</div>"
 
 
 def _finite(x: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -179,7 +184,7 @@ class SearchPlanBoard(widgets.VBox):
         self.table = widgets.HTML(value="")
 
         # ----------------------------------------------------------- plots
-        sx, st, sp = bqplot.LinearScale(), bqplot.LinearScale(min=0.0), bqplot.LinearScale(
+        sx, st, sp = bqplot.LinearScale(min=0.0), bqplot.LinearScale(min=0.0), bqplot.LinearScale(
             min=0.0, max=100.0)
         self._time_line = _line({"x": sx, "y": st}, _BLUE, "time to clear (min)")
         self._pod_line = _line({"x": sx, "y": sp}, _ORANGE, "found, form used (%)")
@@ -190,7 +195,13 @@ class SearchPlanBoard(widgets.VBox):
         self.spacing_figure = _figure("lane spacing (m)", "time to clear (min)",
                                       [self._time_line, self._pod_line, self._spacing_rule,
                                        self._icar_line],
-                                      {"x": sx, "y": st}, extra_axes=(pod_axis,))
+                                      {"x": sx, "y": st}, extra_axes=(pod_axis,),
+                                      x_format=".0f")
+        self.spacing_key = widgets.HTML(_key(
+            (_BLUE, "solid: time to clear (left)"),
+            (_ORANGE, "solid: found by the end, form used (right)"),
+            (_GREY, "dashed: chosen spacing"),
+            (_GREEN, "dashed: ICAR 2006, 100 m2/min (pass below)")))
         bx, by = bqplot.LinearScale(min=0.0), bqplot.LinearScale(min=0.0, max=100.0)
         s = {"x": bx, "y": by}
         self._found_line = _line(s, _BLUE, "radar: found (%)")
@@ -211,9 +222,11 @@ class SearchPlanBoard(widgets.VBox):
         self._lateral_lines = bqplot.Lines(
             x=np.zeros((3, 2), np.float32), y=np.zeros((3, 2), np.float32),
             scales={"x": lx, "y": ly}, colors=[_GREEN, _BLUE, _ORANGE], stroke_width=2,
-            display_legend=True, labels=["", "", ""])
+            labels=["", "", ""])
         self.lateral_figure = _figure("offset from the lane (m)", "detection (%)",
                                       [self._lateral_lines], {"x": lx, "y": ly})
+        self.time_key = widgets.HTML("")
+        self.lateral_key = widgets.HTML("")
 
         # ----------------------------------------------------------- layout
         area_box = widgets.VBox([section_title("Debris and platform"), self.shape,
@@ -239,8 +252,9 @@ class SearchPlanBoard(widgets.VBox):
         left = widgets.VBox([self.spacing, tabs, self.message, self.report_button,
                              self.download, self.status],
                             layout=widgets.Layout(width="440px"))
-        right = widgets.VBox([self.time_figure, self.summary, self.spacing_figure,
-                              self.lateral_figure, self.table],
+        right = widgets.VBox([self.time_figure, self.time_key, self.summary,
+                              self.spacing_figure, self.spacing_key, self.lateral_figure,
+                              self.lateral_key, self.table],
                              layout=widgets.Layout(width="530px"))
         header = widgets.HTML(
             "<h3 style='margin:4px 0'>Search plan: lanes, time and the survival window</h3>"
@@ -427,14 +441,20 @@ class SearchPlanBoard(widgets.VBox):
             with line.hold_sync():
                 line.x = as_f32(burial)
                 line.y = as_f32(100.0 * y)
-        self._other_form_line.labels = [
-            "random-search form" if other == "pod_random" else "parallel-sweep form"]
+        other_name = "random-search form" if other == "pod_random" else "parallel-sweep form"
+        self._other_form_line.labels = [other_name]
         table = plan.survival
         x_end = float(max(burial[-1], table.last_minute))
         with self._survival_line.hold_sync():
             self._survival_line.x, self._survival_line.y = _finite(
                 np.array(table.minutes), 100.0 * np.array(table.fraction))
             self._survival_line.labels = [f"survival, {table.name.split(' (')[0]} (%)"]
+        self.time_key.value = _key(
+            (_BLUE, f"solid: radar found ({plan.form} form); dashed: {other_name}"),
+            (_GREEN, "dash-dot: probe line found"),
+            (_ORANGE, f"dots: survival, {table.name} (published points; dotted line "
+                      "between them interpolated)"),
+            (_GREY, "dashed: search starts / ends"))
         with self._survival_points.hold_sync():
             self._survival_points.x = as_f32(table.minutes)
             self._survival_points.y = as_f32(100.0 * np.array(table.fraction))
@@ -456,6 +476,9 @@ class SearchPlanBoard(widgets.VBox):
             self._lateral_lines.x = as_f32(np.tile(x, (3, 1)))
             self._lateral_lines.y = as_f32(np.array(ys))
             self._lateral_lines.labels = [f"{d:.2f} m deep" for d in depths]
+        self.lateral_key.value = _key(*((c, f"{d:.2f} m deep") for c, d in zip(
+            (_GREEN, _BLUE, _ORANGE), depths, strict=True)), (
+            "#444", f"lateral range curves ({lr.source})"))
 
     def _write_text(self, plan: SearchPlan, scenario: Scenario) -> None:
         items = "".join(f"<li>{html.escape(s)}</li>" for s in plan.summary)
@@ -519,12 +542,9 @@ class SearchPlanBoard(widgets.VBox):
         content = bytes(item.get("content", b""))
         self.upload.value = ()
         try:
-            if len(content) > MAX_FILE_BYTES:
-                raise ValueError(f"{name} is {len(content)} bytes; at most {MAX_FILE_BYTES} "
-                                 "allowed")
-            self.add_design(name, Scenario.from_json(content))
+            self.add_design(name, scenario_files.loads(content, source=name))
         except ValueError as exc:  # the design on screen stays as it was
-            show_message(self.message, f"{name} was not opened: {exc}")
+            show_message(self.message, f"not opened: {exc}")
 
     def _on_sweep_upload(self, change: dict[str, Any]) -> None:
         files = change["new"]

@@ -156,5 +156,8 @@ def comparison_rows(plans: Sequence[tuple[str, SearchPlan]], probe_plan: SearchP
     in_time = float(np.interp(radar_min, c["minute"].values, c["pod_probe_line"].values))
     rows.append([f"probe line of {probes.team_size} (two passes)", f"{t_all:.0f} min",
                  f"{probes.rate_m2_min(False):.0f} m2/min (first pass)", "-",
-                 f"{pct(in_time)} in the radar's {radar_min:.0f} min", "-"])
+                 f"{pct(in_time)} in the radar's {radar_min:.0f} min",
+                 pct(probe_plan.probe_found_alive)
+                 + (f" ({pct(probe_plan.probe_beyond_table)} of finds past the table)"
+                    if probe_plan.probe_beyond_table > 0.005 else "")])
     return rows

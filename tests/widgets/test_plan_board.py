@@ -100,7 +100,7 @@ def test_upload_opens_a_design_and_refuses_bad_files(app):
     assert app.scenario.name == "deep_wet_spring"
     shown = app.plan
     _upload(app, "broken.json", b'{"format": ')
-    assert "broken.json was not opened" in message_text(app.message)
+    assert "not opened: scenario file 'broken.json'" in message_text(app.message)
     assert app.design.value == "file: wet.json" and app.plan is shown
     _upload(app, "nobody.json", Scenario.example("debris_no_burial").to_json().encode())
     assert "no buried person" in message_text(app.message)
