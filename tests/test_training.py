@@ -257,6 +257,32 @@ def test_bad_level_file_names_the_field(level, field):
         level_from_json(json.dumps(doc))
 
 
+def test_level_ranges_refer_to_declared_scenario_fields():
+    from snowprobe_widgets import fields
+    from snowprobe_widgets.training.levels import LEVEL_FIELDS
+
+    for level_field, (group, name) in LEVEL_FIELDS.items():
+        decl = fields.declaration(group, name)
+        for lv in LEVEL_TABLE:
+            for end in getattr(lv, level_field):
+                assert decl.low <= end <= decl.high, (lv.name, level_field, end)
+        # an end outside the declared bounds is refused, naming the level's field
+        doc = {"format": "snowprobe_widgets.training_level", "version": 1,
+               "based_on": "first_look",
+               "level": {"name": "mine", level_field: [decl.high * 2 + 1e9] * 2}}
+        with pytest.raises(LevelFileError, match=level_field):
+            level_from_json(json.dumps(doc))
+    # the drawn scenes' values lie inside the level's ranges
+    lv = get_level("debris_field")
+    for seed in range(20):
+        sc = make_exercise(lv, seed).scenario
+        if sc.persons:
+            depth = fields.value_at(sc, "persons[0].depth_m")
+            assert lv.burial_depth_m[0] <= depth <= lv.burial_depth_m[1]
+        wettest = max(fields.value_at(sc, "snowpack.layers[*].lwc_percent"))
+        assert wettest <= lv.lwc_percent[1]
+
+
 def test_level_file_without_base_needs_every_field_and_rejects_junk():
     with pytest.raises(LevelFileError, match="missing level field"):
         level_from_json(json.dumps({"format": "snowprobe_widgets.training_level",

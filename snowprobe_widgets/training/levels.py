@@ -6,9 +6,10 @@ the range or the choices that :func:`snowprobe_widgets.training.make_exercise` d
 The shipped levels are :data:`LEVEL_TABLE`, easiest first; their names are
 :data:`snowprobe_widgets.training.LEVELS`.
 
-Every range is checked against the scene constructors it feeds (``Layer``, ``Person``,
-``Clutter``, ``Radar``, ...), so a level that could draw a scene the model refuses is
-refused itself, with the level's field named.
+Every range end is checked against the declaration of the scenario field it draws
+(:data:`LEVEL_FIELDS`, from :mod:`snowprobe_widgets.fields`) and run through the scene
+constructors it feeds (``Layer``, ``Person``, ``Clutter``, ``Radar``, ...), so a level that
+could draw a scene the model refuses is refused itself, with the level's field named.
 
 An instructor's own level is a JSON file::
 
@@ -37,6 +38,7 @@ from .._validate import check_choice, check_range
 
 __all__ = [
     "FALSE_TARGET_KINDS",
+    "LEVEL_FIELDS",
     "LEVEL_FORMAT",
     "LEVEL_TABLE",
     "LEVEL_VERSION",
@@ -186,6 +188,24 @@ def _pair(level: str, field: str, value: Any, whole: bool) -> tuple:
     return tuple(out)
 
 
+#: The scenario field each level range draws (``snowprobe_widgets.fields`` declarations):
+#: every range end must pass that field's declared check.
+LEVEL_FIELDS: dict[str, tuple[str, str]] = {
+    "burial_depth_m": ("person", "depth_m"),
+    "person_offset_m": ("person", "offset_m"),
+    "density_kg_m3": ("layer", "density_kg_m3"),
+    "lwc_percent": ("layer", "lwc_percent"),
+    "temperature_c": ("snowpack", "temperature_c"),
+    "scatterer_density_per_m3": ("clutter", "scatterer_density_per_m3"),
+    "scatterer_size_m": ("clutter", "scatterer_size_m"),
+    "thin_layer_count": ("clutter", "thin_layer_count"),
+    "center_frequency_hz": ("radar", "center_frequency_hz"),
+    "transmit_power_dbm": ("radar", "transmit_power_dbm"),
+    "antenna_height_m": ("radar", "antenna_height_m"),
+    "soil_water_fraction": ("ground", "water_fraction"),
+}
+
+
 def _constructor(level: str, field: str, build: Any) -> None:
     """Run a scene constructor on a range end; its refusal becomes the field's."""
     try:
@@ -250,7 +270,13 @@ def _check_level(lv: Level) -> None:
             check_range("center_frequency_hz", fc, *_FREQUENCY_RANGE_HZ, unit="Hz")
         except ValueError as exc:
             raise _field_error(name, "center_frequency_hz", str(exc)) from None
-    # each range end through the constructor it feeds
+    # each range end against the declaration of the scenario field it draws
+    from .. import fields
+
+    for f, (group, declared) in LEVEL_FIELDS.items():
+        for end in getattr(lv, f):
+            _constructor(name, f, lambda e=end, g=group, d=declared: fields.check(g, d, e))
+    # and through the constructors, for what joins fields (water in the pores, ...)
     d_lo, d_hi = lv.density_kg_m3
     for f, lo, hi in (("burial_depth_m", 0.1, 5.0), ("snow_below_m", 0.1, 10.0),
                       ("line_length_m", 8.0, 40.0), ("person_offset_m", 0.0, 2.0)):
