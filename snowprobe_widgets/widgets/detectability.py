@@ -8,17 +8,17 @@ its realizations in a :class:`~snowprobe_widgets.widgets.ScenarioExplorer`.
 
 A sweep runs in one worker process (never in the page's kernel), started from a
 background thread that only collects results; at most :data:`MAX_SWEEPS_AT_ONCE` sweeps
-run at once on this machine (a lock file per slot in the system's temporary folder, so
-every dashboard session counts). Moving the detector level re-reads the recorded margins
-(:func:`snowprobe_widgets.sweeps.roc`): nothing is simulated again.
+run at once on this machine (one abstract socket name per slot, so every dashboard
+session counts and nothing is written on the server). Moving the detector level re-reads
+the recorded margins (:func:`snowprobe_widgets.sweeps.roc`): nothing is simulated again.
 """
 
 from __future__ import annotations
 
 import html
 import math
-import os
-import tempfile
+import socket
+import sys
 import threading
 import time
 from collections.abc import Callable
@@ -103,34 +103,38 @@ def contour_segments(z: np.ndarray, x: np.ndarray, y: np.ndarray,
 
 
 class _SweepSlots:
-    """A machine-wide bound on concurrent sweeps: one lock file per slot."""
+    """A machine-wide bound on concurrent sweeps: one abstract Unix socket name per slot.
+
+    Binding a name in Linux's abstract socket namespace writes no file (a served dashboard
+    writes nothing on the server) and the name is freed when the holder closes it or
+    its process ends. Elsewhere there is no machine-wide bound, only this view's own.
+    """
 
     def __init__(self, slots: int) -> None:
         self.slots = slots
-        self._fh: Any = None
+        self._sock: Any = None
 
     def acquire(self) -> bool:
-        try:
-            import fcntl
-        except ImportError:  # no advisory locks on this platform: no machine-wide bound
+        if self._sock is not None:
+            return False
+        if not sys.platform.startswith("linux"):
+            self._sock = True
             return True
-        folder = os.path.join(tempfile.gettempdir(), "snowprobe-sweep-slots")
-        os.makedirs(folder, exist_ok=True)
         for i in range(self.slots):
-            fh = open(os.path.join(folder, f"slot-{i}.lock"), "a")  # noqa: SIM115
+            sock = socket.socket(socket.AF_UNIX, socket.SOCK_STREAM)
             try:
-                fcntl.flock(fh, fcntl.LOCK_EX | fcntl.LOCK_NB)
+                sock.bind(f"\0snowprobe-sweep-slot-{i}")
             except OSError:
-                fh.close()
+                sock.close()
                 continue
-            self._fh = fh
+            self._sock = sock
             return True
         return False
 
     def release(self) -> None:
-        if self._fh is not None:
-            self._fh.close()  # closing drops the lock
-            self._fh = None
+        if self._sock is not None and self._sock is not True:
+            self._sock.close()
+        self._sock = None
 
 
 class _FieldRow(widgets.HBox):

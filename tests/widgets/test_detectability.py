@@ -81,8 +81,7 @@ def test_bad_range_is_refused_with_the_field_named():
     assert not view.running and view.dataset is None
 
 
-def test_sweeps_at_once_are_bounded(tmp_path, monkeypatch):
-    monkeypatch.setattr("tempfile.tempdir", str(tmp_path))
+def test_sweeps_at_once_are_bounded():
     other = _SweepSlots(1)
     assert other.acquire()
     try:
