@@ -24,7 +24,7 @@ from snowprobe_widgets.burial_statistics import (
     DEPTH_DISTRIBUTIONS,
     SURVIVAL_TABLES,
 )
-from snowprobe_widgets.coverage import ICAR_RATE_M2_MIN
+from snowprobe_widgets.coverage import ICAR_RATE_M2_MIN, MAX_LANES
 from snowprobe_widgets.plan import (
     PLAN_CAUTIONS,
     PLATFORMS,
@@ -125,6 +125,7 @@ class SearchPlanBoard(widgets.VBox):
             _DEMO + name: Scenario.example(name) for name in Scenario.examples()}
         self._lateral: dict[tuple, LateralRange] = {}
         self._sweeps: dict[str, LateralRange] = {}
+        self._trades: dict[tuple, Any] = {}
         self._plan: SearchPlan | None = None
         self._others: list[tuple[str, SearchPlan]] = []
         if scenario is not None:
@@ -394,9 +395,7 @@ class SearchPlanBoard(widgets.VBox):
         else:
             lateral = self._sweeps[self.lateral_source.value]
         plan = plan_search(lateral, area, platform, self.spacing.value, **options)
-        trade = spacing_tradeoff(lateral, area, platform,
-                                 np.union1d(_SPACINGS_M, [self.spacing.value]),
-                                 depths=self.depths.value)
+        trade = self._tradeoff(lateral, area, platform)
         others = [(f"this radar, {platform.name}", plan)]
         for name, preset in PLATFORMS.items():
             if name == self.platform.value:
@@ -413,6 +412,26 @@ class SearchPlanBoard(widgets.VBox):
         self._draws += 1
         self.status.value = (f"draws={self._draws} | {plan.form} | "
                              f"{plan.coverage.time_s / 60:.0f} min to clear")
+
+    def _tradeoff(self, lateral: LateralRange, area: DebrisArea, platform: Platform) -> Any:
+        """The spacing curve: the fixed spacings are computed once per area, platform,
+        curves and depths (a spacing change adds only its own point)."""
+        import xarray as xr
+
+        key = (id(lateral), area.vertices_m.tobytes(), platform, self.depths.value)
+        if key not in self._trades:
+            closest = area.width_across_m() / MAX_LANES  # narrower spacings are refused
+            if len(self._trades) > 16:
+                self._trades.clear()
+            self._trades[key] = spacing_tradeoff(lateral, area, platform,
+                                                 _SPACINGS_M[_SPACINGS_M >= closest],
+                                                 depths=self.depths.value)
+        grid = self._trades[key]
+        if np.any(np.isclose(grid["spacing_m"].values, self.spacing.value)):
+            return grid
+        point = spacing_tradeoff(lateral, area, platform, [self.spacing.value],
+                                 depths=self.depths.value)
+        return xr.concat([grid, point], dim="spacing_m").sortby("spacing_m")
 
     def _draw_spacing(self, trade: Any) -> None:
         x = trade["spacing_m"].values
