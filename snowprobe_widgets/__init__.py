@@ -26,6 +26,14 @@ def link_budget(scenario, target=None, **options):  # noqa: ANN001, ANN201 - thi
     return _link_budget(scenario, target, **options)
 
 
+def link_budgets(scenario, **options):  # noqa: ANN001, ANN201 - thin re-export
+    """One link budget per buried person, in order: see
+    :func:`snowprobe_widgets.budget_checks.link_budgets`."""
+    from .budget_checks import link_budgets as _link_budgets
+
+    return _link_budgets(scenario, **options)
+
+
 def detect(radargram, **options):  # noqa: ANN001, ANN201 - thin re-export
     """Probable burials in a radargram: see :func:`snowprobe_widgets.detection.detect`."""
     from .detection import detect as _detect

@@ -39,7 +39,10 @@ import numpy as np
 import scipy.fft
 
 from ._validate import check_range
+from .budget_checks import CLUTTER_MARGIN_DB, overruling_warnings
+from .budget_checks import two_way_time_s as _two_way_time_s
 from .constants import C0_M_S
+from .detection import DEFAULT_THRESHOLD_DB
 from .radar_equation import antenna_factor, beam_weight, db20, noise_rms
 from .raypaths import layers_above_m
 from .synthesis import (
@@ -208,6 +211,13 @@ class LinkBudget:
         Spacing of parallel survey lines: one footprint diameter (our rule: a body
         between two lines lies within the first Fresnel zone of one of them).
     warnings : tuple of str
+        Plain sentences for each condition that overrules the budget (time window, trace
+        spacing, footprint, detection level; :mod:`snowprobe_widgets.budget_checks`);
+        empty when nothing overrules.
+    likely_visible : bool
+        The budget's margin is met (echo ``threshold_db`` above the noise, 6 dB above the
+        clutter, within the window) and no condition of :attr:`warnings` overrules it.
+    model_warnings : tuple of str
         Models used outside their calibrated band
         (:func:`snowprobe_widgets.validity.scenario_warnings`).
     """
@@ -230,6 +240,13 @@ class LinkBudget:
     window_needed_s: float
     lane_spacing_m: float
     warnings: tuple[str, ...]
+    likely_visible: bool = False
+    model_warnings: tuple[str, ...] = ()
+
+    def _repr_html_(self) -> str:
+        from .notebook_html import budget_html
+
+        return budget_html(self)
 
     def row(self, term: str) -> BudgetRow:
         """The row named ``term``."""
@@ -436,11 +453,6 @@ class _ClutterModel:
                 * math.sqrt(count * self.amp2[j] * self.w2 * self.energy) / r_e**2)
 
 
-def _two_way_time_s(optics: ColumnOptics, h: float, depth_m: float) -> float:
-    """Two-way time from transmission to an echo from ``depth_m`` straight below, s."""
-    return 2 * (h + float(np.dot(_above(optics, depth_m), optics.index))) / C0_M_S
-
-
 def _depth_at_time_m(optics: ColumnOptics, h: float, time_s: float) -> float:
     """Depth whose echo arrives ``time_s`` after transmission (straight down), m; the
     bottom layer continues below the column."""
@@ -550,7 +562,8 @@ def _label(target: Any, scenario: Any) -> str:
     return getattr(target, "label", "") or target.kind
 
 
-def link_budget(scenario: Any, target: Any = None, *, threshold_db: float = 10.0) -> LinkBudget:
+def link_budget(scenario: Any, target: Any = None, *,
+                threshold_db: float = DEFAULT_THRESHOLD_DB) -> LinkBudget:
     """The link budget of ``target`` (default: the scenario's first buried person).
 
     Parameters
@@ -559,8 +572,10 @@ def link_budget(scenario: Any, target: Any = None, *, threshold_db: float = 10.0
     target : Person, Boulder, Branch or MetalPlate, optional
         Any buried thing, in the scenario or not (placed in the scenario's snowpack).
     threshold_db : float
-        Echo-to-noise ratio a search team needs to call the echo, dB, in [0, 60]
-        (default 10 dB, common practice for a visible hyperbola on a raw display).
+        Detection level: how far the echo must stand above the noise and clutter, dB, in
+        [0, 60]; the automatic detector's default
+        (:data:`snowprobe_widgets.detection.DEFAULT_THRESHOLD_DB`), so that one level
+        serves both.
 
     Raises
     ------
@@ -620,7 +635,7 @@ def link_budget(scenario: Any, target: Any = None, *, threshold_db: float = 10.0
         np.dot(optics.thickness_m, optics.index)) / C0_M_S
     window = time_window_s(t_ground)
     label = _label(target, scenario)
-    warnings = scenario_warnings(scenario)
+    model_warnings = scenario_warnings(scenario)
 
     a_lo, a_hi = radar.antenna_band_hz
     noise_dbm = radar.noise_floor_dbm - 10 * math.log10(radar.stacking)
@@ -688,24 +703,34 @@ def link_budget(scenario: Any, target: Any = None, *, threshold_db: float = 10.0
         BudgetRow("time window needed", window * 1e9, "ns",
                   "1.3 x the two-way time to the ground"),
     ]
+    warnings = overruling_warnings(
+        scenario, target, label=label, optics=optics,
+        echo_over_noise_and_clutter_db=float(db20(echo.peak / math.sqrt(
+            rms**2 + dr_floor**2 + ring**2 + clutter**2))),
+        threshold_db=thr, spacing_needed_m=spacing, fresnel_radius_m=fres)
+    likely = bool(depth <= lim.window_depth_m and efr >= thr and ecr >= CLUTTER_MARGIN_DB
+                  and not warnings)
     if depth > lim.window_depth_m:
         call = "not visible: its echo arrives after the recording window ends"
-    elif efr >= thr and ecr >= 6.0:
+    elif likely:
         call = "likely visible"
-    elif efr >= thr:
-        call = "above the noise but may be hidden in debris clutter"
-    else:
+    elif efr < thr:
         call = "unlikely to be visible"
+    elif warnings:
+        call = "not likely visible as set up"
+    else:
+        call = "above the noise but may be hidden in debris clutter"
     ecr_text = ("no debris clutter" if clutter <= 0 else
                 f"{abs(ecr):.0f} dB {'above' if ecr >= 0 else 'below'} clutter")
     verdict = (f"{label} at {depth:.1f} m: echo {abs(enr):.0f} dB "
                f"{'above' if enr >= 0 else 'below'} noise, {ecr_text}: {call}. "
-               + _depth_sentence(lim, radar, thr))
-    if warnings:
+               + _depth_sentence(lim, radar, thr) + "".join(f" {w}" for w in warnings))
+    if model_warnings:
         verdict += (" Some material models are used outside their calibrated band "
                     "(see the warnings).")
     return LinkBudget(
         tuple(rows), enr, ecr, lim.depth_m, res, fres, spacing, window, depth, thr, label,
         verdict, depth_limited_by=lim.limited_by, snow_limited_depth_m=lim.snow_depth_m,
         window_depth_m=lim.window_depth_m, window_needed_s=lim.window_needed_s,
-        lane_spacing_m=lanes, warnings=warnings)
+        lane_spacing_m=lanes, warnings=warnings, likely_visible=likely,
+        model_warnings=model_warnings)

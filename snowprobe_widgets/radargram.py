@@ -7,6 +7,7 @@ from the moment the pulse leaves the antenna (time-zero before any alignment).
 
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -117,6 +118,21 @@ class Radargram:
             return 0.0
         return float((self.position_m[-1] - self.position_m[0]) / (self.position_m.size - 1))
 
+    def to_xarray(self) -> Any:
+        """The radargram as an ``xarray.DataArray`` (see :func:`to_xarray`)."""
+        return to_xarray(self)
+
+    def to_csv(self, path: str | os.PathLike[str]) -> None:
+        """Write the radargram as CSV: a header row (``time_ns``, then each trace's
+        position in m), one row per sample; ``pandas.read_csv(path)`` reads it with no
+        options."""
+        from .atomic_files import write_atomically
+
+        write_atomically(path, csv_text(self).encode("utf-8"))
+
+    def _repr_html_(self) -> str:
+        return repr_html(self)
+
     def with_data(self, data: np.ndarray, record: ProcessingRecord | None = None,
                   **changes: Any) -> Radargram:
         """A new radargram with ``data`` replaced and ``record`` appended to the history."""
@@ -127,3 +143,56 @@ class Radargram:
         )
         kw.update(changes)
         return Radargram(**kw)
+
+
+def _json_history(history: tuple[ProcessingRecord, ...]) -> str:
+    import json
+
+    return json.dumps([r.as_dict() for r in history], default=str)
+
+
+def to_xarray(rg: Radargram) -> Any:
+    """``rg`` as an ``xarray.DataArray`` named ``amplitude`` with dims ``("time_s",
+    "position_m")``; coordinates and attributes carry their units, the processing history
+    and, for a simulated radargram, the scenario as JSON (``attrs["scenario_json"]``)."""
+    import xarray as xr
+
+    from .cautions import CAUTION_SHORT
+
+    attrs = {"units": "model units (linear, proportional to volts)",
+             "long_name": "received amplitude", "caution": CAUTION_SHORT,
+             "processing_json": _json_history(rg.history)}
+    if rg.scenario is not None:
+        attrs["scenario_json"] = rg.scenario.to_json()
+    return xr.DataArray(
+        np.asarray(rg.data), dims=("time_s", "position_m"), name="amplitude",
+        coords={"time_s": ("time_s", np.asarray(rg.time_s),
+                           {"units": "s", "long_name": "two-way travel time"}),
+                "position_m": ("position_m", np.asarray(rg.position_m),
+                               {"units": "m", "long_name": "position along the survey line"})},
+        attrs=attrs)
+
+
+def csv_text(rg: Radargram) -> str:
+    """``rg`` as CSV text: a header row ``time_ns`` then each trace's position in metres,
+    then one row per sample (time in ns, then the amplitude of each trace)."""
+    names = ["time_ns"] + [f"{x:.9g}" for x in rg.position_m]
+    rows = np.column_stack([np.asarray(rg.time_s) * 1e9, rg.data])
+    body = "\n".join(",".join(f"{v:.9g}" for v in row) for row in rows)
+    return ",".join(names) + "\n" + body + "\n"
+
+
+def repr_html(rg: Radargram) -> str:
+    """A short notebook summary of ``rg``."""
+    import html
+
+    n_t, n_x = rg.data.shape
+    name = getattr(rg.scenario, "name", "") if rg.scenario is not None else ""
+    steps = ", ".join(r.step for r in rg.history) or "none (raw)"
+    truth = ", ".join(f"{m.label or m.kind} at {m.position_m:.2f} m, {m.depth_m:.2f} m deep"
+                      for m in rg.truth) or "none given"
+    return (f"<div><b>Radargram</b>{' of ' + html.escape(name) if name else ''}: "
+            f"{n_x} traces from {rg.position_m[0]:.2f} to {rg.position_m[-1]:.2f} m "
+            f"(every {100 * rg.dx_m:.1f} cm) x {n_t} samples over "
+            f"{rg.time_s[-1] * 1e9:.1f} ns (every {rg.dt_s * 1e12:.0f} ps)<br>"
+            f"processing: {html.escape(steps)}<br>buried: {html.escape(truth)}</div>")

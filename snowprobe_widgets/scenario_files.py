@@ -35,11 +35,13 @@ import dataclasses
 import json
 import math
 import os
+import pathlib
 import stat
 from typing import Any
 
 from .atomic_files import write_atomically
 from .cautions import CAUTION_SHORT
+from .fields import declaration
 from .scene import (
     Clutter,
     Ground,
@@ -64,6 +66,9 @@ __all__ = [
     "load",
     "scenario_to_dict",
     "scenario_from_dict",
+    "json_schema",
+    "write_schema_file",
+    "SCHEMA_FILE",
 ]
 
 FORMAT = "snowprobe-scenario"
@@ -92,10 +97,18 @@ class _Spec:
     may lack them, and then they take the dataclass default.
     """
 
-    def __init__(self, cls: type, kinds: dict[str, Any], added: tuple[str, ...] = ()) -> None:
+    def __init__(self, cls: type, kinds: dict[str, Any], added: tuple[str, ...] = (),
+                 group: str = "") -> None:
         self.cls = cls
         self.kinds = kinds
         self.added = added
+        self.group = group
+
+    @property
+    def declarations(self) -> str:
+        """Its group of declarations in :mod:`snowprobe_widgets.fields` (a buried object
+        kind's group is its kind name)."""
+        return self.group or self.cls.kind
 
 
 #: Schema field kind of each annotation a scene value object may use.
@@ -138,14 +151,15 @@ class _TaggedListOf:
 
 
 _LAYER = _Spec(Layer, {"thickness_m": _NUM, "density_kg_m3": _NUM, "lwc_percent": _NUM,
-                       "ice_crust": _BOOL})
-_SNOWPACK = _Spec(Snowpack, {"layers": _ListOf(_LAYER, 200), "temperature_c": _NUM})
+                       "ice_crust": _BOOL}, group="layer")
+_SNOWPACK = _Spec(Snowpack, {"layers": _ListOf(_LAYER, 200), "temperature_c": _NUM},
+                  group="snowpack")
 _GROUND = _Spec(Ground, {"kind": _STR, "water_fraction": _NUM, "permittivity": _NUM,
-                         "conductivity_s_m": _NUM})
+                         "conductivity_s_m": _NUM}, group="ground")
 _PERSON = _Spec(Person, {
     "position_m": _NUM, "depth_m": _NUM, "offset_m": _NUM, "heading_deg": _NUM,
     "posture": _STR, "height_m": _NUM, "clothing_m": _NUM, "skin_m": _NUM, "fat_m": _NUM,
-    "muscle_m": _NUM, "label": _STR})
+    "muscle_m": _NUM, "label": _STR}, group="person")
 _RADAR = _Spec(Radar, {
     "pulse": _STR, "center_frequency_hz": _NUM, "bandwidth_hz": _OPT_NUM,
     "transmit_power_dbm": _NUM, "noise_floor_dbm": _NUM, "stacking": _INT,
@@ -154,15 +168,16 @@ _RADAR = _Spec(Radar, {
     "antenna_band_high_hz": _OPT_NUM, "dynamic_range_db": _NUM, "ringing_level_db": _NUM,
     "ringing_time_s": _OPT_NUM},
     added=("polarization", "antenna_band_low_hz", "antenna_band_high_hz", "dynamic_range_db",
-           "ringing_level_db", "ringing_time_s"))
-_SURVEY = _Spec(Survey, {"start_m": _NUM, "end_m": _NUM, "trace_spacing_m": _NUM})
+           "ringing_level_db", "ringing_time_s"), group="radar")
+_SURVEY = _Spec(Survey, {"start_m": _NUM, "end_m": _NUM, "trace_spacing_m": _NUM},
+                group="survey")
 _CLUTTER = _Spec(Clutter, {"scatterer_density_per_m3": _NUM, "scatterer_size_m": _NUM,
                            "thin_layer_count": _INT, "thin_layer_contrast": _NUM,
-                           "seed": _INT})
+                           "seed": _INT}, group="clutter")
 _SCENARIO = _Spec(Scenario, {
     "snowpack": _SNOWPACK, "ground": _GROUND, "persons": _ListOf(_PERSON, 50),
     "objects": _TaggedListOf(_object_specs, 1000), "radar": _RADAR, "survey": _SURVEY,
-    "clutter": _CLUTTER, "name": _STR, "notes": _STR})
+    "clutter": _CLUTTER, "name": _STR, "notes": _STR}, group="scenario")
 
 #: Every spec, for the test that keeps the schema in step with the dataclasses.
 _SPECS: tuple[_Spec, ...] = (_LAYER, _SNOWPACK, _GROUND, _PERSON, _RADAR, _SURVEY, _CLUTTER,
@@ -514,3 +529,85 @@ def load(path: str | os.PathLike[str]) -> Scenario:
         raise ScenarioFileError(f"cannot read {where}: {exc.strerror or exc}") from exc
     return loads(data, source=name)
 
+
+# --------------------------------------------------------------------------- JSON Schema
+#: The JSON Schema of scenario files, shipped with the package (``json_schema()`` as text).
+SCHEMA_FILE = pathlib.Path(__file__).with_name("data") / "scenario.schema.json"
+
+
+def _field_schema(group: str, name: str, kind: Any) -> dict[str, Any]:
+    if isinstance(kind, _Spec):
+        return _object_schema(kind)
+    if isinstance(kind, _ListOf):
+        return {"type": "array", "maxItems": kind.max_items, "items": _object_schema(kind.spec)}
+    if isinstance(kind, _TaggedListOf):
+        return {"type": "array", "maxItems": kind.max_items,
+                "items": {"oneOf": [_object_schema(spec, tag=tag)
+                                    for tag, spec in kind.specs.items()]}}
+    try:
+        f = declaration(group, name)
+    except KeyError:  # a plugin kind's field it did not declare: its type only
+        return {"type": {_NUM: "number", _OPT_NUM: ["number", "null"], _INT: "integer",
+                         _BOOL: "boolean"}.get(kind, "string")}
+    out: dict[str, Any] = {"title": f.label, "description": f.help}
+    if f.unit:
+        out["unit"] = f.unit
+    if f.kind in ("number", "optional number", "integer"):
+        out["type"] = {"number": "number", "integer": "integer",
+                       "optional number": ["number", "null"]}[f.kind]
+        if math.isfinite(f.low):
+            out["exclusiveMinimum" if f.low_open else "minimum"] = f.low
+        if math.isfinite(f.high):
+            out["exclusiveMaximum" if f.high_open else "maximum"] = f.high
+    elif f.kind == "boolean":
+        out["type"] = "boolean"
+    elif f.kind == "choice":
+        out["type"] = "string"
+        if not callable(f.choices):  # registries that plugins extend are checked on load
+            out["enum"] = list(f.allowed())
+    else:
+        out["type"] = "string"
+        out["maxLength"] = f.max_length
+    return out
+
+
+def _object_schema(spec: _Spec, tag: str | None = None) -> dict[str, Any]:
+    props = {name: _field_schema(spec.declarations, name, kind)
+             for name, kind in spec.kinds.items()}
+    required = [k for k in spec.kinds if k not in spec.added]
+    if tag is not None:
+        props = {"type": {"const": tag}, **props}
+        required = ["type", *required]
+    return {"type": "object", "title": spec.cls.__name__, "properties": props,
+            "required": required, "additionalProperties": False}
+
+
+def json_schema() -> dict[str, Any]:
+    """The JSON Schema (draft 2020-12) of a scenario file, from the field declarations.
+
+    It states the structure, types and each field's hard bounds, label, help and SI unit
+    (the keyword ``unit``). Rules that tie fields together (a person inside the snowpack,
+    enough samples in the window, the pulse's Nyquist limit) are checked on loading, not by
+    the schema. The same schema ships as :data:`SCHEMA_FILE`.
+    """
+    return {
+        "$schema": "https://json-schema.org/draft/2020-12/schema",
+        "title": "snowprobe scenario file",
+        "description": f"A scenario of snowprobe_widgets, schema version {SCHEMA_VERSION}. "
+                       + CAUTION_SHORT,
+        "type": "object",
+        "properties": {
+            "format": {"const": FORMAT},
+            "schema_version": {"const": SCHEMA_VERSION},
+            "caution": {"type": "string"},
+            "scenario": _object_schema(_SCENARIO),
+        },
+        "required": ["format", "schema_version", "scenario"],
+        "additionalProperties": False,
+    }
+
+
+def write_schema_file(path: str | os.PathLike[str] = SCHEMA_FILE) -> None:
+    """Write :func:`json_schema` as indented JSON text (regenerates :data:`SCHEMA_FILE`)."""
+    text = json.dumps(json_schema(), indent=2, ensure_ascii=False) + "\n"
+    pathlib.Path(path).write_text(text, encoding="utf-8")

@@ -20,8 +20,9 @@ from typing import Any
 
 import numpy as np
 
-from ._validate import check_choice, check_range
-from ._validate import check_int as _check_int
+from ._validate import check_range
+from .fields import SAMPLES, FieldError, declaration, plain_number
+from .fields import check as _check
 from .scene_objects import (
     Boulder,
     Branch,
@@ -32,7 +33,7 @@ from .scene_objects import (
     Person,
     Snowpack,
 )
-from .targets import POLARIZATIONS, kinds_in
+from .targets import kinds_in
 
 __all__ = [
     "Layer",
@@ -51,7 +52,6 @@ __all__ = [
 ]
 
 _MAX_TRACES = 20_000
-_SAMPLES = (64, 8192)
 _MAX_PERSONS = 50
 _MAX_OBJECTS = 1000
 _MAX_SCATTERERS = 100_000
@@ -62,8 +62,8 @@ _CLUTTER_HALF_WIDTH_M = 1.0
 #: Thickness range of the clutter's thin random layers, m (invented demo figures).
 _THIN_LAYER_M = (0.01, 0.05)
 _DEPTH_TOL_M = 1e-9
-#: Highest centre frequency a radar may have, Hz.
-MAX_CENTER_FREQUENCY_HZ = 6e9
+#: Highest centre frequency a radar may have, Hz (declared in fields.py).
+MAX_CENTER_FREQUENCY_HZ = declaration("radar", "center_frequency_hz").high
 #: Amplitude level of the half-power points, 1/sqrt(2) of the peak.
 HALF_POWER = 2.0 ** -0.5
 
@@ -72,17 +72,10 @@ def _set(obj: object, name: str, value: Any) -> None:
     object.__setattr__(obj, name, value)
 
 
-def _check_text(name: str, value: object, max_len: int) -> str:
-    if not isinstance(value, str):
-        raise ValueError(f"{name} must be a string, got {value!r}")
-    if len(value) > max_len:
-        raise ValueError(f"{name} is {len(value)} characters long; at most {max_len} allowed")
-    try:
-        value.encode("utf-8")
-    except UnicodeEncodeError as exc:
-        raise ValueError(f"{name} holds a character that is not valid Unicode (a lone "
-                         f"surrogate {value[exc.start]!r} at position {exc.start})") from None
-    return value
+def _check_fields(obj: object, group: str, names: tuple[str, ...]) -> None:
+    """Check each named field of ``obj`` against its declaration in ``fields``."""
+    for name in names:
+        _set(obj, name, _check(group, name, getattr(obj, name)))
 
 
 def _frozen(x: Any) -> np.ndarray:
@@ -123,7 +116,7 @@ class Radar:
     time_window_s : float
         Recording window, s; ``round(time_window_s / dt_s)`` samples, 64 to 8192.
     antenna_height_m : float
-        Antenna height above the snow surface, m, in [0.05, 30] (sled-borne to drone). The
+        Antenna height above the snow surface, m, in [0.05, 50] (sled-borne to helicopter). The
         point-antenna model needs the antenna off the surface: a ground-coupled antenna
         (height 0) is outside it and refused.
     beamwidth_deg : float
@@ -172,61 +165,50 @@ class Radar:
     ringing_time_s: float | None = None
 
     def __post_init__(self) -> None:
-        from . import pulses
-
-        if not isinstance(self.pulse, str):
-            raise ValueError(f"pulse must be a pulse name (a string), got {self.pulse!r}")
-        check_choice("pulse", self.pulse, tuple(pulses.pulse_names()))
-        _set(self, "center_frequency_hz", check_range(
-            "center_frequency_hz", self.center_frequency_hz, 50e6, MAX_CENTER_FREQUENCY_HZ,
-            unit="Hz"))
-        if self.bandwidth_hz is not None:
-            _set(self, "bandwidth_hz", check_range(
-                "bandwidth_hz", self.bandwidth_hz, 0.0, 6e9, unit="Hz", low_open=True))
-        _set(self, "transmit_power_dbm", check_range(
-            "transmit_power_dbm", self.transmit_power_dbm, -30.0, 60.0, unit="dBm"))
-        _set(self, "noise_floor_dbm", check_range(
-            "noise_floor_dbm", self.noise_floor_dbm, -200.0, min(0.0, self.transmit_power_dbm),
-            unit="dBm", high_open=self.transmit_power_dbm <= 0.0))
-        _set(self, "stacking", _check_int("stacking", self.stacking, 1, 65536))
-        _set(self, "antenna_gain_dbi", check_range(
-            "antenna_gain_dbi", self.antenna_gain_dbi, -10.0, 30.0, unit="dBi"))
-        _set(self, "dt_s", check_range("dt_s", self.dt_s, 1e-12, 1e-8, unit="s"))
-        _set(self, "time_window_s", check_range(
-            "time_window_s", self.time_window_s, 0.0, 1e-4, unit="s", low_open=True))
-        lo, hi = _SAMPLES
+        _check_fields(self, "radar", ("pulse", "center_frequency_hz", "bandwidth_hz",
+                                      "transmit_power_dbm"))
+        _set(self, "noise_floor_dbm", _check(
+            "radar", "noise_floor_dbm", self.noise_floor_dbm,
+            high=min(0.0, self.transmit_power_dbm), high_open=self.transmit_power_dbm <= 0.0))
+        _check_fields(self, "radar", ("stacking", "antenna_gain_dbi", "dt_s", "time_window_s"))
+        lo, hi = SAMPLES
         n = self.n_samples
         if not lo <= n <= hi:
-            raise ValueError(
+            window = declaration("radar", "time_window_s")
+            raise FieldError(
                 f"time_window_s = {self.time_window_s:g} s at dt_s = {self.dt_s:g} s gives "
-                f"{n} samples; allowed range [{lo}, {hi}] samples")
-        _set(self, "antenna_height_m", check_range(
-            "antenna_height_m", self.antenna_height_m, 0.05, 30.0, unit="m"))
-        _set(self, "beamwidth_deg",
-             check_range("beamwidth_deg", self.beamwidth_deg, 5.0, 180.0, unit="deg"))
-        check_choice("polarization", self.polarization, POLARIZATIONS)
-        for name in ("antenna_band_low_hz", "antenna_band_high_hz"):
-            if getattr(self, name) is not None:
-                _set(self, name, check_range(name, getattr(self, name), 0.0, 20e9, unit="Hz",
-                                             low_open=True))
+                f"{n} samples; allowed range [{lo}, {hi}] samples",
+                field=window, value=self.time_window_s,
+                screen=f"Time window {window.show(self.time_window_s)} at a sample interval "
+                       f"of {declaration('radar', 'dt_s').show(self.dt_s)} gives {n} "
+                       f"samples; {lo} to {hi} allowed: use a window of "
+                       f"{window.show(lo * self.dt_s)} to {window.show(hi * self.dt_s)}, or "
+                       "change the sample interval.")
+        _check_fields(self, "radar", ("antenna_height_m", "beamwidth_deg", "polarization",
+                                      "antenna_band_low_hz", "antenna_band_high_hz"))
         lo_band, hi_band = self.antenna_band_hz
         if lo_band >= hi_band:
-            raise ValueError(
+            low = declaration("radar", "antenna_band_low_hz")
+            raise FieldError(
                 f"antenna band {lo_band:g}-{hi_band:g} Hz is empty: antenna_band_low_hz must "
-                "lie below antenna_band_high_hz")
-        _set(self, "dynamic_range_db", check_range(
-            "dynamic_range_db", self.dynamic_range_db, 20.0, 200.0, unit="dB"))
-        _set(self, "ringing_level_db", check_range(
-            "ringing_level_db", self.ringing_level_db, -200.0, 0.0, unit="dB"))
-        if self.ringing_time_s is not None:
-            _set(self, "ringing_time_s", check_range(
-                "ringing_time_s", self.ringing_time_s, 0.0, 1e-6, unit="s"))
+                "lie below antenna_band_high_hz", field=low, value=lo_band,
+                screen=f"Antenna band {low.show(lo_band)} to {low.show(hi_band)} is empty: "
+                       "set its low edge below its high edge.")
+        _check_fields(self, "radar", ("dynamic_range_db", "ringing_level_db",
+                                      "ringing_time_s"))
         f_high = _band_high_hz(self.make_pulse())
-        if self.dt_s > 1.0 / (2.0 * f_high) * (1 + 1e-9):
-            raise ValueError(
+        limit = 1.0 / (2.0 * f_high)
+        if self.dt_s > limit * (1 + 1e-9):
+            dt = declaration("radar", "dt_s")
+            raise FieldError(
                 f"dt_s = {self.dt_s:g} s is too coarse for the pulse: its band reaches "
                 f"{f_high:g} Hz, so the Nyquist limit needs dt_s <= 1/(2 f_high) = "
-                f"{1.0 / (2.0 * f_high):g} s")
+                f"{limit:g} s",
+                field=dt, value=self.dt_s,
+                screen=f"Sample interval {dt.show(self.dt_s)} is too coarse for a "
+                       f"{plain_number(self.center_frequency_hz / 1e6)} MHz pulse: use "
+                       f"{plain_number(math.floor(limit / 1e-12 * 10) / 10)} ps or less, or "
+                       "a lower centre frequency.")
 
     @property
     def n_samples(self) -> int:
@@ -300,17 +282,23 @@ class Survey:
     trace_spacing_m: float = 0.05
 
     def __post_init__(self) -> None:
-        _set(self, "start_m", check_range("start_m", self.start_m, -1e4, 1e4, unit="m"))
-        _set(self, "end_m", check_range(
-            "end_m", self.end_m, self.start_m, 1e4, unit="m", low_open=True))
-        _set(self, "trace_spacing_m",
-             check_range("trace_spacing_m", self.trace_spacing_m, 1e-3, 100.0, unit="m"))
+        _check_fields(self, "survey", ("start_m",))
+        _set(self, "end_m", _check("survey", "end_m", self.end_m, low=self.start_m,
+                                   low_open=True))
+        _check_fields(self, "survey", ("trace_spacing_m",))
         n = self.n_traces
         if n > _MAX_TRACES:
-            raise ValueError(
+            spacing = declaration("survey", "trace_spacing_m")
+            raise FieldError(
                 f"a {self.length_m:g} m line at trace_spacing_m = {self.trace_spacing_m:g} m "
                 f"has {n} traces; at most {_MAX_TRACES} allowed (shorten the line or widen "
-                "the spacing)")
+                "the spacing)",
+                field=spacing, value=self.trace_spacing_m,
+                screen=f"A {plain_number(self.length_m)} m line at a trace spacing of "
+                       f"{spacing.show(self.trace_spacing_m)} has {n} traces; at most "
+                       f"{_MAX_TRACES}: widen the spacing to "
+                       f"{spacing.show(self.length_m / (_MAX_TRACES - 1))} or more, or "
+                       "shorten the line.")
 
     @classmethod
     def from_speed(
@@ -420,16 +408,8 @@ class Clutter:
     seed: int = 0
 
     def __post_init__(self) -> None:
-        _set(self, "scatterer_density_per_m3", check_range(
-            "scatterer_density_per_m3", self.scatterer_density_per_m3, 0.0, 1000.0,
-            unit="1/m3"))
-        _set(self, "scatterer_size_m",
-             check_range("scatterer_size_m", self.scatterer_size_m, 0.005, 2.0, unit="m"))
-        _set(self, "thin_layer_count", _check_int("thin_layer_count", self.thin_layer_count,
-                                                  0, 500))
-        _set(self, "thin_layer_contrast",
-             check_range("thin_layer_contrast", self.thin_layer_contrast, 0.0, 1.0))
-        _set(self, "seed", _check_int("seed", self.seed, 0, 2**32 - 1))
+        _check_fields(self, "clutter", ("scatterer_density_per_m3", "scatterer_size_m",
+                                        "thin_layer_count", "thin_layer_contrast", "seed"))
 
     def expected_scatterers(self, snowpack: Snowpack, survey: Survey) -> float:
         """Mean number of scatterers in the strip of +-1 m about the line, through the snow."""
@@ -521,26 +501,42 @@ class Scenario:
                                  tuple(k.value_type for k in kinds_in("objects")), _MAX_OBJECTS)
         _set(self, "persons", persons)
         _set(self, "objects", objects)
-        _set(self, "name", _check_text("name", self.name, 200))
-        _set(self, "notes", _check_text("notes", self.notes, 20_000))
+        _check_fields(self, "scenario", ("name", "notes"))
         snow = self.snowpack.depth_m
         s = self.survey
-        for where, item in self._labelled_targets():
+        for (where, item), who in zip(self._labelled_targets(), self._screen_names(),
+                                      strict=True):
             label = getattr(item, "label", "")
             what = f"{where} ({item.kind} {label!r})" if label else f"{where} ({item.kind})"
             if item.bottom_depth_m > snow + _DEPTH_TOL_M:
-                raise ValueError(
+                room = snow - (item.bottom_depth_m - item.depth_m)
+                raise FieldError(
                     f"{what} at depth_m = {item.depth_m:g} m reaches down to "
-                    f"{item.bottom_depth_m:g} m, deeper than the {snow:g} m snowpack")
+                    f"{item.bottom_depth_m:g} m, deeper than the {snow:g} m snowpack",
+                    field=declaration(item.kind, "depth_m"), value=item.depth_m,
+                    screen=f"{who}: depth to top {plain_number(item.depth_m)} m puts the "
+                           f"bottom at {plain_number(item.bottom_depth_m)} m, below the "
+                           f"{plain_number(snow)} m of snow: use at most "
+                           f"{plain_number(max(0.0, math.floor(100 * room) / 100))} m, or "
+                           "add snow.")
             lo, hi = s.start_m - _LINE_MARGIN_M, s.end_m + _LINE_MARGIN_M
             if not lo <= item.position_m <= hi:
-                raise ValueError(
+                raise FieldError(
                     f"{what} position_m = {item.position_m:g} m is outside the survey line "
-                    f"+- {_LINE_MARGIN_M:g} m; allowed range [{lo:g}, {hi:g}] m")
+                    f"+- {_LINE_MARGIN_M:g} m; allowed range [{lo:g}, {hi:g}] m",
+                    field=declaration(item.kind, "position_m"), value=item.position_m,
+                    screen=f"{who}: position along line {plain_number(item.position_m)} m is "
+                           f"more than {_LINE_MARGIN_M:g} m beyond the line "
+                           f"({plain_number(s.start_m)} to {plain_number(s.end_m)} m): use "
+                           f"{plain_number(lo)} to {plain_number(hi)} m, or move the line.")
             if abs(item.offset_m) > _LINE_MARGIN_M:
-                raise ValueError(
+                raise FieldError(
                     f"{what} offset_m = {item.offset_m:g} m is too far from the survey line; "
-                    f"allowed range [-{_LINE_MARGIN_M:g}, {_LINE_MARGIN_M:g}] m")
+                    f"allowed range [-{_LINE_MARGIN_M:g}, {_LINE_MARGIN_M:g}] m",
+                    field=declaration(item.kind, "offset_m"), value=item.offset_m,
+                    screen=f"{who}: offset from line {plain_number(item.offset_m)} m is too "
+                           f"far to the side: use -{_LINE_MARGIN_M:g} to "
+                           f"{_LINE_MARGIN_M:g} m.")
         n_scat = self.clutter.expected_scatterers(self.snowpack, self.survey)
         if n_scat > _MAX_SCATTERERS:
             raise ValueError(
@@ -561,6 +557,11 @@ class Scenario:
                 raise ValueError(f"{name}[{i}] must be a {allowed}, got {type(item).__name__}")
         return items
 
+    def _screen_names(self) -> list[str]:
+        """What the screen calls each target: "Person 1", "Object 2 (boulder)"."""
+        return ([p.label or f"Person {i + 1}" for i, p in enumerate(self.persons)]
+                + [f"Object {i + 1} ({o.kind})" for i, o in enumerate(self.objects)])
+
     def _labelled_targets(self) -> list[tuple[str, Any]]:
         return ([(f"persons[{i}]", p) for i, p in enumerate(self.persons)]
                 + [(f"objects[{i}]", o) for i, o in enumerate(self.objects)])
@@ -573,6 +574,11 @@ class Scenario:
     def clutter_field(self) -> ClutterField:
         """The seeded clutter of this scenario (``clutter.realise(snowpack, survey)``)."""
         return self.clutter.realise(self.snowpack, self.survey)
+
+    def _repr_html_(self) -> str:
+        from .notebook_html import scenario_html
+
+        return scenario_html(self)
 
     # ----------------------------------------------------------------- files
 

@@ -24,9 +24,10 @@ from typing import Any
 
 import numpy as np
 
-from ._validate import check_choice, check_pore_water, check_range
-from .constants import MAX_LWC_PERCENT, RHO_ICE_KG_M3
-from .targets.base import check_bool, set_field
+from ._validate import check_pore_water, check_range
+from .constants import RHO_ICE_KG_M3
+from .fields import FieldError, declaration
+from .targets.base import check_fields, set_field
 from .targets.boulder import Boulder
 from .targets.branch import DRY_WOOD_PERMITTIVITY, Branch
 from .targets.metal_plate import MetalPlate
@@ -46,21 +47,16 @@ __all__ = [
     "DRY_WOOD_PERMITTIVITY",
 ]
 
-#: Densest snow is bubble-free ice.
-_MAX_DENSITY = RHO_ICE_KG_M3
-#: Lightest snow accepted (fresh, very light new snow is about 30-50 kg/m3; common practice).
-_MIN_DENSITY = 30.0
-#: Highest liquid water content accepted, percent by volume ("slush" starts near 15 %,
-#: Fierz et al. 2009, UNESCO-IHP Tech. Doc. Hydrol. 83, table of wetness classes).
+# Field ranges (densities, water content, sizes) are declared in fields.py.
 #: Crust densities: melt-freeze crusts and ice lenses (common practice: 700-917 kg/m3).
-_CRUST_DENSITY = (700.0, _MAX_DENSITY)
+_CRUST_DENSITY = (700.0, RHO_ICE_KG_M3)
 _MAX_CRUST_THICKNESS_M = 0.3
 _MAX_LAYERS = 200
 _MAX_SNOW_DEPTH_M = 100.0
 #: Thinnest layer kept when a crust splits a layer (shorter slivers are dropped).
 _SLIVER_M = 1e-9
 
-GROUND_KINDS: tuple[str, ...] = ("soil", "rock")
+GROUND_KINDS: tuple[str, ...] = declaration("ground", "kind").allowed()
 
 
 
@@ -93,26 +89,33 @@ class Layer:
     ice_crust: bool = False
 
     def __post_init__(self) -> None:
-        set_field(self, "thickness_m", check_range(
-            "thickness_m", self.thickness_m, 0.0, _MAX_SNOW_DEPTH_M, unit="m", low_open=True))
-        set_field(self, "density_kg_m3", check_range(
-            "density_kg_m3", self.density_kg_m3, _MIN_DENSITY, _MAX_DENSITY, unit="kg/m3"))
-        set_field(self, "lwc_percent", check_range(
-            "lwc_percent", self.lwc_percent, 0.0, MAX_LWC_PERCENT, unit="%"))
-        set_field(self, "ice_crust", check_bool("ice_crust", self.ice_crust))
-        check_pore_water(self.density_kg_m3, self.lwc_percent, RHO_ICE_KG_M3)
+        check_fields(self, "layer", ("thickness_m", "density_kg_m3", "lwc_percent",
+                                     "ice_crust"))
+        try:
+            check_pore_water(self.density_kg_m3, self.lwc_percent, RHO_ICE_KG_M3)
+        except ValueError as exc:
+            room = max(0.0, 1.0 - self.density_kg_m3 / RHO_ICE_KG_M3)
+            raise FieldError(
+                str(exc), field=declaration("layer", "lwc_percent"), value=self.lwc_percent,
+                screen=f"Liquid water {self.lwc_percent:g} % does not fit in the pores of "
+                       f"{self.density_kg_m3:.0f} kg/m³ snow: use at most "
+                       f"{math.floor(1000 * room) / 10:g} %, or a lower density.") from None
         if self.ice_crust:
             lo, hi = _CRUST_DENSITY
             if not lo <= self.density_kg_m3 <= hi:
-                raise ValueError(
+                raise FieldError(
                     f"density_kg_m3 = {self.density_kg_m3:g} kg/m3 is too light for an ice "
-                    f"crust; allowed range [{lo:g}, {hi:g}] kg/m3 when ice_crust is True"
-                )
+                    f"crust; allowed range [{lo:g}, {hi:g}] kg/m3 when ice_crust is True",
+                    field=declaration("layer", "density_kg_m3"), value=self.density_kg_m3,
+                    screen=f"Density {self.density_kg_m3:.0f} kg/m³ is too light for an ice "
+                           f"crust: set {lo:.0f} to {hi:.0f} kg/m³, or untick Ice crust.")
             if self.thickness_m > _MAX_CRUST_THICKNESS_M:
-                raise ValueError(
+                raise FieldError(
                     f"thickness_m = {self.thickness_m:g} m is too thick for an ice crust; "
-                    f"allowed range (0, {_MAX_CRUST_THICKNESS_M:g}] m when ice_crust is True"
-                )
+                    f"allowed range (0, {_MAX_CRUST_THICKNESS_M:g}] m when ice_crust is True",
+                    field=declaration("layer", "thickness_m"), value=self.thickness_m,
+                    screen=f"Thickness {self.thickness_m:g} m is too thick for an ice crust: "
+                           f"use at most {_MAX_CRUST_THICKNESS_M:g} m, or untick Ice crust.")
 
     def material(self, temperature_c: float = -5.0) -> Any:
         """The layer's dielectric model at ``temperature_c`` (degC; the snowpack's, which
@@ -151,8 +154,7 @@ class Snowpack:
             if not isinstance(layer, Layer):
                 raise ValueError(f"layers[{i}] must be a Layer, got {type(layer).__name__}")
         set_field(self, "layers", layers)
-        set_field(self, "temperature_c",
-             check_range("temperature_c", self.temperature_c, -50.0, 0.0, unit="degC"))
+        check_fields(self, "snowpack", ("temperature_c",))
         if self.depth_m > _MAX_SNOW_DEPTH_M:
             raise ValueError(
                 f"the layers add up to {self.depth_m:g} m of snow; at most "
@@ -260,12 +262,8 @@ class Ground:
     conductivity_s_m: float = 0.001
 
     def __post_init__(self) -> None:
-        check_choice("kind", self.kind, GROUND_KINDS)
-        set_field(self, "water_fraction",
-             check_range("water_fraction", self.water_fraction, 0.0, 0.5, unit="m3/m3"))
-        set_field(self, "permittivity", check_range("permittivity", self.permittivity, 2.0, 40.0))
-        set_field(self, "conductivity_s_m",
-             check_range("conductivity_s_m", self.conductivity_s_m, 0.0, 1.0, unit="S/m"))
+        check_fields(self, "ground", ("kind", "water_fraction", "permittivity",
+                                      "conductivity_s_m"))
 
     def material(self) -> Any:
         """The ground's dielectric model (``materials.soil`` or ``materials.rock``)."""

@@ -233,7 +233,7 @@ def test_deepest_burial_in_dry_snow_grows_with_system_performance(tx: float) -> 
     # the budget follows the range equation within 5 % as the system performance grows
     sc = _uniform(0.0, 300.0, window=800e-9, transmit_power_dbm=tx, noise_floor_dbm=-60.0,
                   stacking=1)
-    lb = link_budget(sc)
+    lb = link_budget(sc, threshold_db=10.0)
     assert lb.depth_limited_by == "noise"
     assert lb.max_detectable_depth_m == pytest.approx(_range_equation_depth(sc, 10.0),
                                                       rel=0.05)

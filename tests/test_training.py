@@ -2,8 +2,8 @@
 
 Scoring is checked on hand-built scenes (one snow layer, so the depth scale is exact) with
 tolerances worked by hand from the published formulas: first Fresnel zone
-sqrt(lambda d / 2 + lambda^2 / 16) (REFERENCES 7.7) and range resolution c / (2 B n)
-(REFERENCES 7.6).
+sqrt(lambda (d + n h) / 2 + lambda^2 / 16) (REFERENCES 7.7 for h = 0) and range resolution
+c / (2 B n) (REFERENCES 7.6).
 """
 
 from __future__ import annotations
@@ -293,7 +293,10 @@ def _hand_tolerances(depth_m: float, half_length_m: float) -> tuple[float, float
 
     n = materials.snow(RHO).refractive_index(FC).real
     lam = C0_M_S / (FC * n)
-    fresnel = math.sqrt(lam * depth_m / 2 + lam**2 / 16)  # REFERENCES 7.7
+    # first Fresnel zone seen from h = 0.5 m through the surface: sqrt(lam (d + n h) / 2
+    # + lam^2 / 16) (REFERENCES 7.7 for h = 0; the paraxial Fermat form of the budget,
+    # checked against an exact Fermat zone in tests/test_budget.py)
+    fresnel = math.sqrt(lam * (depth_m + n * 0.5) / 2 + lam**2 / 16)
     bandwidth = Radar("ricker", FC).make_pulse().bandwidth_hz
     resolution = C0_M_S / (2 * bandwidth * n)  # REFERENCES 7.6
     return half_length_m + fresnel, resolution

@@ -37,7 +37,7 @@ def test_radar_accepts_six_gigahertz_where_every_model_holds():
     assert scenario_warnings(sc) == ()
     rg = simulate(sc)
     assert np.all(np.isfinite(rg.data)) and np.max(np.abs(rg.data)) > 0
-    assert link_budget(sc).warnings == ()
+    assert link_budget(sc).model_warnings == ()
     with pytest.raises(ValueError, match=r"center_frequency_hz = 6\.1e\+09 Hz"):
         Radar("ricker", 6.1e9, dt_s=2.5e-11, time_window_s=25.6e-9)
 
@@ -51,7 +51,7 @@ def test_a_scene_outside_a_model_band_is_warned_not_silent():
     assert "Tiuri et al. 1984" in warnings[0] and "2.6 GHz" in warnings[0]
     assert "Topp" in warnings[1]
     lb = link_budget(sc)
-    assert lb.warnings == warnings
+    assert lb.model_warnings == warnings
     assert "outside their calibrated band" in lb.verdict
     # inside the bands: silent
     ok = dataclasses.replace(sc, radar=dataclasses.replace(sc.radar, center_frequency_hz=8e8))

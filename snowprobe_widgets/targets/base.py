@@ -25,14 +25,13 @@ from typing import Any, Protocol
 
 import numpy as np
 
-from .._validate import check_range
 from ..constants import C0_M_S
 from ..facets import FacetMesh
 from ..layered import reflection, stack_coefficients
 
 __all__ = ["ANGLES_DEG", "POLARIZATIONS", "MAX_DEPTH_M", "Reflection", "TargetKind",
            "ka_in_snow", "layered_reflection", "fresnel_angle_ratio", "ellipse", "set_field",
-           "check_geometry", "check_label", "check_bool"]
+           "check_geometry", "check_fields", "check_label", "check_bool"]
 
 #: Local incidence angles on which a kind gives its reflection's angle dependence, deg.
 ANGLES_DEG = np.linspace(0.0, 89.0, 90)
@@ -172,11 +171,18 @@ def check_bool(name: str, value: object) -> bool:
 MAX_DEPTH_M = 100.0
 
 
+def check_fields(obj: Any, group: str, names: tuple[str, ...]) -> None:
+    """Check each named field of ``obj`` against its declaration in
+    :mod:`snowprobe_widgets.fields` (a kind without declarations of its own uses the
+    generic ``"object"`` ones for the shared geometry)."""
+    from ..fields import check
+
+    for name in names:
+        set_field(obj, name, check(group, name, getattr(obj, name)))
+
+
 def check_geometry(obj: Any) -> None:
     """Position, offset, depth and heading: the fields every buried thing shares."""
-    set_field(obj, "position_m", check_range("position_m", obj.position_m, -1e4, 1e4, unit="m"))
-    set_field(obj, "offset_m", check_range("offset_m", obj.offset_m, -100.0, 100.0, unit="m"))
-    set_field(obj, "depth_m", check_range("depth_m", obj.depth_m, 0.0, MAX_DEPTH_M, unit="m"))
-    if hasattr(obj, "heading_deg"):
-        set_field(obj, "heading_deg",
-                  check_range("heading_deg", obj.heading_deg, -360.0, 360.0, unit="deg"))
+    names = ("position_m", "offset_m", "depth_m")
+    check_fields(obj, obj.kind, names + (("heading_deg",) if hasattr(obj, "heading_deg")
+                                         else ()))

@@ -19,16 +19,15 @@ from typing import Any, ClassVar
 
 import numpy as np
 
-from .._validate import check_range
 from ..constants import C0_M_S
 from ..facets import FacetMesh, ellipsoid_mesh
 from .base import (
     ANGLES_DEG,
     Reflection,
+    check_fields,
     check_geometry,
     ellipse,
     fresnel_angle_ratio,
-    set_field,
 )
 from .series import sphere_echo, sphere_po_shape
 
@@ -62,11 +61,7 @@ class Boulder:
 
     def __post_init__(self) -> None:
         check_geometry(self)
-        set_field(self, "diameter_m",
-                  check_range("diameter_m", self.diameter_m, 0.05, 5.0, unit="m"))
-        set_field(self, "permittivity", check_range("permittivity", self.permittivity, 2.0, 40.0))
-        set_field(self, "conductivity_s_m",
-             check_range("conductivity_s_m", self.conductivity_s_m, 0.0, 1.0, unit="S/m"))
+        check_fields(self, "boulder", ("diameter_m", "permittivity", "conductivity_s_m"))
 
     @property
     def centre_depth_m(self) -> float:

@@ -21,17 +21,15 @@ from typing import ClassVar
 
 import numpy as np
 
-from .._validate import check_range
 from ..constants import C0_M_S
 from ..facets import FacetMesh, cylinder_mesh
 from .base import (
     ANGLES_DEG,
     Reflection,
-    check_bool,
+    check_fields,
     check_geometry,
     ellipse,
     fresnel_angle_ratio,
-    set_field,
 )
 from .series import cylinder_echoes, cylinder_po_shape
 
@@ -85,12 +83,7 @@ class Branch:
 
     def __post_init__(self) -> None:
         check_geometry(self)
-        set_field(self, "diameter_m",
-                  check_range("diameter_m", self.diameter_m, 0.01, 1.5, unit="m"))
-        set_field(self, "length_m", check_range("length_m", self.length_m, 0.1, 20.0, unit="m"))
-        set_field(self, "water_fraction",
-             check_range("water_fraction", self.water_fraction, 0.0, 0.6, unit="m3/m3"))
-        set_field(self, "frozen", check_bool("frozen", self.frozen))
+        check_fields(self, "branch", ("diameter_m", "length_m", "water_fraction", "frozen"))
 
     @property
     def permittivity(self) -> float:

@@ -15,10 +15,9 @@ from typing import Any, ClassVar
 
 import numpy as np
 
-from .._validate import check_range
 from ..constants import C0_M_S
 from ..facets import FacetMesh, plate_mesh
-from .base import ANGLES_DEG, Reflection, check_geometry, check_label, set_field
+from .base import ANGLES_DEG, Reflection, check_fields, check_geometry, set_field
 
 __all__ = ["MetalPlate", "MetalPlateKind", "MIN_WIDTH_WAVELENGTHS", "strip_factor"]
 
@@ -59,12 +58,13 @@ class MetalPlate:
     label: str = "ski"
 
     def __post_init__(self) -> None:
+        from ..fields import check
+
         check_geometry(self)
-        set_field(self, "length_m", check_range("length_m", self.length_m, 0.02, 3.0, unit="m"))
-        set_field(self, "width_m",
-             check_range("width_m", self.width_m, 0.01, min(1.0, self.length_m), unit="m"))
-        set_field(self, "tilt_deg", check_range("tilt_deg", self.tilt_deg, -90.0, 90.0, unit="deg"))
-        set_field(self, "label", check_label("label", self.label))
+        check_fields(self, "metal", ("length_m",))
+        set_field(self, "width_m", check("metal", "width_m", self.width_m,
+                                         high=min(1.0, self.length_m)))
+        check_fields(self, "metal", ("tilt_deg", "label"))
 
     @property
     def centre_depth_m(self) -> float:

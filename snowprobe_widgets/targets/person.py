@@ -14,21 +14,20 @@ from typing import Any, ClassVar
 
 import numpy as np
 
-from .._validate import check_choice, check_range
 from ..facets import FacetMesh, ellipsoid_mesh
+from ..fields import declaration
 from .base import (
     Reflection,
+    check_fields,
     check_geometry,
-    check_label,
     ellipse,
     ka_in_snow,
     layered_reflection,
-    set_field,
 )
 
 __all__ = ["Person", "PersonKind", "POSTURES", "MIN_KA"]
 
-POSTURES: tuple[str, ...] = ("lying_flat", "curled")
+POSTURES: tuple[str, ...] = declaration("person", "posture").allowed()
 #: Invented demo geometry of a buried adult (vertical thickness, horizontal width), m:
 #: about a lying adult's chest depth and a curled-up adult's height off the ground
 #: (common-sense figures, not measured).
@@ -86,18 +85,22 @@ class Person:
     label: str = ""
 
     def __post_init__(self) -> None:
+        from ..fields import FieldError, declaration
+
         check_geometry(self)
-        check_choice("posture", self.posture, POSTURES)
-        set_field(self, "height_m", check_range("height_m", self.height_m, 0.5, 2.3, unit="m"))
-        for name, lo, hi in (("clothing_m", 0.0, 0.1), ("skin_m", 0.0005, 0.005),
-                             ("fat_m", 0.001, 0.1), ("muscle_m", 0.005, 0.1)):
-            set_field(self, name, check_range(name, getattr(self, name), lo, hi, unit="m"))
-        set_field(self, "label", check_label("label", self.label))
+        check_fields(self, "person", ("posture", "height_m", "clothing_m", "skin_m", "fat_m",
+                                      "muscle_m", "label"))
         shell = self.clothing_m + self.skin_m + self.fat_m + self.muscle_m
         if shell > 0.5 * self.body_thickness_m:
-            raise ValueError(
+            room = 0.5 * self.body_thickness_m - (shell - self.clothing_m)
+            raise FieldError(
                 f"clothing_m + skin_m + fat_m + muscle_m = {shell:g} m does not fit in half "
-                f"the {self.body_thickness_m:g} m body thickness of posture {self.posture!r}")
+                f"the {self.body_thickness_m:g} m body thickness of posture {self.posture!r}",
+                field=declaration("person", "clothing_m"), value=self.clothing_m,
+                screen=f"Clothing, skin, fat and muscle ({100 * shell:.1f} cm) do not fit in "
+                       f"half the body ({50 * self.body_thickness_m:.1f} cm thick when "
+                       f"{self.posture.replace('_', ' ')}): use at most "
+                       f"{max(0.0, math.floor(1000 * room) / 10):g} cm of clothing.")
 
     @property
     def body_thickness_m(self) -> float:

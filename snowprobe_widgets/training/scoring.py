@@ -5,9 +5,11 @@ read on the exercise's :class:`~.exercise.DepthAxis`. A mark finds a buried pers
 lies within that person's tolerances:
 
 * along the line: half the body's extent along the line plus the radius of the first
-  Fresnel zone at the body's depth, ``sqrt(lambda d / 2 + lambda^2 / 16)`` (the
-  footprint; REFERENCES 7.7), since the echo's apex can be read anywhere over the body
-  and the footprint blurs it;
+  Fresnel zone at the body's depth seen from the antenna's height,
+  ``sqrt(lambda (d + n h) / 2 + lambda^2 / 16)`` (the footprint, as
+  :func:`snowprobe_widgets.budget.fresnel_radius_m` and the link budget compute it;
+  REFERENCES 7.7 for h = 0), since the echo's apex can be read anywhere over the body and
+  the footprint blurs it;
 * in depth: the range resolution ``v / (2 B)`` in the body's layer (REFERENCES 7.6) plus
   the error of the one-velocity depth axis at the body's apex time (the axis is exact
   for a single layer only).
@@ -197,9 +199,13 @@ def tolerance_for(exercise: Exercise, position_m: float, depth_m: float, half_le
     fc = sc.radar.center_frequency_hz
     j = _layer_index(opt.thickness_m, depth_m)
     n = float(opt.index[j])
-    footprint = fresnel_radius_m(C0_M_S / (fc * n), depth_m)
-    resolution = range_resolution_m(sc.radar.make_pulse().bandwidth_hz, n * n)
+    h = sc.radar.antenna_height_m
     above = layers_above_m(opt.thickness_m, depth_m)
+    # as the link budget does: the depth in the body's layer that gives the same reduced
+    # range h + sum D_j / n_j, seen through the refracting surface
+    footprint = fresnel_radius_m(C0_M_S / (fc * n), n * float(np.sum(above / opt.index)),
+                                 antenna_height_m=h, index=n)
+    resolution = range_resolution_m(sc.radar.make_pulse().bandwidth_hz, n * n)
     axis = exercise.depth_axis
     t_apex = axis.surface_time_s + 2.0 * float(np.dot(above, opt.index)) / C0_M_S
     axis_error = abs(axis.depth_m(t_apex) - depth_m)

@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import html
 import logging
+import math
 from collections.abc import Callable
 from typing import Any
 
@@ -16,6 +17,7 @@ from ipywidgets.widgets.widget_description import DescriptionStyle, DescriptionW
 from ipywidgets.widgets.widget_string import HTMLStyle
 
 from snowprobe_widgets.cautions import CAUTION_SHORT, CAUTION_TEXT
+from snowprobe_widgets.fields import Field, screen_message
 
 #: CSS class of every "this combination was refused" message line.
 MESSAGE_CLASS: str = "sp-message"
@@ -23,7 +25,7 @@ MESSAGE_CLASS: str = "sp-message"
 CAUTION_CLASS: str = "sp-caution"
 
 _DESCRIPTION_WIDTH = "150px"
-_CONTROL_WIDTH = "380px"
+_CONTROL_WIDTH = "100%"
 _SHARED: dict[str, widgets.Widget] = {}
 
 
@@ -142,7 +144,7 @@ def guarded(line: widgets.HTML, action: Callable[[], Any],
     try:
         action()
     except ValueError as exc:
-        show_message(line, str(exc))
+        show_message(line, screen_message(exc))
         return False
     except MemoryError:
         show_message(line, "This needs more memory than this session may use: use fewer "
@@ -171,6 +173,88 @@ def as_f32(values: Any) -> np.ndarray:
     return a
 
 
+_STACKING_MAX_POWER = 16
+
+
+def field_control(field: Field, value: Any = None) -> widgets.Widget:
+    """The control of a declared field: label with display unit, range, step, tooltip.
+
+    Numbers get a slider (logarithmic where declared) over the hard bounds, or the soft
+    bounds when those are fixed; call :func:`set_limits` to follow a scenario. Integers
+    with a huge range get a number box, choices a dropdown, booleans a checkbox. The
+    control's ``value`` is in display units.
+    """
+    lo, hi = field.soft_bounds()
+    if field.soft is not None and not callable(field.soft):
+        lo, hi = max(field.low, field.soft[0]), min(field.high, field.soft[1])
+    if field.kind == "choice":
+        allowed = list(field.allowed())
+        options = [(v.replace("_", " "), v) for v in allowed]
+        w: widgets.Widget = dropdown(field.title, options, value if value in allowed
+                                     else allowed[0])
+        w.tooltip = field.help
+        return w
+    if field.kind == "boolean":
+        w = widgets.Checkbox(value=bool(value), indent=False, description=field.label,
+                             tooltip=field.help, layout=_control_layout())
+        return w
+    d_lo, d_hi = field.to_display(lo), field.to_display(hi)
+    shown = field.to_display(value) if value is not None else d_lo
+    if field.kind == "integer":
+        if d_hi - d_lo > 10_000:
+            return widgets.BoundedIntText(
+                value=int(shown), min=int(d_lo), max=int(d_hi), description=field.title,
+                tooltip=field.help, style=_slider_style(), layout=_control_layout())
+        return int_slider(field.title, int(shown), int(d_lo), int(d_hi), tooltip=field.help)
+    fmt = f".{field.decimals}f"
+    if field.log:
+        return log_slider(field.title, shown, max(d_lo, 1e-300), d_hi, readout_format=fmt,
+                          tooltip=field.help)
+    step = field.step or (d_hi - d_lo) / 100
+    return float_slider(field.title, shown, d_lo, d_hi, step, readout_format=fmt,
+                        tooltip=field.help)
+
+
+def powers_of_two_control(field: Field, value: int) -> widgets.Dropdown:
+    """A dropdown of the powers of two inside an integer field's bounds (stacking)."""
+    options = [2**k for k in range(_STACKING_MAX_POWER + 1)
+               if field.low <= 2**k <= field.high]
+    if value not in options:
+        options = sorted(set(options) | {int(value)})
+    w = dropdown(field.title, options, int(value))
+    w.tooltip = field.help
+    return w
+
+
+def set_limits(control: widgets.Widget, field: Field, low_si: float, high_si: float,
+               value_si: float | None = None) -> None:
+    """Set a slider's range to ``[low_si, high_si]`` (SI, shown in display units), widened
+    to hold ``value_si``; the value is set too when given. Other controls are left alone.
+    """
+    lo, hi = field.to_display(low_si), field.to_display(high_si)
+    if value_si is not None:
+        v = field.to_display(value_si)
+        lo, hi = min(lo, v), max(hi, v)
+    if isinstance(control, widgets.FloatLogSlider):
+        lo = max(lo, 1e-300)
+        new = (float(np.log10(lo)), float(np.log10(hi)))
+    elif isinstance(control, (widgets.FloatSlider, widgets.IntSlider, widgets.BoundedIntText)):
+        new = (lo, hi) if isinstance(control, widgets.FloatSlider) else (int(math.floor(lo)),
+                                                                         int(math.ceil(hi)))
+    else:
+        return
+    with control.hold_trait_notifications():
+        if new[0] > control.max:
+            control.max = new[1]
+            control.min = new[0]
+        else:
+            control.min = new[0]
+            control.max = new[1]
+        if value_si is not None:
+            control.value = v if not isinstance(control, (widgets.IntSlider,
+                                                           widgets.BoundedIntText)) else int(v)
+
+
 def section_title(text: str) -> widgets.HTML:
     """A small bold heading."""
     return widgets.HTML(value=f"<b>{html.escape(text)}</b>")
@@ -182,13 +266,16 @@ __all__ = [
     "as_f32",
     "caution_box",
     "dropdown",
+    "field_control",
     "float_slider",
     "guarded",
     "int_slider",
     "log_slider",
     "message_line",
     "message_text",
+    "powers_of_two_control",
     "section_title",
+    "set_limits",
     "show_message",
 ]
 

@@ -26,8 +26,12 @@ from typing import Any
 import ipywidgets as widgets
 import numpy as np
 
+from snowprobe_widgets import presets
+from snowprobe_widgets.budget import link_budget
+from snowprobe_widgets.detection import DEFAULT_THRESHOLD_DB
 from snowprobe_widgets.fdtd import fdtd_trace, frozen_at
 from snowprobe_widgets.fdtd2d import scenario_check
+from snowprobe_widgets.fields import screen_message
 from snowprobe_widgets.processing import ProcessingChain
 from snowprobe_widgets.radargram import Radargram
 from snowprobe_widgets.scene import Scenario
@@ -38,14 +42,24 @@ from snowprobe_widgets.validity import scenario_warnings
 from snowprobe_widgets.widgets import exports
 from snowprobe_widgets.widgets._common import (
     caution_box,
+    dropdown,
     float_slider,
     guarded,
     message_line,
     message_text,
+    set_visible,
     share_plain_styles,
     show_message,
 )
-from snowprobe_widgets.widgets.file_panel import OPEN_CLASS, PATH_CLASS, SAVE_CLASS, FilePanel
+from snowprobe_widgets.widgets.compare import Design, DesignComparison
+from snowprobe_widgets.widgets.file_panel import (
+    EXPORT_KINDS,
+    OPEN_CLASS,
+    PATH_CLASS,
+    SAVE_CLASS,
+    FilePanel,
+)
+from snowprobe_widgets.widgets.glossary import glossary_html, tip
 from snowprobe_widgets.widgets.materials_lab import MaterialsExplorer
 from snowprobe_widgets.widgets.panels import (
     DebrisPanel,
@@ -56,13 +70,42 @@ from snowprobe_widgets.widgets.panels import (
 )
 from snowprobe_widgets.widgets.processing_panel import STEP_TITLES, ProcessingPanel
 from snowprobe_widgets.widgets.radargram_view import RadargramView
+from snowprobe_widgets.widgets.verdict import VerdictCards
 from snowprobe_widgets.widgets.views import (
     BudgetView,
     CrossSectionView,
     SpectrumView,
     TraceView,
-    budget_table_html,
 )
+
+#: CSS classes of the app, its control column and its view column (layout tests).
+APP_CLASS, CONTROLS_CLASS, VIEWS_CLASS = "sp-app", "sp-controls", "sp-views"
+#: How many accepted scenarios "undo" can step back through.
+UNDO_DEPTH = 50
+
+#: Layout rules of the app, scoped to it: the control column wraps long labels instead of
+#: cutting them, tabs wrap instead of truncating, rows of buttons wrap.
+_APP_CSS = f"""<style>
+.{APP_CLASS} .{CONTROLS_CLASS} {{ min-width: 0; }}
+.{APP_CLASS} .{CONTROLS_CLASS} .jupyter-widgets {{ max-width: calc(100% - 4px); }}
+.{APP_CLASS} .{CONTROLS_CLASS} .widget-label {{ white-space: normal; overflow: visible;
+  text-overflow: clip; line-height: 1.15; height: auto; min-height: 28px;
+  display: flex; align-items: center; }}
+.{APP_CLASS} .{CONTROLS_CLASS} .widget-inline-hbox {{ height: auto; min-height: 28px; }}
+.{APP_CLASS} .{CONTROLS_CLASS} .widget-checkbox {{ height: auto; }}
+.{APP_CLASS} .{CONTROLS_CLASS} .widget-checkbox label {{ white-space: normal; }}
+.{APP_CLASS} .lm-TabBar-content {{ flex-wrap: wrap; }}
+.{APP_CLASS} .lm-TabBar {{ min-height: auto; height: auto; max-height: none; }}
+.{APP_CLASS} .lm-TabBar-tab {{ flex: 0 0 auto !important; max-width: none !important;
+  min-width: 0 !important; }}
+.{APP_CLASS} .{VIEWS_CLASS} {{ min-width: 0; }}
+</style>"""
+
+
+def readable(name: str) -> str:
+    """A demo's registry key as words: "shallow_dry_powder" -> "Shallow dry powder"."""
+    words = name.replace("_", " ").strip()
+    return words[:1].upper() + words[1:]
 
 _NS = 1e-9
 
@@ -151,7 +194,7 @@ class ScenarioExplorer(widgets.VBox):
         self._shown: Radargram | None = None
         self._chain: ProcessingChain | None = None
         self._echoes: tuple[tuple, list] | None = None
-        self._stale = {"budget": True, "materials": True}
+        self._stale = {"budget": True, "materials": True, "compare": True}
         self.simulation = CachedSimulation()
         self.updates = 0
 
@@ -168,65 +211,126 @@ class ScenarioExplorer(widgets.VBox):
         self.message = message_line()
         self.controls = widgets.Tab(
             children=[self.person, self.snowpack, self.debris, self.radar, self.processing],
-            titles=["Person", "Snow & ground", "Debris", "Radar", "Processing"],
-            layout=widgets.Layout(width="460px"))
+            titles=["Person", "Snow", "Debris", "Radar", "Processing"],
+            layout=widgets.Layout(width="100%"))
+
+        # presets, undo, reset, the scenario picker
+        self.snow_preset = dropdown("Snow conditions", ["(choose)", *presets.SNOW_PRESETS],
+                                    "(choose)")
+        self.snow_preset.tooltip = ("Set every layer's density and water for typical snow; "
+                                    "the layer thicknesses stay.")
+        self.platform_preset = dropdown("Platform", ["(choose)", *presets.PLATFORM_PRESETS],
+                                        "(choose)")
+        self.platform_preset.tooltip = ("Antenna height and beam of a sled, a drone or a "
+                                        "helicopter; the time window grows to reach the ground.")
+        self.snow_preset.observe(lambda c: self._preset(c, presets.apply_snow), names="value")
+        self.platform_preset.observe(lambda c: self._preset(c, presets.apply_platform),
+                                     names="value")
+        self.undo_button = widgets.Button(description="undo", tooltip="undo the last change",
+                                          layout=widgets.Layout(width="auto"), disabled=True)
+        self.reset_button = widgets.Button(
+            description="reset", tooltip="back to the scenario as it was opened",
+            layout=widgets.Layout(width="auto"))
+        self.undo_button.on_click(lambda _: self.undo())
+        self.reset_button.on_click(lambda _: self.reset())
+        self._history: list[Scenario] = []
+        self._origin = scenario
+        self._examples: dict[str, Scenario] = {}
+        self.demo = widgets.Dropdown(options=self._demo_options(None), description="Scenario",
+                                     style={"description_width": "auto"},
+                                     layout=widgets.Layout(width="auto", max_width="100%"))
+        self.demo.observe(self._on_demo, names="value")
 
         # views
         self.section = CrossSectionView()
         self.radargram_view = RadargramView(show_truth=False)
+        set_visible(self.radargram_view.status, False)  # a developer counter: tests read it
         self.show_processed = widgets.ToggleButtons(
-            options=["processed", "raw"], value="processed", description="section")
+            options=["processed", "raw"], value="processed", description="section",
+            style={"button_width": "auto"})
         self.mark_detections = widgets.Checkbox(value=False, indent=False,
-                                                description="mark automatic detections")
-        self.detection_threshold = float_slider("detection level (dB)", 15.0, 0.0, 60.0, 1.0,
-                                                readout_format=".0f")
+                                                description="mark automatic detections",
+                                                layout=widgets.Layout(width="auto"))
+        self.detection_threshold = float_slider(
+            "Detection level (dB)", DEFAULT_THRESHOLD_DB, 0.0, 60.0, 1.0, readout_format=".0f",
+            tooltip=tip("detection level", "dB"))
+        self.detection_threshold.layout = widgets.Layout(width="320px", max_width="100%")
         self.detection_list = widgets.HTML()
+        self.verdicts = VerdictCards()
+        self._budgets: dict[tuple, Any] = {}
+        self._current_budgets: list[Any] = []
+        self._problems: list[str] = []
         self.trace_view = TraceView()
         self.spectrum_view = SpectrumView()
         self.budget_view = BudgetView()
         self.materials = MaterialsExplorer()
+        self.glossary = widgets.HTML(glossary_html())
+        self.compare = DesignComparison()
+        self.pin_button = widgets.Button(
+            description="pin as design A", tooltip="keep this design as A to compare the "
+            "next changes with it (tab Compare A/B)", layout=widgets.Layout(width="auto"))
+        self.pin_button.on_click(lambda _: self.pin_design())
         # plots in a hidden tab have no size and bqplot logs errors drawing them, so each
         # tab gets its view the first time it is shown
         self._lower_views = [self.trace_view, self.spectrum_view, self.budget_view,
-                             self.materials]
-        self._lower_slots = [widgets.VBox([self.trace_view])] + [widgets.VBox()
-                                                                 for _ in range(4)]
+                             self.materials, self.compare, self.glossary]
+        self._lower_slots = [widgets.VBox([self.trace_view])] + [
+            widgets.VBox() for _ in range(len(self._lower_views))]
         #: The "Detection probability" tab's view, made when the tab is first shown.
         self.detectability: Any = None
         self.lower = widgets.Tab(
             children=self._lower_slots,
-            titles=["Trace", "Spectrum", "Link budget", "Materials lab",
-                    "Detection probability"])
+            titles=["Trace", "Spectrum", "Link budget", "Materials lab", "Compare A/B",
+                    "Glossary", "Detection probability"])
         # every callback runs guarded: a fault shows a plain message, never a traceback
         self.lower.observe(self._safe(self._fill_tab), names="selected_index")
         self.show_processed.observe(self._safe(self._show_section), names="value")
         self.mark_detections.observe(self._safe(self._update_detections), names="value")
-        self.detection_threshold.observe(self._safe(self._update_detections), names="value")
+        self.detection_threshold.observe(self._safe(self._on_level), names="value")
         self.radargram_view.observe(self._safe(self._on_pick, True),
                                     names="picked_trace_index")
         self.lower.observe(self._safe(self._refresh_lazy), names="selected_index")
         self.trace_view.fdtd_button.on_click(self._safe(self.run_fdtd))
         self.trace_view.fdtd2d_button.on_click(self._safe(self.run_fdtd2d))
+        self._check2d_at: float | None = None  # position of the 2-D check on screen
+
 
         # files: upload/download when served, paths in a notebook (widgets/file_panel.py)
         self.files = FilePanel(get_scenario=lambda: self.scenario,
                                set_scenario=self._show_opened,
                                export_bytes=self.export_bytes)
+        # one scenario picker, in the header (it names the scenario on screen)
+        for w in (self.files.demo, self.files.demo_button):
+            set_visible(w, False)
         self.status = widgets.HTML()
+        set_visible(self.status, False)  # a developer counter: tests read it
         #: where a buried object's scattering method is outside its domain (model's words)
         self.validity = widgets.HTML()
 
-        left = widgets.VBox([self.controls, self.message, self.status, self.validity])
+        wrap = widgets.Layout(flex_flow="row wrap", align_items="center")
+        left = widgets.VBox(
+            [widgets.HBox([self.undo_button, self.reset_button], layout=wrap),
+             self.snow_preset, self.platform_preset, self.controls, self.message, self.status,
+             self.validity],
+            layout=widgets.Layout(flex="0 0 auto", width="38%", min_width="330px",
+                                  max_width="440px"))
+        left.add_class(CONTROLS_CLASS)
         right = widgets.VBox([
             self.section, self.radargram_view,
-            widgets.HBox([self.show_processed, self.mark_detections, self.detection_threshold]),
-            self.detection_list, self.lower], layout=widgets.Layout(flex="1 1 auto"))
+            widgets.HBox([self.show_processed, self.mark_detections, self.detection_threshold],
+                         layout=wrap),
+            self.detection_list, self.lower], layout=widgets.Layout(flex="1 1 0%", min_width="0"))
+        right.add_class(VIEWS_CLASS)
         header = widgets.HTML(
-            "<h3 style='margin:4px 0'>Radar search planner</h3><div>Change the snow, the "
-            "buried person, the debris and the radar; see the scene, the radargram, a "
-            "trace and whether the echo would stand out.</div>")
-        super().__init__(children=[header, caution_box(), self.files,
-                                   widgets.HBox([left, right])], **kwargs)
+            "<h3 style='margin:2px 0'>Radar search planner</h3><div>Would this radar see a "
+            "person buried here? Change the snow, the person, the debris and the radar.</div>")
+        top = widgets.HBox([header, widgets.HBox([self.pin_button, self.demo], layout=wrap)],
+                           layout=widgets.Layout(flex_flow="row wrap", align_items="center",
+                                                 justify_content="space-between"))
+        super().__init__(children=[widgets.HTML(_APP_CSS), top, caution_box(),
+                                   self.verdicts, widgets.HBox([left, right]), self.files],
+                         **kwargs)
+        self.add_class(APP_CLASS)
         share_plain_styles(self)
         self.scenario = scenario
 
@@ -241,12 +345,38 @@ class ScenarioExplorer(widgets.VBox):
     def scenario(self, scenario: Scenario) -> None:
         if not isinstance(scenario, Scenario):
             raise ValueError(f"scenario must be a Scenario, got {type(scenario).__name__}")
+        self._origin = scenario
+        self._show(scenario)
+
+    def _show(self, scenario: Scenario, reset_chain: bool = True, record: bool = True) -> None:
+        """Show ``scenario`` in every control and view (``reset_chain``: the processing
+        goes back to its default; ``record``: the scenario left can be undone)."""
         for p in self._panels:
             p.show(scenario)
-        self.processing.show(ProcessingChain.for_radar(scenario.radar))
+        if reset_chain:
+            self.processing.show(ProcessingChain.for_radar(scenario.radar))
         first = scenario.persons[0].position_m if scenario.persons else \
             0.5 * (scenario.survey.start_m + scenario.survey.end_m)
-        self._accept(scenario, pick_m=first)
+        self._accept(scenario, pick_m=first, keep_limits=True, record=record)
+
+    def undo(self) -> bool:
+        """Go back to the scenario before the last accepted change; False if none."""
+        if not self._history:
+            return False
+        self._show(self._history.pop(), reset_chain=False, record=False)
+        show_message(self.message, "")
+        return True
+
+    def reset(self) -> None:
+        """Go back to the scenario as it was opened (the demo, the file or the start)."""
+        self._show(self._origin)
+        show_message(self.message, "")
+
+    @property
+    def budgets(self) -> tuple[Any, ...]:
+        """The link budget of each buried person on screen, in order (None where refused),
+        at the detection level set on screen."""
+        return tuple(self._current_budgets)
 
     @property
     def chain(self) -> ProcessingChain | None:
@@ -292,7 +422,7 @@ class ScenarioExplorer(widgets.VBox):
         """Put every control back to the scenario and chain on screen."""
         if self._scenario is not None:
             for p in self._panels:
-                p.show(self._scenario)
+                p.show(self._scenario, keep_selection=True)
         if self._chain is not None:
             self.processing.show(self._chain)
 
@@ -304,12 +434,15 @@ class ScenarioExplorer(widgets.VBox):
         if guarded(self.message, lambda: new.append(build_scenario(base, self._panels)),
                    self._restore_controls):
             self._accept(new[0])
+        else:  # the controls go back to the accepted scenario; the message stays
+            self._restore_controls()
 
     def _on_processing(self) -> None:
         if self._raw is not None:
             self._process()
 
-    def _accept(self, scenario: Scenario, pick_m: float | None = None) -> None:
+    def _accept(self, scenario: Scenario, pick_m: float | None = None,
+                keep_limits: bool = False, record: bool = True) -> None:
         raw: list[Radargram] = []
 
         def run() -> None:
@@ -318,22 +451,34 @@ class ScenarioExplorer(widgets.VBox):
 
         if not guarded(self.message, run, self._restore_controls):
             return
-        if not guarded(self.message, lambda: self._show_accepted(scenario, raw[0], pick_m),
+        if not guarded(self.message, lambda: self._show_accepted(scenario, raw[0], pick_m,
+                                                                 keep_limits, record),
                        self._restore_controls):
             return
 
-    def _show_accepted(self, scenario: Scenario, raw: Radargram, pick_m: float | None) -> None:
+    def _show_accepted(self, scenario: Scenario, raw: Radargram, pick_m: float | None,
+                       keep_limits: bool, record: bool) -> None:
         old = self._scenario
+        if old is not None and not keep_limits:
+            for p in self._panels:  # slider ranges follow the new scenario
+                p.follow(scenario)
+        if old is not None and record and old is not scenario:
+            self._history = (self._history + [old])[-UNDO_DEPTH:]
+        self.undo_button.disabled = not self._history
         self._scenario = scenario
         self._raw = raw
-        if old is None or _column_media_key(old) != _column_media_key(scenario):
+        if old is None or _column_media_key(old) != _column_media_key(scenario) or (
+                self._check2d_at is not None and old != scenario):
             self.trace_view.clear_reference()
+            self._check2d_at = None
         self.section.update(scenario)
         if pick_m is not None:
             self.radargram_view.picked_position_m = None
         self.processing.follow_antenna_height(scenario.radar.antenna_height_m)
         self._process(pick_m)
-        self._stale = {"budget": True, "materials": True}
+        self._stale = {"budget": True, "materials": True, "compare": True}
+        self._update_verdicts()
+        self._sync_demo()
         self._refresh_lazy()
         self.updates += 1
         runs = self.simulation.runs
@@ -342,6 +487,93 @@ class ScenarioExplorer(widgets.VBox):
                              f"{runs['noise']}x</small>")
         self.validity.value = "".join(f"<small>&#9888; {html.escape(w)}</small><br>"
                                       for w in scenario_warnings(scenario))
+
+    def _update_verdicts(self) -> None:
+        """One verdict card per buried person, from the model's budgets (cached per person
+        and detection level, so a processing or colour change recomputes nothing)."""
+        s, thr = self.scenario, float(self.detection_threshold.value)
+        cache: dict[tuple, Any] = {}
+        budgets, problems = [], []
+        for i, p in enumerate(s.persons):
+            key = (i, p, s.snowpack, s.ground, s.radar, s.survey, s.clutter, thr)
+            hit = self._budgets.get(key)
+            if hit is None:
+                try:
+                    hit = (link_budget(s, p, threshold_db=thr), "")
+                except ValueError as exc:
+                    hit = (None, screen_message(exc))
+            cache[key] = hit
+            budgets.append(hit[0])
+            problems.append(hit[1])
+        self._budgets = cache
+        self._current_budgets = budgets
+        self._problems = problems
+        self.verdicts.show(s, budgets, problems)
+
+    def design(self) -> Design:
+        """The design on screen: scenario, section on screen and budgets."""
+        return Design(self.scenario, self._shown, tuple(self._current_budgets),
+                      tuple(self._problems))
+
+    def pin_design(self) -> None:
+        """Keep the design on screen as A of the comparison (tab Compare A/B)."""
+        self.compare.pin(self.design())
+        self._stale["compare"] = False
+        self.files.status.value = "design A pinned: change the design and open Compare A/B"
+
+    def _refresh_compare(self) -> None:
+        view = self.radargram_view
+        self.compare.refresh(self.design(), view.colour_dropdown.value, view.clip_slider.value)
+        self._stale["compare"] = False
+
+    def _on_level(self) -> None:
+        self._update_verdicts()
+        self._stale["budget"] = self._stale["compare"] = True
+        self._refresh_lazy()
+        self._update_detections()
+
+    def _example(self, name: str) -> Scenario:
+        if name not in self._examples:
+            self._examples[name] = Scenario.example(name)
+        return self._examples[name]
+
+    def _demo_options(self, scenario: Scenario | None) -> list[tuple[str, str]]:
+        names = Scenario.examples()
+        options = [(readable(k), k) for k in names]
+        if scenario is None or (scenario.name in names
+                                and self._example(scenario.name) == scenario):
+            return options
+        label = readable(scenario.name) if scenario.name else "Unnamed scenario"
+        return [(f"{label} (changed)" if scenario.name in names else label, "")] + options
+
+    def _sync_demo(self) -> None:
+        """The scenario picker names the scenario on screen ("... (changed)" after edits)."""
+        s = self.scenario
+        options = self._demo_options(s)
+        value = options[0][1] if options[0][1] == "" else s.name
+        self._quiet_demo = True
+        try:
+            if list(self.demo.options) != options:
+                self.demo.options = options
+            if value in [v for _, v in options]:
+                self.demo.value = value
+        finally:
+            self._quiet_demo = False
+
+    def _on_demo(self, change: Any) -> None:
+        if getattr(self, "_quiet_demo", False) or not change["new"]:
+            return
+        self.scenario = self._example(change["new"])
+        self.files.status.value = f"demo {html.escape(readable(change['new']))}"
+
+    def _preset(self, change: Any, apply: Any) -> None:
+        name = change["new"]
+        if name == "(choose)" or self._scenario is None:
+            return
+        new: list[Scenario] = []
+        if guarded(self.message, lambda: new.append(apply(self.scenario, name))):
+            self._show(new[0], reset_chain=False)
+        change["owner"].value = "(choose)"  # ready for the next choice (fires a no-op)
 
     def _fill_tab(self) -> None:
         i = self.lower.selected_index
@@ -431,6 +663,10 @@ class ScenarioExplorer(widgets.VBox):
     def _on_pick(self, change: Any) -> None:
         if change["new"] is not None:
             self._update_trace()
+            if self._check2d_at is not None and \
+                    self.radargram_view.picked_position_m != self._check2d_at:
+                self.trace_view.clear_reference()  # the 2-D check holds for one position
+                self._check2d_at = None
 
     def _update_detections(self) -> None:
         view = self.radargram_view
@@ -458,8 +694,10 @@ class ScenarioExplorer(widgets.VBox):
     def _refresh_lazy(self) -> None:
         shown = self.lower.selected_index
         if shown == 2 and self._stale["budget"]:
-            self.budget_view.update(self.scenario)
+            self.budget_view.update(self.scenario, self._current_budgets)
             self._stale["budget"] = False
+        if shown == self._lower_views.index(self.compare) and self._stale["compare"]:
+            self._refresh_compare()
         if shown == 3 and self._stale["materials"]:
             self.materials.scenario = self.scenario
             self._stale["materials"] = False
@@ -510,6 +748,7 @@ class ScenarioExplorer(widgets.VBox):
             f"cells x {res.grid.n_steps} steps in {res.elapsed_s:.2f} s. Both use the media "
             "frozen at the centre frequency, as plane waves.")
         self.fdtd_agreement = ncc
+        self._check2d_at = None
         return ncc
 
     def run_fdtd2d(self) -> float | None:
@@ -549,6 +788,7 @@ class ScenarioExplorer(widgets.VBox):
             labels=("2-D FDTD, object as a cylinder (normalised)",
                     "model, object alone (normalised)"))
         self.fdtd2d_agreement = res.agreement
+        self._check2d_at = x
         return res.agreement
 
     # ------------------------------------------------------------------ files
@@ -568,44 +808,47 @@ class ScenarioExplorer(widgets.VBox):
             raise ValueError("nothing to export yet")
         view = self.radargram_view
         if kind == "csv":
-            return exports.csv_bytes(rg, title=self.scenario.name or "scenario")
+            return exports.csv_bytes(rg)
+        if kind == "budget_csv":
+            return exports.budget_csv_bytes(self.scenario, self._current_budgets)
+        if kind == "netcdf":
+            return exports.netcdf_bytes(rg, raw)
         if kind == "npz":
             return exports.npz_bytes(
                 rg, raw, scenario_json=self.scenario.to_json(),
                 processing_json=self._chain.to_json() if self._chain else "")
         if kind == "png":
-            return exports.radargram_png(rg, view.colour_dropdown.value,
-                                         view.clip_slider.value)
+            return exports.figure_png(rg, view.colour_dropdown.value, view.clip_slider.value,
+                                      self._figure_title(rg))
         if kind == "report":
             return self.report().encode("utf-8")
-        raise ValueError(f"kind = {kind!r}; allowed: csv, npz, png, report")
+        if kind == "compare":
+            self._refresh_compare()
+            return self.compare.html().encode("utf-8")
+        raise ValueError(f"kind = {kind!r}; allowed: {', '.join(EXPORT_KINDS)}")
 
     def report(self) -> str:
-        """The one-page HTML design report of what is on screen."""
+        """The one-page HTML design summary of what is on screen (full tables after a page
+        break; :func:`snowprobe_widgets.widgets.exports.report_html`)."""
         s, rg, view = self.scenario, self._shown, self.radargram_view
-        assert rg is not None
-        png = exports.radargram_png(rg, view.colour_dropdown.value, view.clip_slider.value)
-        self.budget_view.update(s)
-        self._stale["budget"] = False
-        b = self.budget_view.budget
-        if b is not None:
-            budget_html, verdict = budget_table_html(b), b.verdict
-        else:
-            verdict = message_text(self.budget_view.message) or "no link budget"
-            budget_html = f"<p>{html.escape(verdict)}</p>"
+        if rg is None:
+            raise ValueError("nothing to report yet")
+        png = exports.figure_png(rg, view.colour_dropdown.value, view.clip_slider.value,
+                                 self._figure_title(rg))
         steps = [f"{STEP_TITLES.get(st.name, st.name)} ({', '.join(f'{k}={v:g}' if isinstance(v, float) else f'{k}={v}' for k, v in st.params)})"  # noqa: E501
                  for st in (self._chain.steps if self._chain else ()) if st.enabled]
         dets = [d.reason for d in getattr(self, "_detections", [])] \
             if self.mark_detections.value else []
+        caption = (f"{self._figure_title(rg)}: {rg.data.shape[1]} traces, "
+                   f"{rg.data.shape[0]} samples; colours {view.colour_dropdown.value}, "
+                   f"clipped at the {view.clip_slider.value:g} % amplitude.")
+        return exports.report_html(s, picture_png=png, budgets=self._current_budgets,
+                                   problems=self._problems, processing=steps,
+                                   detections=dets, figure_caption=caption)
+
+    def _figure_title(self, rg: Radargram) -> str:
         which = "processed" if rg is not self._raw else "raw"
-        caption = (f"Radargram ({which}): {rg.data.shape[1]} traces from "
-                   f"{rg.position_m[0]:.2f} to {rg.position_m[-1]:.2f} m, "
-                   f"{rg.data.shape[0]} samples over {rg.time_s[-1] / _NS:.1f} ns; colours "
-                   f"{view.colour_dropdown.value}, clipped at the {view.clip_slider.value:g} "
-                   "% amplitude.")
-        return exports.report_html(s, picture_png=png, budget_html=budget_html,
-                                   verdict=verdict, processing=steps, detections=dets,
-                                   figure_caption=caption)
+        return f"Radargram ({which}) of {self.scenario.name or 'the scenario'}"
 
     @property
     def message_text(self) -> str:

@@ -51,9 +51,12 @@ class ExportKind:
 #: The exports the panel offers, keyed by the name ``export`` / ``download`` take.
 EXPORT_KINDS: dict[str, ExportKind] = {
     "csv": ExportKind("data as CSV", ".csv", "text/csv"),
+    "budget_csv": ExportKind("link budget as CSV", "_budget.csv", "text/csv"),
+    "netcdf": ExportKind("data as netCDF", ".nc", "application/x-netcdf"),
     "npz": ExportKind("data as NPZ", ".npz", "application/octet-stream"),
     "png": ExportKind("picture as PNG", ".png", "image/png"),
     "report": ExportKind("design report (HTML)", "_report.html", "text/html"),
+    "compare": ExportKind("A/B comparison (HTML)", "_compare.html", "text/html"),
 }
 
 

@@ -10,7 +10,11 @@ Every panel has the same small protocol:
   whole scenario is validated once, then calls ``commit()`` on success;
 * ``on_change(callback)`` registers ``callback()``, called after any user edit.
 
-Display units (cm, MHz, ns, ...) are converted to SI here and nowhere else.
+Every control of a scenario field is built from its declaration in
+:mod:`snowprobe_widgets.fields` (label, display unit, range, step, help tooltip) and
+recorded in the panel's :attr:`Panel.declared` (control attribute -> declaration); its
+slider range follows the scenario on screen (the declaration's soft bounds). Display units
+(cm, MHz, ns, ...) are converted to SI through the declarations and nowhere else.
 """
 
 from __future__ import annotations
@@ -22,7 +26,7 @@ from typing import Any
 import ipywidgets as widgets
 import numpy as np
 
-from snowprobe_widgets import pulses
+from snowprobe_widgets.fields import Field, declaration
 from snowprobe_widgets.scene import (
     Boulder,
     Branch,
@@ -31,36 +35,73 @@ from snowprobe_widgets.scene import (
     Layer,
     MetalPlate,
     Person,
-    Radar,
     Scenario,
     Snowpack,
     Survey,
 )
-from snowprobe_widgets.scene_objects import GROUND_KINDS, POSTURES
 from snowprobe_widgets.targets import kind_of
 from snowprobe_widgets.widgets._common import (
     dropdown,
-    float_slider,
-    int_slider,
-    log_slider,
+    field_control,
+    powers_of_two_control,
     section_title,
+    set_limits,
     set_visible,
 )
 
 #: CSS class of the person depth slider (browser tests drive it).
 PERSON_DEPTH_CLASS: str = "sp-person-depth"
 
-_CM, _MHZ, _NS, _PS = 1e-2, 1e6, 1e-9, 1e-12
 _BUTTON = widgets.Layout(width="auto")
+#: Rows of buttons wrap in a narrow column.
+_WRAP = widgets.Layout(flex_flow="row wrap")
 
 
 class Panel(widgets.VBox):
-    """Base of the control panels: change callbacks and a "do not fire" guard."""
+    """Base of the control panels: change callbacks and a "do not fire" guard.
+
+    Attributes
+    ----------
+    declared : dict of str to Field
+        The name of each control attribute built from a declaration, and that declaration.
+    """
+
+    declared: dict[str, Field]
 
     def __init__(self, children: list[widgets.Widget], **kwargs: Any) -> None:
         super().__init__(children=children, **kwargs)
         self._callbacks: list[Callable[[], None]] = []
         self._quiet = 0
+
+    def _control(self, attr: str, group: str, name: str, value: Any = None) -> widgets.Widget:
+        """Build the control of declared field ``group.name`` and record it as ``attr``."""
+        f = declaration(group, name)
+        if "declared" not in self.__dict__:
+            self.declared = {}
+        self.declared[attr] = f
+        return field_control(f, value)
+
+    def _field(self, attr: str) -> Field:
+        return self.declared[attr]
+
+    def _si(self, attr: str) -> float:
+        """The control's value in SI units."""
+        return self._field(attr).to_si(getattr(self, attr).value)
+
+    def _put(self, attr: str, value_si: float, limits: tuple[float, float] | None = None
+             ) -> None:
+        """Show an SI value in a declared control (quietly), its range set to ``limits``
+        (SI; default the declaration's fixed soft bounds) and widened to hold the value."""
+        f = self._field(attr)
+        control = getattr(self, attr)
+        lo, hi = limits if limits is not None else f.soft_bounds()
+        self._quiet += 1
+        try:
+            set_limits(control, f, lo, hi, value_si)
+            control.tooltip = f.help  # a shared control (debris "Size") follows its item
+            control.description = f.title
+        finally:
+            self._quiet -= 1
 
     def on_change(self, callback: Callable[[], None]) -> None:
         """Call ``callback()`` after every user edit of this panel."""
@@ -94,8 +135,18 @@ class Panel(widgets.VBox):
         finally:
             self._quiet -= 1
 
-    def show(self, scenario: Scenario) -> None:  # pragma: no cover - overridden
-        raise NotImplementedError
+    def show(self, scenario: Scenario, keep_selection: bool = False) -> None:
+        """Show ``scenario`` (``keep_selection``: stay on the chosen layer or item, as after
+        a refused edit)."""
+        raise NotImplementedError  # pragma: no cover - overridden
+
+    def follow(self, scenario: Scenario) -> None:
+        """Set the slider ranges that depend on the rest of ``scenario`` (the soft bounds
+        of the declarations), leaving every value as it is."""
+
+    def _follow(self, attr: str, scenario: Any = None, item: Any = None) -> None:
+        f = self._field(attr)
+        self._put(attr, f.to_si(getattr(self, attr).value), f.soft_bounds(scenario, item))
 
     def parts(self) -> dict[str, Any]:  # pragma: no cover - overridden
         raise NotImplementedError
@@ -126,31 +177,32 @@ class SnowpackEditor(Panel):
     def __init__(self) -> None:
         self._layers: list[Layer] = [Layer(1.0, 300.0)]
         self.layer_choice = dropdown("layer", [("1", 0)], 0)
-        self.thickness = float_slider("thickness (m)", 0.5, 0.01, 5.0, 0.01)
-        self.density = float_slider("density (kg/m3)", 300.0, 30.0, 917.0, 5.0,
-                                    readout_format=".0f")
-        self.lwc = float_slider("liquid water (%)", 0.0, 0.0, 12.0, 0.1, readout_format=".1f")
-        self.crust = widgets.Checkbox(value=False, indent=False,
-                                      description="ice crust (700-917 kg/m3, at most 0.3 m)")
+        self.thickness = self._control("thickness", "layer", "thickness_m", 0.5)
+        self.density = self._control("density", "layer", "density_kg_m3", 300.0)
+        self.lwc = self._control("lwc", "layer", "lwc_percent", 0.0)
+        self.crust = self._control("crust", "layer", "ice_crust", False)
+        self.crust.description = "Ice crust (700-917 kg/m³, at most 0.3 m)"
         self.add_layer = _button("add layer below", "copy the chosen layer below it")
         self.remove_layer = _button("remove layer")
         self.move_up = _button("move up")
         self.move_down = _button("move down")
         self.add_crust = _button("add ice crust below", "a 2 cm, 850 kg/m3 crust")
-        self.temperature = float_slider("snow temperature (degC)", -5.0, -50.0, 0.0, 0.5,
-                                        readout_format=".1f")
-        self.ground_kind = dropdown("ground", list(GROUND_KINDS), "soil")
-        self.soil_water = float_slider("soil water (m3/m3)", 0.15, 0.0, 0.5, 0.01)
-        self.rock_permittivity = float_slider("rock permittivity (-)", 6.0, 2.0, 40.0, 0.1,
-                                              readout_format=".1f")
-        self.rock_conductivity = float_slider("rock conductivity (mS/m)", 1.0, 0.0, 100.0, 0.1,
-                                              readout_format=".1f")
+        self.all_layers = _button("set for all layers",
+                                  "give every snow layer (not the ice crusts) this layer's "
+                                  "density and liquid water")
+        self.temperature = self._control("temperature", "snowpack", "temperature_c", -5.0)
+        self.ground_kind = self._control("ground_kind", "ground", "kind", "soil")
+        self.soil_water = self._control("soil_water", "ground", "water_fraction", 0.15)
+        self.rock_permittivity = self._control("rock_permittivity", "ground", "permittivity",
+                                               6.0)
+        self.rock_conductivity = self._control("rock_conductivity", "ground",
+                                               "conductivity_s_m", 1e-3)
         self.summary = widgets.HTML()
         super().__init__([
             section_title("Snow layers, surface first"), self.layer_choice,
             widgets.HBox([self.add_layer, self.remove_layer, self.move_up, self.move_down,
-                          self.add_crust]),
-            self.thickness, self.density, self.lwc, self.crust, self.summary,
+                          self.add_crust], layout=_WRAP),
+            self.thickness, self.density, self.lwc, self.all_layers, self.crust, self.summary,
             section_title("Snow and ground"), self.temperature, self.ground_kind,
             self.soil_water, self.rock_permittivity, self.rock_conductivity])
         self.layer_choice.observe(self._on_pick, names="value")
@@ -163,34 +215,40 @@ class SnowpackEditor(Panel):
         self.move_up.on_click(lambda _: self._restructure("up"))
         self.move_down.on_click(lambda _: self._restructure("down"))
         self.add_crust.on_click(lambda _: self._restructure("crust"))
+        self.all_layers.on_click(lambda _: self._restructure("all"))
 
     @property
     def layers(self) -> tuple[Layer, ...]:
         """The layers as the editor holds them now."""
         return tuple(self._layers)
 
-    def show(self, scenario: Scenario) -> None:
+    def show(self, scenario: Scenario, keep_selection: bool = False) -> None:
         self._layers = list(scenario.snowpack.layers)
-        self._set(self.temperature, float(scenario.snowpack.temperature_c))
+        self._put("temperature", scenario.snowpack.temperature_c)
         g = scenario.ground
         self._set(self.ground_kind, g.kind)
-        self._set(self.soil_water, float(g.water_fraction))
-        self._set(self.rock_permittivity, float(g.permittivity))
-        self._set(self.rock_conductivity, float(g.conductivity_s_m * 1e3))
+        self._put("soil_water", g.water_fraction)
+        self._put("rock_permittivity", g.permittivity)
+        self._put("rock_conductivity", g.conductivity_s_m)
         self._sync_ground()
-        self._refresh_choice(0)
+        self._refresh_choice(int(self.layer_choice.value or 0) if keep_selection else 0)
 
     def parts(self) -> dict[str, Any]:
-        ground = Ground(self.ground_kind.value, water_fraction=self.soil_water.value,
-                        permittivity=self.rock_permittivity.value,
-                        conductivity_s_m=self.rock_conductivity.value * 1e-3)
+        ground = Ground(self.ground_kind.value, water_fraction=self._si("soil_water"),
+                        permittivity=self._si("rock_permittivity"),
+                        conductivity_s_m=self._si("rock_conductivity"))
         layers = list(self._layers)
         i = int(self.layer_choice.value)
-        layers[i] = Layer(self.thickness.value, self.density.value, self.lwc.value,
+        layers[i] = Layer(self._si("thickness"), self._si("density"), self._si("lwc"),
                           bool(self.crust.value))
-        snow = Snowpack(tuple(layers), temperature_c=self.temperature.value)
+        snow = Snowpack(tuple(layers), temperature_c=self._si("temperature"))
         self._staged = (layers, i)
         return {"snowpack": snow, "ground": ground}
+
+    def follow(self, scenario: Scenario) -> None:
+        i = int(self.layer_choice.value or 0)
+        if i < len(scenario.snowpack.layers):
+            self._follow("lwc", item=scenario.snowpack.layers[i])
 
     def commit(self) -> None:
         staged = getattr(self, "_staged", None)
@@ -230,9 +288,10 @@ class SnowpackEditor(Panel):
 
     def _show_layer(self, index: int) -> None:
         layer = self._layers[index]
-        self._set(self.thickness, float(layer.thickness_m))
-        self._set(self.density, float(layer.density_kg_m3))
-        self._set(self.lwc, float(layer.lwc_percent))
+        self._put("thickness", layer.thickness_m)
+        self._put("density", layer.density_kg_m3)
+        self._put("lwc", layer.lwc_percent,
+                  self._field("lwc").soft_bounds(item=layer))
         self._set(self.crust, bool(layer.ice_crust))
 
     def _on_pick(self, change: Any) -> None:
@@ -258,6 +317,11 @@ class SnowpackEditor(Panel):
         elif action == "crust":
             layers.insert(i + 1, Layer(0.02, 850.0, 0.0, ice_crust=True))
             i += 1
+        elif action == "all":
+            density, lwc = self._si("density"), self._si("lwc")
+            layers[:] = [la if la.ice_crust else
+                         dataclasses.replace(la, density_kg_m3=density, lwc_percent=lwc)
+                         for la in layers]
         self._refresh_choice(i)
         self._fire()
 
@@ -283,21 +347,36 @@ class _ListPanel(Panel):
     def _after_refresh(self, n: int) -> None:
         """Hook after the list was redrawn with ``n`` items."""
 
-    def _show_list(self, items: Any, survey: Any) -> None:
+    def _show_list(self, items: Any, scenario: Scenario) -> None:
         self._items = list(items)
-        self._quiet += 1
-        try:
-            self.position.min, self.position.max = -1e4, 1e4
-            self.position.min, self.position.max = survey.start_m - 5.0, survey.end_m + 5.0
-        finally:
-            self._quiet -= 1
+        self._scenario = scenario
 
     def _centre(self) -> float:
-        return 0.5 * (self.position.min + self.position.max)
+        s = self._scenario.survey
+        return 0.5 * (s.start_m + s.end_m)
+
+    def _put_geometry(self, item: Any) -> None:
+        """Position, depth and offset of ``item``, the sliders spanning the line and the
+        snowpack (the soft bounds of the item's declarations)."""
+        for attr, name in (("position", "position_m"), ("depth", "depth_m"),
+                           ("offset", "offset_m")):
+            f = declaration(item.kind, name)
+            self.declared[attr] = f
+            self._put(attr, getattr(item, name), f.soft_bounds(self._scenario, item))
 
     def commit(self) -> None:
         if getattr(self, "_staged", None) is not None:
             self._items, self._staged = self._staged, None
+
+    def follow(self, scenario: Scenario) -> None:
+        self._scenario = scenario
+        i = int(self.choice.value)
+        if 0 <= i < len(self._items):
+            for attr in ("position", "depth"):
+                self._follow(attr, scenario, self._items[i])
+
+    def _selected(self, keep_selection: bool) -> int:
+        return max(0, int(self.choice.value)) if keep_selection else 0
 
     def _refresh(self, index: int) -> None:
         n = len(self._items)
@@ -346,20 +425,18 @@ class PersonPanel(_ListPanel):
         self.choice = dropdown("person", [(self._EMPTY, -1)], -1)
         self.add = _button("add a person")
         self.remove = _button("remove this person")
-        self.depth = float_slider("depth to top (m)", 1.0, 0.0, 10.0, 0.05,
-                                  tooltip="snow surface to the top of the body")
+        self.depth = self._control("depth", "person", "depth_m", 1.0)
         self.depth.add_class(PERSON_DEPTH_CLASS)
-        self.position = float_slider("position along line (m)", 5.0, -5.0, 15.0, 0.05)
-        self.offset = float_slider("offset from line (m)", 0.0, -5.0, 5.0, 0.05)
-        self.heading = float_slider("heading to line (deg)", 0.0, -180.0, 180.0, 5.0,
-                                    readout_format=".0f")
-        self.posture = dropdown("posture", list(POSTURES), "lying_flat")
-        self.clothing = float_slider("clothing (cm)", 1.0, 0.0, 10.0, 0.1, readout_format=".1f")
-        self.height = float_slider("body height (m)", 1.75, 0.5, 2.3, 0.05)
+        self.position = self._control("position", "person", "position_m", 5.0)
+        self.offset = self._control("offset", "person", "offset_m", 0.0)
+        self.heading = self._control("heading", "person", "heading_deg", 0.0)
+        self.posture = self._control("posture", "person", "posture", "lying_flat")
+        self.clothing = self._control("clothing", "person", "clothing_m", 0.01)
+        self.height = self._control("height", "person", "height_m", 1.75)
         self.note = widgets.HTML()
         super().__init__([section_title("Buried people"), self.choice,
-                          widgets.HBox([self.add, self.remove]), self.note, self.depth,
-                          self.position, self.offset, self.heading, self.posture,
+                          widgets.HBox([self.add, self.remove], layout=_WRAP), self.note,
+                          self.depth, self.position, self.offset, self.heading, self.posture,
                           self.clothing, self.height])
         self._item_controls = (self.depth, self.position, self.offset, self.heading,
                                self.posture, self.clothing, self.height)
@@ -369,19 +446,20 @@ class PersonPanel(_ListPanel):
             Person(self._centre(), 0.5, label=f"person {len(self._items) + 1}")))
         self.remove.on_click(self._on_remove)
 
-    def show(self, scenario: Scenario) -> None:
-        self._show_list(scenario.persons, scenario.survey)
-        self._refresh(0)
+    def show(self, scenario: Scenario, keep_selection: bool = False) -> None:
+        index = self._selected(keep_selection)
+        self._show_list(scenario.persons, scenario)
+        self._refresh(index)
 
     def parts(self) -> dict[str, Any]:
         persons = list(self._items)
         i = int(self.choice.value)
         if i >= 0:
             persons[i] = dataclasses.replace(
-                persons[i], depth_m=self.depth.value, position_m=self.position.value,
-                offset_m=self.offset.value, heading_deg=self.heading.value,
-                posture=self.posture.value, clothing_m=self.clothing.value * _CM,
-                height_m=self.height.value)
+                persons[i], depth_m=self._si("depth"), position_m=self._si("position"),
+                offset_m=self._si("offset"), heading_deg=self._si("heading"),
+                posture=self.posture.value, clothing_m=self._si("clothing"),
+                height_m=self._si("height"))
         self._staged = persons
         return {"persons": tuple(persons)}
 
@@ -393,13 +471,11 @@ class PersonPanel(_ListPanel):
                            "<small>Nobody is buried in this scenario: add a person.</small>")
 
     def _show_item(self, p: Person) -> None:
-        self._set(self.depth, float(p.depth_m))
-        self._set(self.position, float(p.position_m))
-        self._set(self.offset, float(p.offset_m))
-        self._set(self.heading, float(np.clip(p.heading_deg, -180.0, 180.0)))
+        self._put_geometry(p)
+        self._put("heading", float(np.clip(p.heading_deg, -180.0, 180.0)))
         self._set(self.posture, p.posture)
-        self._set(self.clothing, float(p.clothing_m / _CM))
-        self._set(self.height, float(p.height_m))
+        self._put("clothing", p.clothing_m)
+        self._put("height", p.height_m)
 
 
 # --------------------------------------------------------------------------- debris
@@ -415,27 +491,22 @@ class DebrisPanel(_ListPanel):
         self.add_branch = _button("add branch")
         self.add_metal = _button("add metal object")
         self.remove = _button("remove object")
-        self.position = float_slider("position along line (m)", 5.0, -5.0, 15.0, 0.05)
-        self.depth = float_slider("depth to top (m)", 0.5, 0.0, 10.0, 0.05)
-        self.offset = float_slider("offset from line (m)", 0.0, -5.0, 5.0, 0.05)
-        self.size = float_slider("size (m)", 0.5, 0.01, 5.0, 0.01,
-                                 tooltip="diameter of a boulder or branch, length of metal")
-        self.heading = float_slider("heading to line (deg)", 0.0, -180.0, 180.0, 5.0,
-                                    readout_format=".0f")
-        self.density = float_slider("debris blocks (per m3)", 0.0, 0.0, 50.0, 0.5,
-                                    readout_format=".1f")
-        self.block_size = float_slider("block size (cm)", 10.0, 0.5, 100.0, 0.5,
-                                       readout_format=".1f")
-        self.thin_layers = int_slider("thin random layers", 0, 0, 50)
-        self.contrast = float_slider("thin layer contrast (-)", 0.05, 0.0, 0.5, 0.01)
-        self.seed = widgets.BoundedIntText(value=0, min=0, max=2**32 - 1,
-                                           description="random seed",
-                                           style={"description_width": "150px"})
+        self.position = self._control("position", "boulder", "position_m", 5.0)
+        self.depth = self._control("depth", "boulder", "depth_m", 0.5)
+        self.offset = self._control("offset", "boulder", "offset_m", 0.0)
+        self.size = self._control("size", "boulder", "diameter_m", 0.5)
+        self.heading = self._control("heading", "branch", "heading_deg", 0.0)
+        self.density = self._control("density", "clutter", "scatterer_density_per_m3", 0.0)
+        self.block_size = self._control("block_size", "clutter", "scatterer_size_m", 0.1)
+        self.thin_layers = self._control("thin_layers", "clutter", "thin_layer_count", 0)
+        self.contrast = self._control("contrast", "clutter", "thin_layer_contrast", 0.05)
+        self.seed = self._control("seed", "clutter", "seed", 0)
         self._item_controls = (self.position, self.depth, self.offset, self.size,
                                self.heading)
         super().__init__([
             section_title("Debris objects"), self.choice,
-            widgets.HBox([self.add_boulder, self.add_branch, self.add_metal, self.remove]),
+            widgets.HBox([self.add_boulder, self.add_branch, self.add_metal, self.remove],
+                         layout=_WRAP),
             *self._item_controls,
             section_title("Debris clutter (seeded)"), self.density, self.block_size,
             self.thin_layers, self.contrast, self.seed])
@@ -449,32 +520,34 @@ class DebrisPanel(_ListPanel):
             lambda _: self._append(MetalPlate(self._centre(), 0.3, 1.7, 0.09)))
         self.remove.on_click(self._on_remove)
 
-    def show(self, scenario: Scenario) -> None:
-        self._show_list(scenario.objects, scenario.survey)
+    def show(self, scenario: Scenario, keep_selection: bool = False) -> None:
+        index = self._selected(keep_selection)
+        self._show_list(scenario.objects, scenario)
         c = scenario.clutter
-        self._set(self.density, float(c.scatterer_density_per_m3))
-        self._set(self.block_size, float(c.scatterer_size_m / _CM))
-        self._set(self.thin_layers, int(c.thin_layer_count))
-        self._set(self.contrast, float(c.thin_layer_contrast))
-        self._set(self.seed, int(c.seed))
-        self._refresh(0)
+        self._put("density", c.scatterer_density_per_m3)
+        self._put("block_size", c.scatterer_size_m)
+        self._put("thin_layers", c.thin_layer_count)
+        self._put("contrast", c.thin_layer_contrast)
+        self._put("seed", c.seed)
+        self._refresh(index)
 
     def parts(self) -> dict[str, Any]:
         objects = list(self._items)
         i = int(self.choice.value)
         if i >= 0:
             o = objects[i]
-            changes: dict[str, Any] = dict(position_m=self.position.value,
-                                           depth_m=self.depth.value, offset_m=self.offset.value)
+            changes: dict[str, Any] = dict(position_m=self._si("position"),
+                                           depth_m=self._si("depth"),
+                                           offset_m=self._si("offset"))
             kind = kind_of(o)
-            changes[kind.size_field] = self.size.value
+            changes[kind.size_field] = self._si("size")
             if kind.has_heading:
-                changes["heading_deg"] = self.heading.value
+                changes["heading_deg"] = self._si("heading")
             objects[i] = dataclasses.replace(o, **changes)
-        clutter = Clutter(scatterer_density_per_m3=self.density.value,
-                          scatterer_size_m=self.block_size.value * _CM,
-                          thin_layer_count=self.thin_layers.value,
-                          thin_layer_contrast=self.contrast.value, seed=int(self.seed.value))
+        clutter = Clutter(scatterer_density_per_m3=self._si("density"),
+                          scatterer_size_m=self._si("block_size"),
+                          thin_layer_count=int(self._si("thin_layers")),
+                          thin_layer_contrast=self._si("contrast"), seed=int(self.seed.value))
         self._staged = objects
         return {"objects": tuple(objects), "clutter": clutter}
 
@@ -482,46 +555,38 @@ class DebrisPanel(_ListPanel):
         return f"{k + 1}: {kind_of(item).title}"
 
     def _show_item(self, o: Any) -> None:
-        self._set(self.position, float(o.position_m))
-        self._set(self.depth, float(o.depth_m))
-        self._set(self.offset, float(o.offset_m))
+        self._put_geometry(o)
         kind = kind_of(o)
-        self._set(self.size, float(getattr(o, kind.size_field)))
-        self._set(self.heading, float(np.clip(getattr(o, "heading_deg", 0.0), -180, 180)))
+        self.declared["size"] = declaration(o.kind, kind.size_field)
+        self._put("size", getattr(o, kind.size_field))
+        self._put("heading", float(np.clip(getattr(o, "heading_deg", 0.0), -180, 180)))
         self.heading.disabled = not kind.has_heading
 
 
 # --------------------------------------------------------------------------- radar
-_STACKING = tuple(2**k for k in range(17))
-#: Radar.polarization values with their plain names.
-_POLARIZATION_OPTIONS = [("across the line", "across_line"), ("along the line", "along_line")]
-
-
 class RadarPanel(Panel):
     """Pulse, power, noise, stacking, antenna, sampling and the survey line."""
 
     def __init__(self) -> None:
-        self.pulse = dropdown("pulse shape", list(pulses.pulse_names()), "ricker")
-        self.frequency = log_slider("centre frequency (MHz)", 800.0, 50.0, 6000.0,
-                                    readout_format=".0f")
+        self.pulse = self._control("pulse", "radar", "pulse", "ricker")
+        self.frequency = self._control("frequency", "radar", "center_frequency_hz", 800e6)
         self.own_bandwidth = widgets.Checkbox(value=True, indent=False,
                                               description="pulse's own bandwidth")
-        self.bandwidth = log_slider("bandwidth (MHz)", 800.0, 10.0, 6000.0, readout_format=".0f")
-        self.height = log_slider("antenna height (m)", 0.5, 0.05, 30.0, readout_format=".2f")
-        self.power = float_slider("transmit power (dBm)", 20.0, -30.0, 60.0, 1.0,
-                                  readout_format=".0f")
-        self.noise = float_slider("noise floor (dBm)", -80.0, -200.0, 0.0, 1.0,
-                                  readout_format=".0f")
-        self.stacking = dropdown("stacking (traces)", list(_STACKING), 16)
-        self.gain = float_slider("antenna gain (dBi)", 6.0, -10.0, 30.0, 0.5, readout_format=".1f")
-        self.beamwidth = float_slider("beamwidth (deg)", 60.0, 5.0, 180.0, 1.0,
-                                      readout_format=".0f")
-        self.polarization = dropdown("electric field", _POLARIZATION_OPTIONS, "across_line")
-        self.dt = log_slider("sample interval (ps)", 100.0, 1.0, 10000.0, readout_format=".0f")
-        self.window = log_slider("time window (ns)", 51.2, 1.0, 100000.0, readout_format=".1f")
-        self.spacing = log_slider("trace spacing (cm)", 5.0, 0.1, 10000.0, readout_format=".1f")
-        self.start = float_slider("line start (m)", 0.0, -100.0, 100.0, 0.5, readout_format=".1f")
-        self.end = float_slider("line end (m)", 10.0, -100.0, 200.0, 0.5, readout_format=".1f")
+        self.bandwidth = self._control("bandwidth", "radar", "bandwidth_hz", 800e6)
+        self.height = self._control("height", "radar", "antenna_height_m", 0.5)
+        self.power = self._control("power", "radar", "transmit_power_dbm", 20.0)
+        self.noise = self._control("noise", "radar", "noise_floor_dbm", -80.0)
+        self.declared["stacking"] = declaration("radar", "stacking")
+        self.stacking = powers_of_two_control(self.declared["stacking"], 16)
+        self.gain = self._control("gain", "radar", "antenna_gain_dbi", 6.0)
+        self.beamwidth = self._control("beamwidth", "radar", "beamwidth_deg", 60.0)
+        self.polarization = self._control("polarization", "radar", "polarization",
+                                          "across_line")
+        self.dt = self._control("dt", "radar", "dt_s", 1e-10)
+        self.window = self._control("window", "radar", "time_window_s", 51.2e-9)
+        self.spacing = self._control("spacing", "survey", "trace_spacing_m", 0.05)
+        self.start = self._control("start", "survey", "start_m", 0.0)
+        self.end = self._control("end", "survey", "end_m", 10.0)
         super().__init__([
             section_title("Pulse"), self.pulse, self.frequency, self.own_bandwidth,
             self.bandwidth, section_title("Power and noise"), self.power, self.noise,
@@ -536,44 +601,53 @@ class RadarPanel(Panel):
             lambda c: setattr(self.bandwidth, "disabled", bool(c["new"])), names="value")
         self.bandwidth.disabled = True
 
-    def show(self, scenario: Scenario) -> None:
+    def show(self, scenario: Scenario, keep_selection: bool = False) -> None:
         r, s = scenario.radar, scenario.survey
         self._set(self.pulse, r.pulse)
-        self._set(self.frequency, r.center_frequency_hz / _MHZ)
+        self._put("frequency", r.center_frequency_hz,
+                  self._field("frequency").soft_bounds(scenario))
         self._set(self.own_bandwidth, r.bandwidth_hz is None)
         self.bandwidth.disabled = r.bandwidth_hz is None
         if r.bandwidth_hz is not None:
-            self._set(self.bandwidth, r.bandwidth_hz / _MHZ)
-        self._set(self.height, float(r.antenna_height_m))
-        self._set(self.power, float(r.transmit_power_dbm))
-        self._set(self.noise, float(r.noise_floor_dbm))
-        self._set(self.stacking, int(r.stacking) if r.stacking in _STACKING else 16)
-        if r.stacking not in _STACKING:
+            self._put("bandwidth", r.bandwidth_hz)
+        self._put("height", r.antenna_height_m)
+        self._put("power", r.transmit_power_dbm)
+        self._put("noise", r.noise_floor_dbm, (self._field("noise").low,
+                                               min(0.0, r.transmit_power_dbm)))
+        if r.stacking not in self.stacking.options:
             self._quiet += 1
             try:
-                self.stacking.options = sorted(set(_STACKING) | {int(r.stacking)})
-                self.stacking.value = int(r.stacking)
+                self.stacking.options = sorted(set(self.stacking.options) | {int(r.stacking)})
             finally:
                 self._quiet -= 1
-        self._set(self.gain, float(r.antenna_gain_dbi))
-        self._set(self.beamwidth, float(r.beamwidth_deg))
+        self._set(self.stacking, int(r.stacking))
+        self._put("gain", r.antenna_gain_dbi)
+        self._put("beamwidth", r.beamwidth_deg)
         self._set(self.polarization, r.polarization)
-        self._set(self.dt, r.dt_s / _PS)
-        self._set(self.window, r.time_window_s / _NS)
-        self._set(self.spacing, s.trace_spacing_m / _CM)
-        self._set(self.start, float(s.start_m))
-        self._set(self.end, float(s.end_m))
+        self._radar = r
+        self._put("dt", r.dt_s, self._field("dt").soft_bounds(scenario))
+        self._put("window", r.time_window_s, self._field("window").soft_bounds(scenario))
+        self._put("spacing", s.trace_spacing_m)
+        self._put("start", s.start_m)
+        self._put("end", s.end_m)
+
+    def follow(self, scenario: Scenario) -> None:
+        for attr in ("frequency", "dt", "window"):
+            self._follow(attr, scenario)
+        tp = scenario.radar.transmit_power_dbm
+        self._put("noise", self._si("noise"), (self._field("noise").low, min(0.0, tp)))
 
     def parts(self) -> dict[str, Any]:
-        radar = Radar(
-            pulse=self.pulse.value, center_frequency_hz=self.frequency.value * _MHZ,
-            bandwidth_hz=None if self.own_bandwidth.value else self.bandwidth.value * _MHZ,
-            transmit_power_dbm=self.power.value, noise_floor_dbm=self.noise.value,
-            stacking=int(self.stacking.value), antenna_gain_dbi=self.gain.value,
-            dt_s=self.dt.value * _PS, time_window_s=self.window.value * _NS,
-            antenna_height_m=self.height.value, beamwidth_deg=self.beamwidth.value,
+        # fields this panel does not show (antenna band, dynamic range, ringing) are kept
+        radar = dataclasses.replace(
+            self._radar, pulse=self.pulse.value, center_frequency_hz=self._si("frequency"),
+            bandwidth_hz=None if self.own_bandwidth.value else self._si("bandwidth"),
+            transmit_power_dbm=self._si("power"), noise_floor_dbm=self._si("noise"),
+            stacking=int(self.stacking.value), antenna_gain_dbi=self._si("gain"),
+            dt_s=self._si("dt"), time_window_s=self._si("window"),
+            antenna_height_m=self._si("height"), beamwidth_deg=self._si("beamwidth"),
             polarization=self.polarization.value)
-        survey = Survey(self.start.value, self.end.value, self.spacing.value * _CM)
+        survey = Survey(self._si("start"), self._si("end"), self._si("spacing"))
         return {"radar": radar, "survey": survey}
 
 

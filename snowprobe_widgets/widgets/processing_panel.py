@@ -27,6 +27,8 @@ from snowprobe_widgets.widgets._common import (
 )
 
 _NS, _MHZ = 1e-9, 1e6
+#: CSS class of each step's on/off switch (layout tests find them).
+SWITCH_CLASS: str = "sp-step-switch"
 
 #: Steps in the order they run, with the plain words shown beside their switch.
 STEP_TITLES: dict[str, str] = {
@@ -54,8 +56,10 @@ class ProcessingPanel(widgets.VBox):
         self._callbacks: list[Callable[[], None]] = []
         self._quiet = 0
         self.switches = {name: widgets.Checkbox(value=False, indent=False, description=title,
-                                                layout=widgets.Layout(width="420px"))
+                                                layout=widgets.Layout(width="100%"))
                          for name, title in STEP_TITLES.items()}
+        for switch in self.switches.values():
+            switch.add_class(SWITCH_CLASS)
         self.tz_target = float_slider("target time (ns)", 0.0, 0.0, 50.0, 0.1)
         self.tz_threshold = float_slider("pick level (-)", 0.5, 0.05, 1.0, 0.05)
         self.dewow_window = float_slider("window (ns)", 5.0, 0.2, 50.0, 0.1)
@@ -89,7 +93,7 @@ class ProcessingPanel(widgets.VBox):
         rows: list[widgets.Widget] = [section_title("Processing, in the order it runs")]
         for name, switch in self.switches.items():
             box = widgets.VBox(list(self._params[name]),
-                               layout=widgets.Layout(margin="0 0 0 24px"))
+                               layout=widgets.Layout(margin="0 0 0 16px"))
             rows += [switch, box]
         super().__init__(children=rows, **kwargs)
         for control in [*self.switches.values(),
@@ -202,4 +206,4 @@ class ProcessingPanel(widgets.VBox):
             for name, switch in self.switches.items()))
 
 
-__all__ = ["STEP_TITLES", "ProcessingPanel"]
+__all__ = ["STEP_TITLES", "SWITCH_CLASS", "ProcessingPanel"]

@@ -47,7 +47,6 @@ TOUCH_PX = 48
 _MAX_ROUNDS = 30
 _MARK_COLOUR = "#00c853"
 _PICK_COLOUR = "#ffd400"
-_TRUTH_COLOUR = "#d9480f"
 #: A tap this close to a mark removes it, as a fraction of the line and of the window
 #: (about 22 px on a 900 x 440 px picture: half a touch target).
 _NEAR_FRACTION = (0.025, 0.05)
@@ -165,7 +164,7 @@ class TrainingSession(widgets.VBox):
         view.image_mark.on_element_click(self._on_picture_tap)
         self._mark_glyphs.on_element_click(self._on_mark_tap)
         self.nobody_button = widgets.ToggleButton(
-            value=False, description="nobody here",
+            value=False, description="nobody here", tooltip="nobody here",
             layout=widgets.Layout(height=f"{TOUCH_PX}px", width="auto", min_width="140px",
                                   margin="4px"))
         self.nobody_button.style.font_weight = "bold"
@@ -331,6 +330,7 @@ class TrainingSession(widgets.VBox):
         self._exercise = ex
         self._marks = []
         self._state = "marking"
+        self._set_round_controls()  # before any status update says "marking"
         self.debrief_box.children = []
         self.nobody_button.value = False
         rv = self.radargram_view
@@ -345,7 +345,6 @@ class TrainingSession(widgets.VBox):
                                     f"{html.escape(self._level_of_record().title)} · session "
                                     f"seed {self.record.session_seed}")
         show_message(self.message, "")
-        self._set_round_controls()
         self._shown_at = time.monotonic()
         self._touch_status()
 
@@ -552,12 +551,14 @@ class TrainingSession(widgets.VBox):
         self.key_rounds = _big(widgets.BoundedIntText(value=5, min=1, max=_MAX_ROUNDS,
                                                       description="rounds"), "180px")
         self.key_button = _button("make the answer key", "warning")
+        self.key_use_button = _button("use these settings in the Train tab")
         self.key_output = widgets.HTML()
         self.records_upload = widgets.FileUpload(
             accept=".json,.csv", multiple=True, description="load trainees' records",
             layout=widgets.Layout(height=f"{TOUCH_PX}px", width="auto"))
         self.class_output = widgets.HTML()
         self.key_button.on_click(lambda _: self.make_answer_key())
+        self.key_use_button.on_click(lambda _: self.use_class_settings())
         self.records_upload.observe(self._on_records, names="value")
         intro = widgets.HTML(
             "<div style='color:#111;font-size:105%'>For the instructor. Give the class one "
@@ -568,8 +569,17 @@ class TrainingSession(widgets.VBox):
         return widgets.VBox([
             intro, widgets.HBox([self.key_level, self.key_seed, self.key_rounds],
                                 layout=_wrap()),
-            widgets.HBox([self.key_button]), self.key_output,
+            widgets.HBox([self.key_button, self.key_use_button], layout=_wrap()),
+            self.key_output,
             widgets.HTML("<h4>Class summary</h4>"), self.records_upload, self.class_output])
+
+    def use_class_settings(self) -> bool:
+        """Start a session here with the instructor's level, seed and rounds."""
+        self.level.value = self.key_level.value
+        self.seed.value = int(self.key_seed.value)
+        self.rounds.value = int(self.key_rounds.value)
+        self.tabs.selected_index = 0
+        return self.start()
 
     def make_answer_key(self) -> str:
         """Build the printable answer key of the instructor's settings (and a download)."""

@@ -18,9 +18,11 @@ import ipywidgets as widgets
 import numpy as np
 
 from snowprobe_widgets import raypaths
+from snowprobe_widgets.budget import link_budget
 from snowprobe_widgets.synthesis import column_optics
 from snowprobe_widgets.targets import kind_of
 from snowprobe_widgets.widgets._common import as_f32, message_line, show_message
+from snowprobe_widgets.widgets.verdict import budget_table_html, card_sentence, person_name
 
 _NS, _MHZ = 1e-9, 1e6
 _DRY_RGB = np.array([236, 243, 250])
@@ -393,11 +395,12 @@ class SpectrumView(widgets.VBox):
 
 # --------------------------------------------------------------------------- budget
 class BudgetView(widgets.VBox):
-    """The link budget as a table, with its plain-language verdict."""
+    """The link budget of each buried person as a table, below its verdict sentence."""
 
     def __init__(self, **kwargs: Any) -> None:
         self._draws = 0
         self.budget = None
+        self.budgets: tuple[Any, ...] = ()
         self.verdict = widgets.HTML()
         self.table = widgets.HTML()
         self.message = message_line()
@@ -408,44 +411,36 @@ class BudgetView(widgets.VBox):
         """Number of redraws."""
         return self._draws
 
-    def update(self, scenario: Any) -> None:
-        """Compute and show the budget of the scenario's first person (or its message)."""
-        try:
-            from snowprobe_widgets.budget import link_budget
-        except ImportError:  # pragma: no cover - the budget module ships with the package
-            show_message(self.message, "The link budget is not available in this version.")
-            return
-        try:
-            budget = link_budget(scenario)
-        except ValueError as exc:
+    def update(self, scenario: Any, budgets: Any = None) -> None:
+        """Show the budgets of the scenario's persons (computed here when not given;
+        ``budgets[i]`` may be None when refused) or why there is none."""
+        if budgets is None:
+            budgets = []
+            for p in scenario.persons:
+                try:
+                    budgets.append(link_budget(scenario, p))
+                except ValueError:
+                    budgets.append(None)
+        self.budgets = tuple(budgets)
+        shown = [(i, b) for i, b in enumerate(budgets) if b is not None]
+        self._draws += 1
+        if not shown:
             self.budget = None
             self.verdict.value = ""
             self.table.value = ""
-            show_message(self.message, str(exc))
-            self._draws += 1
+            show_message(self.message, "Nobody is buried in this scenario: a link budget "
+                         "needs a person (add one in the Person tab)."
+                         if not scenario.persons else "No link budget for this scenario.")
             return
         show_message(self.message, "")
-        self.budget = budget
-        self.verdict.value = (f"<div style='font-size:110%;padding:4px 0'><b>"
-                              f"{html.escape(budget.verdict)}</b></div>")
-        self.table.value = budget_table_html(budget)
-        self._draws += 1
-
-
-def budget_table_html(budget: Any) -> str:
-    """The budget rows as an HTML table (term, value with unit, explanation)."""
-    rows = []
-    for r in budget.rows:
-        unit = getattr(r, "unit", "dB")
-        value = getattr(r, "value", None)
-        if value is None:
-            value = r.value_db
-        rows.append(f"<tr><td>{html.escape(r.term)}</td>"
-                    f"<td style='text-align:right'>{value:.4g} {html.escape(unit)}</td>"
-                    f"<td>{html.escape(r.explanation)}</td></tr>")
-    return ("<table style='border-collapse:collapse' cellpadding='3' border='1'>"
-            "<tr><th>term</th><th>value</th><th>what it means</th></tr>"
-            + "".join(rows) + "</table>")
+        self.budget = shown[0][1]
+        self.verdict.value = "".join(
+            f"<div style='font-size:110%;padding:4px 0'><b>"
+            f"{html.escape(card_sentence(b, person_name(scenario, i)))}</b></div>"
+            for i, b in shown[:1])
+        self.table.value = "".join(
+            (f"<h4 style='margin:8px 0 2px'>{html.escape(person_name(scenario, i))}</h4>"
+             if len(shown) > 1 else "") + budget_table_html(b, scenario) for i, b in shown)
 
 
 __all__ = ["BudgetView", "CrossSectionView", "SpectrumView", "TraceView", "budget_table_html",

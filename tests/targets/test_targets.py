@@ -190,3 +190,25 @@ def test_a_boulder_keeps_its_conductivity() -> None:
 def test_validity_warnings_are_empty_inside_every_domain() -> None:
     sc = _scene((Boulder(3.0, 0.8, 0.5), Branch(3.0, 0.5, 0.1, 2.0)), (Person(3.0, 1.2),))
     assert validity_warnings(sc) == ()
+
+
+@pytest.mark.parametrize("obj", [
+    Branch(3.0, 1.0, 0.02, 3.0, heading_deg=90.0, water_fraction=0.4),
+    Branch(3.0, 1.0, 0.02, 3.0, heading_deg=0.0, water_fraction=0.4),
+    Boulder(3.0, 1.0, 0.6, conductivity_s_m=0.0),
+], ids=["thin branch along the field", "thin branch across the field", "lossless boulder"])
+def test_link_budget_and_radargram_agree_on_series_echoes(obj) -> None:
+    # two routes through the same kind: the budget's closed-form range equation with the
+    # kind's curvature and spectrum, and the facet sum along refracted rays (as
+    # tests/test_budget.py does for the person; 2 dB as there)
+    from snowprobe_widgets.radar_equation import noise_rms
+
+    sc = Scenario(Snowpack((Layer(3.0, 300.0),)), Ground("soil", 0.2), (), (obj,),
+                  Radar("ricker", 800e6, dt_s=5e-11, time_window_s=50e-9),
+                  Survey(0.0, 6.0, 0.05), Clutter())
+    rg = simulate(sc, components=("objects",))
+    trace = rg.data[:, int(np.argmin(np.abs(rg.position_m - 3.0)))]
+    r = sc.radar
+    measured = 20 * math.log10(np.max(np.abs(trace))
+                               / noise_rms(r.transmit_power_dbm, r.noise_floor_dbm, r.stacking))
+    assert abs(link_budget(sc, obj).echo_to_noise_db - measured) < 2.0

@@ -8,7 +8,7 @@ import io
 import numpy as np
 import pytest
 
-from snowprobe_widgets.cautions import CAUTION_SHORT, CAUTION_TEXT
+from snowprobe_widgets.cautions import CAUTION_TEXT
 from snowprobe_widgets.scene import Layer, Person, Scenario
 from snowprobe_widgets.synthesis import simulate
 from snowprobe_widgets.widgets import ScenarioExplorer
@@ -260,32 +260,45 @@ def test_cached_parts_add_up_to_the_full_simulation(name: str) -> None:
 
 
 # --------------------------------------------------------------------------- refusals
-def test_person_below_the_snow_is_refused_with_message_and_last_picture(
+def test_depth_slider_spans_the_snowpack_and_refusal_restores_the_controls(
         app: ScenarioExplorer) -> None:
+    assert app.person.depth.max == pytest.approx(1.75)  # 2 m of snow, a 0.25 m thick body
+    app.person.depth.value = 1.75
     good = app.scenario
     picture = app.radargram_view.image_mark.image.value
     draws = _draws(app)
-    app.person.depth.value = 1.9  # 2 m of snow, a 0.25 m thick body
-    assert "deeper than the 2 m snowpack" in app.message_text
+    thickness = app.snowpack.thickness.value
+    app.snowpack.layer_choice.value = len(good.snowpack.layers) - 1
+    bottom = app.snowpack.thickness.value
+    app.snowpack.thickness.value = 0.1  # the person (1 m down) no longer fits
+    assert app.message_text == ("ski tourer: depth to top 1.75 m puts the bottom at 2 m, below "
+                                "the 1.6 m of snow: use at most 1.35 m, or add snow.")
+    assert "depth_m" not in app.message_text
     assert app.scenario is good
+    assert app.snowpack.thickness.value == bottom  # the control shows the accepted value
     assert app.radargram_view.image_mark.image.value == picture
     assert _draws(app) == draws
-    app.person.depth.value = 1.0
+    app.snowpack.layer_choice.value = 0
+    assert app.snowpack.thickness.value == thickness
+    app.person.depth.value = 1.2
     assert app.message_text == ""
-    assert app.scenario.persons[0].depth_m == 1.0
+    assert app.scenario.persons[0].depth_m == 1.2
 
 
-def test_refused_layer_and_radar_values_show_the_models_message(app: ScenarioExplorer) -> None:
+def test_refused_layer_and_radar_values_show_plain_messages(app: ScenarioExplorer) -> None:
     good = app.scenario
     app.snowpack.crust.value = True  # layer 1 is 120 kg/m3: too light for a crust
     assert "too light for an ice crust" in app.message_text
+    assert "kg/m³" in app.message_text and "untick Ice crust" in app.message_text
     assert app.scenario is good
-    app.snowpack.crust.value = False
+    assert app.snowpack.crust.value is False
+    app.radar.dt.value = 10 ** app.radar.dt.max  # the coarsest interval a Ricker allows
     assert app.message_text == ""
-    app.radar.dt.value = 300.0  # 0.3 ns cannot sample an 800 MHz Ricker pulse
-    assert "dt_s" in app.message_text and "Nyquist" in app.message_text
-    app.radar.dt.value = 100.0
-    assert app.message_text == ""
+    app.radar.pulse.value = "gaussian1"  # a wider band: the interval is too coarse
+    text = app.message_text
+    assert text.startswith("Sample interval") and "is too coarse for a 800 MHz pulse: use" in text
+    assert "or a lower centre frequency" in text and "e-" not in text and "dt_s" not in text
+    assert app.radar.pulse.value == "ricker"
 
 
 def test_no_person_budget_shows_message(app: ScenarioExplorer) -> None:
@@ -427,31 +440,42 @@ def test_opening_a_bad_file_shows_a_message(app: ScenarioExplorer, tmp_path) -> 
 
 
 def test_exports_parse_back(app: ScenarioExplorer, tmp_path) -> None:
+    import pandas as pd
+    from PIL import Image
+
     app.files.path.value = str(tmp_path / "plan.json")
-    paths = {k: app.export(k) for k in ("csv", "npz", "png", "report")}
+    kinds = ("csv", "budget_csv", "netcdf", "npz", "png", "report")
+    paths = {k: app.export(k) for k in kinds}
     rg = app.radargram
-    table = np.loadtxt(paths["csv"], delimiter=",")
-    np.testing.assert_allclose(table[:, 0], rg.time_s * 1e9, rtol=1e-8)
-    np.testing.assert_allclose(table[:, 1:], rg.data, rtol=1e-8, atol=1e-12)
-    header = paths["csv"].read_text().splitlines()[:4]
-    assert header[0] == f"# {CAUTION_SHORT}"
+    table = pd.read_csv(paths["csv"])  # header row: time_ns, then each trace position
+    assert table.columns[0] == "time_ns"
+    np.testing.assert_allclose(table.columns[1:].astype(float), rg.position_m, atol=1e-9)
+    np.testing.assert_allclose(table["time_ns"], rg.time_s * 1e9, rtol=1e-8)
+    np.testing.assert_allclose(table.to_numpy()[:, 1:], rg.data, rtol=1e-8, atol=1e-12)
+    budget = pd.read_csv(paths["budget_csv"])
+    assert set(budget["person"]) == {"ski tourer"}
+    assert budget.loc[budget["term"] == "likely visible", "value"].item() == "yes"
+    import xarray as xr
+
+    with xr.open_dataset(paths["netcdf"], engine="scipy") as ds:
+        np.testing.assert_array_equal(ds["amplitude"].to_numpy(), rg.data)
+        np.testing.assert_array_equal(ds["raw_amplitude"].to_numpy(), app.raw_radargram.data)
+        assert Scenario.from_json(ds.attrs["scenario_json"]) == app.scenario
     with np.load(paths["npz"]) as z:
         np.testing.assert_array_equal(z["data"], rg.data)
         np.testing.assert_array_equal(z["raw_data"], app.raw_radargram.data)
         np.testing.assert_array_equal(z["position_m"], rg.position_m)
         assert Scenario.from_json(str(z["scenario_json"])) == app.scenario
         assert float(z["truth_depth_m"][0]) == app.scenario.persons[0].depth_m
-    png = paths["png"].read_bytes()
-    assert png[:8] == b"\x89PNG\r\n\x1a\n"
-    from test_palette_png import decode_palette_png
-
-    pixels, _ = decode_palette_png(png)
-    assert pixels.shape == rg.data.shape
+    with Image.open(paths["png"]) as picture:  # the radargram framed by axes and a bar
+        assert picture.format == "PNG"
+        assert picture.width > 800 and picture.height > 400
     report = paths["report"].read_text()
     assert CAUTION_TEXT in report
-    assert "data:image/png;base64," in report
+    assert report.count("data:image/png;base64,") == 1 and "<svg" in report
     assert "echo-to-noise ratio" in report and "likely visible" in report
-    assert "&quot;format&quot;" in report or "format" in report  # the scenario JSON
+    assert "sp-verdict-card" in report and "break-before: page" in report
+    assert "&#34;format&#34;" in report or "&quot;format&quot;" in report  # scenario JSON
     assert io.StringIO(report).readline().startswith("<!DOCTYPE html>")
 
 

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import base64
 import datetime
+import io
 import json
 import os
 import re
@@ -18,6 +19,7 @@ import sys
 
 import ipywidgets as widgets
 import numpy as np
+import pandas as pd
 import pytest
 
 from snowprobe_widgets import launcher, scenario_files
@@ -178,7 +180,8 @@ def test_upload_goes_through_the_validating_loader(served_app):
     assert "opened spring.json" in files.status.value
 
 
-@pytest.mark.parametrize("kind", ["scenario", "csv", "npz", "png", "report"])
+@pytest.mark.parametrize("kind", ["scenario", "csv", "budget_csv", "netcdf", "npz", "png",
+                                  "report"])
 def test_downloads_carry_the_bytes_in_the_page(served_app, kind):
     files = served_app.files
     name = files.download(kind)
@@ -190,9 +193,20 @@ def test_downloads_carry_the_bytes_in_the_page(served_app, kind):
     if kind == "scenario":
         assert scenario_files.loads(payload) == served_app.scenario
     elif kind == "csv":
-        table = np.loadtxt(payload.decode().splitlines(), delimiter=",")
-        np.testing.assert_allclose(table[:, 1:], served_app.radargram.data, rtol=1e-8,
-                                   atol=1e-12)
+        table = pd.read_csv(io.BytesIO(payload))  # a header row: no options needed
+        assert table.columns[0] == "time_ns"
+        np.testing.assert_allclose(table.to_numpy()[:, 1:], served_app.radargram.data,
+                                   rtol=1e-8, atol=1e-12)
+    elif kind == "budget_csv":
+        rows = pd.read_csv(io.BytesIO(payload))
+        assert list(rows.columns) == ["person", "term", "value", "unit", "explanation"]
+        assert "echo-to-noise ratio" in set(rows["term"])
+    elif kind == "netcdf":
+        import xarray as xr
+
+        ds = xr.open_dataset(io.BytesIO(payload), engine="scipy")
+        np.testing.assert_array_equal(ds["amplitude"].to_numpy(), served_app.radargram.data)
+        assert ds["time_s"].attrs["units"] == "s"
     elif kind == "png":
         assert payload[:8] == b"\x89PNG\r\n\x1a\n"
     elif kind == "report":

@@ -224,6 +224,10 @@ def test_instructor_answer_key_and_class_summary(app):
     assert summary is not None and summary.fooled_by == (("boulder", 2),)
     assert "junk.json" in app.class_output.value and "format" in app.class_output.value
     assert "download the class summary" in app.class_output.value
+    # the instructor's settings start the same session in the Train tab
+    assert app.use_class_settings()
+    assert app.record.session_seed == 4 and app.progress.max == 3
+    assert app._exercise.scenario == first.scenario and app.tabs.selected_index == 0
 
 
 def test_guide_is_built_when_opened_with_model_pictures(app):
