@@ -25,6 +25,7 @@ from snowprobe_widgets.burial_statistics import (
     SURVIVAL_TABLES,
 )
 from snowprobe_widgets.coverage import ICAR_RATE_M2_MIN, MAX_LANES
+from snowprobe_widgets.detection import DEFAULT_THRESHOLD_DB
 from snowprobe_widgets.plan import (
     PLAN_CAUTIONS,
     PLATFORMS,
@@ -156,7 +157,7 @@ class SearchPlanBoard(widgets.VBox):
         self.lateral_source = dropdown("lateral range", [_ESTIMATE], _ESTIMATE)
         self.sweep_upload = widgets.FileUpload(accept=".nc", multiple=False,
                                                description="open saved sweep")
-        self.threshold = float_slider("call level (dB)", 10.0, 0.0, 40.0, 1.0,
+        self.threshold = float_slider("call level (dB)", DEFAULT_THRESHOLD_DB, 0.0, 40.0, 1.0,
                                       readout_format=".0f",
                                       tooltip="echo over noise and clutter that an operator "
                                               "calls a find")
