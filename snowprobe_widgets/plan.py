@@ -48,6 +48,7 @@ from .cautions import CAUTION_SHORT
 from .constants import C0_M_S
 from .coverage import (
     ICAR_RATE_M2_MIN,
+    MAX_LANES,
     PLATFORMS,
     Coverage,
     DebrisArea,
@@ -776,7 +777,8 @@ def _summary(plan: SearchPlan) -> tuple[str, ...]:
                f"{minutes:.0f} min it would find the person with {_pct(p_probe)} "
                f"probability{alive}.")
     w_lane = float(np.clip(plan.sweep_width_median_m, 0.1, 100.0))
-    if abs(w_lane - plan.spacing_m) > 0.05 * plan.spacing_m:
+    fits = plan.area.width_across_m(cov.heading_deg) / w_lane <= MAX_LANES
+    if abs(w_lane - plan.spacing_m) > 0.05 * plan.spacing_m and fits:
         wide = coverage(plan.area, plan.platform, w_lane, cov.heading_deg)
         found = float(_lane_progress(plan.lateral, plan.area, wide)[1][:, -1]
                       @ plan.depth_weights)
