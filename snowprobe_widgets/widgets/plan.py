@@ -175,6 +175,8 @@ class SearchPlanBoard(widgets.VBox):
                                         readout_format=".0f")
         self.probe_full = float_slider("s per probe, full depth", 20.0, 2.0, 120.0, 1.0,
                                        readout_format=".0f")
+        self.compare_platforms = widgets.Checkbox(
+            value=False, indent=False, description="compare the other platforms too")
         self.report_button = widgets.Button(description="printable plan (HTML)",
                                             layout=widgets.Layout(width="220px"))
         self.report_button.add_class(REPORT_BUTTON_CLASS)
@@ -256,7 +258,7 @@ class SearchPlanBoard(widgets.VBox):
                             layout=widgets.Layout(width="440px"))
         right = widgets.VBox([self.time_figure, self.time_key, self.summary,
                               self.spacing_figure, self.spacing_key, self.lateral_figure,
-                              self.lateral_key, self.table],
+                              self.lateral_key, self.table, self.compare_platforms],
                              layout=widgets.Layout(width="530px"))
         header = widgets.HTML(
             "<h3 style='margin:4px 0'>Search plan: lanes, time and the survival window</h3>"
@@ -271,7 +273,7 @@ class SearchPlanBoard(widgets.VBox):
                   self.speed, self.height, self.trace_rate, self.turn, self.design,
                   self.lateral_source,
                   self.threshold, self.arrival, self.dig, self.survival, self.depths,
-                  self.team, self.probe_first, self.probe_full):
+                  self.team, self.probe_first, self.probe_full, self.compare_platforms):
             w.observe(self._on_control, names="value")
         self.platform.observe(self._on_platform, names="value")
         self.upload.observe(self._on_upload, names="value")
@@ -399,7 +401,7 @@ class SearchPlanBoard(widgets.VBox):
         trade = self._tradeoff(lateral, area, platform)
         others = [(f"this radar, {platform.name}", plan)]
         for name, preset in PLATFORMS.items():
-            if name == self.platform.value:
+            if name == self.platform.value or not self.compare_platforms.value:
                 continue
             lr = self._lateral_for(scenario, preset.antenna_height_m)
             others.append((f"this radar, {name} (link-budget estimate)",

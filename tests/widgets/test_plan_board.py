@@ -118,6 +118,11 @@ def test_printable_plan_carries_the_cautions_and_the_plan(app):
     assert "probe and shovel" in text
     assert app.plan.summary[0].split(":")[0] in text
     assert "<svg" in text and "probe line" in text
+    assert "this radar, drone" not in text
+    app.compare_platforms.value = True
+    assert "this radar, drone (link-budget estimate)" in app.table.value
+    text = app.report()
+    assert "this radar, drone (link-budget estimate)" in text
     # a new plan withdraws the old download
     app.dig.value = 15.0
     assert app.download.value == ""
