@@ -32,6 +32,7 @@ from ._validate import check_range
 __all__ = [
     "ICAR_RATE_M2_MIN",
     "ICAR_MEASUREMENTS_PER_S",
+    "MAX_LANES",
     "Platform",
     "PLATFORMS",
     "DebrisArea",
@@ -45,6 +46,8 @@ ICAR_RATE_M2_MIN = 100.0
 #: ICAR 2006 guideline: measurements (and results) per second.
 ICAR_MEASUREMENTS_PER_S = 1.0
 _MAX_VERTICES = 200
+#: Most lanes in one plan (a 10 km wide area at 2 m).
+MAX_LANES = 5000
 
 
 @dataclass(frozen=True)
@@ -205,6 +208,11 @@ class DebrisArea:
             out.append(xs.reshape(-1, 2))
         return out
 
+    def width_across_m(self, heading_deg: float = 0.0) -> float:
+        """Extent of the area across the lanes, m."""
+        y = self._turned(heading_deg)[:, 1]
+        return float(y.max() - y.min())
+
     def lane_centres_m(self, spacing_m: float, heading_deg: float = 0.0) -> np.ndarray:
         """Across-lane coordinate of each lane's centre line (turned frame), m: as many
         strips ``spacing_m`` wide as the width needs, centred across it."""
@@ -212,6 +220,9 @@ class DebrisArea:
         y = self._turned(heading_deg)[:, 1]
         y0, y1 = float(y.min()), float(y.max())
         n = max(1, math.ceil((y1 - y0) / s - 1e-9))
+        if n > MAX_LANES:
+            raise ValueError(f"spacing_m = {s:g} m across {y1 - y0:g} m needs {n} lanes; at "
+                             f"most {MAX_LANES} allowed (widen the spacing)")
         start = y0 - 0.5 * (n * s - (y1 - y0))
         return start + (np.arange(n) + 0.5) * s
 
@@ -224,11 +235,20 @@ class DebrisArea:
                       ) -> tuple[np.ndarray, np.ndarray]:
         """Across-lane positions and the area's length along the lanes at each: a target
         placed uniformly over the area lies at y with probability proportional to it."""
-        y = self._turned(heading_deg)[:, 1]
-        y0, y1 = float(y.min()), float(y.max())
+        xy = self._turned(heading_deg)
+        y0, y1 = float(xy[:, 1].min()), float(xy[:, 1].max())
         ys = y0 + (np.arange(samples) + 0.5) / samples * (y1 - y0)
-        return ys, np.array([float(np.sum(p[:, 1] - p[:, 0])) for p in self.chords(
-            ys, heading_deg)])
+        a, b = xy, np.roll(xy, -1, axis=0)
+        lo = np.minimum(a[:, 1], b[:, 1])
+        hi = np.maximum(a[:, 1], b[:, 1])
+        crosses = (lo[None, :] <= ys[:, None]) & (ys[:, None] < hi[None, :])
+        with np.errstate(divide="ignore", invalid="ignore"):
+            t = (ys[:, None] - a[None, :, 1]) / (b[None, :, 1] - a[None, :, 1])
+        xs = np.sort(np.where(crosses, a[None, :, 0] + t * (b[None, :, 0] - a[None, :, 0]),
+                              np.inf), axis=1)
+        # crossings alternate in, out, in, out along a line: add the outs, take the ins
+        sign = np.where(np.arange(xs.shape[1]) % 2 == 1, 1.0, -1.0)
+        return ys, np.where(np.isfinite(xs), xs * sign, 0.0).sum(axis=1)
 
 
 def _shoelace(xy: np.ndarray) -> float:

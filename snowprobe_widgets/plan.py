@@ -48,6 +48,7 @@ from .cautions import CAUTION_SHORT
 from .constants import C0_M_S
 from .coverage import (
     ICAR_RATE_M2_MIN,
+    MAX_LANES,
     PLATFORMS,
     Coverage,
     DebrisArea,
@@ -55,6 +56,7 @@ from .coverage import (
     ProbeLine,
     coverage,
 )
+from .detection import DEFAULT_THRESHOLD_DB
 from .search_theory import (
     lane_by_lane_pod,
     lateral_curve_arrays,
@@ -354,7 +356,8 @@ def _check_depths(depths_m: object) -> np.ndarray:
 
 
 def lateral_range_from_budget(scenario: Any, *, antenna_height_m: float | None = None,
-                              depths_m: object = DEFAULT_DEPTHS_M, threshold_db: float = 10.0,
+                              depths_m: object = DEFAULT_DEPTHS_M,
+                              threshold_db: float = DEFAULT_THRESHOLD_DB,
                               n_offsets: int = 81) -> LateralRange:
     """A fast estimate of the lateral range curves from the link budget.
 
@@ -385,8 +388,9 @@ def lateral_range_from_budget(scenario: Any, *, antenna_height_m: float | None =
     depths_m : sequence of float
         Burial depths, m, increasing, each in [0.05, 10].
     threshold_db : float
-        Echo over noise-and-clutter rms that an operator calls a detection, dB, in [0, 60]
-        (10 dB: the link budget's default, common practice).
+        Echo over noise-and-clutter rms that is called a detection, dB, in [0, 60]
+        (default: the link budget's and the automatic detector's level,
+        :data:`snowprobe_widgets.detection.DEFAULT_THRESHOLD_DB`).
     n_offsets : int
         Offsets from 0 out to where every curve has fallen below 2 % (the beam's footprint
         at the deepest depth plus 2 m, doubled as needed up to 1 km), in [11, 1001].
@@ -773,7 +777,8 @@ def _summary(plan: SearchPlan) -> tuple[str, ...]:
                f"{minutes:.0f} min it would find the person with {_pct(p_probe)} "
                f"probability{alive}.")
     w_lane = float(np.clip(plan.sweep_width_median_m, 0.1, 100.0))
-    if abs(w_lane - plan.spacing_m) > 0.05 * plan.spacing_m:
+    fits = plan.area.width_across_m(cov.heading_deg) / w_lane <= MAX_LANES
+    if abs(w_lane - plan.spacing_m) > 0.05 * plan.spacing_m and fits:
         wide = coverage(plan.area, plan.platform, w_lane, cov.heading_deg)
         found = float(_lane_progress(plan.lateral, plan.area, wide)[1][:, -1]
                       @ plan.depth_weights)

@@ -29,6 +29,9 @@ from scipy.integrate import trapezoid
 
 from ._validate import check_range
 
+#: Target x lane cells handled at once by :func:`lane_by_lane_pod` (bounds its memory).
+_CELLS = 2_000_000
+
 __all__ = [
     "lateral_curve_arrays",
     "sweep_width_m",
@@ -119,7 +122,8 @@ def lane_by_lane_pod(offset_m: object, probability: object, lane_y_m: object,
         The lateral range curve; one-sided samples (offsets >= 0) are mirrored. Zero
         beyond the outermost samples.
     lane_y_m : array_like, shape (n_lanes,)
-        Across-lane position of each lane, in the order flown, m.
+        Across-lane position of each lane, in the order flown (across the area:
+        increasing or decreasing), m.
     target_y_m, target_weight : array_like, shape (n_targets,)
         Possible target positions across the lanes and their weights (>= 0, not all 0).
 
@@ -134,9 +138,37 @@ def lane_by_lane_pod(offset_m: object, probability: object, lane_y_m: object,
     w = np.asarray(target_weight, float).ravel()
     if w.size != y.size or np.any(w < 0) or not w.sum() > 0:
         raise ValueError("target_weight must be >= 0, not all zero, one per target_y_m")
-    look = np.interp(y[None, :] - lanes[:, None], x, p, left=0.0, right=0.0)
-    miss = np.cumprod(1.0 - look, axis=0) @ (w / w.sum())
-    return np.concatenate([[0.0], 1.0 - miss])
+    step = np.diff(lanes)
+    if lanes.size > 1 and not (np.all(step > 0) or np.all(step < 0)):
+        raise ValueError("lane_y_m must be flown in order across the area (increasing or "
+                         "decreasing)")
+    flip = lanes.size > 1 and step[0] < 0
+    ordered = lanes[::-1] if flip else lanes
+    weight = w / w.sum()
+    reach = float(np.max(np.abs(x)))  # the curve is zero beyond its outermost sample
+    # each target is seen by a block of neighbouring lanes: [first, last) in lane order
+    first = np.searchsorted(ordered, y - reach, side="left")
+    last = np.searchsorted(ordered, y + reach, side="right")
+    width = int(max(np.max(last - first), 1))
+    gain = np.zeros(lanes.size)  # probability found on each lane (lane order)
+    rows = max(1, _CELLS // width)
+    for i0 in range(0, y.size, rows):  # blocks of targets: bounded memory
+        sl = slice(i0, i0 + rows)
+        k = first[sl, None] + np.arange(width)[None, :]
+        valid = k < last[sl, None]
+        kk = np.minimum(k, lanes.size - 1)
+        if flip:  # flown from the far side: the targets' lanes come in reverse
+            kk = kk[:, ::-1]
+            valid = valid[:, ::-1]
+        look = np.where(valid, np.interp(y[sl, None] - ordered[kk], x, p, left=0.0,
+                                         right=0.0), 0.0)
+        miss = np.cumprod(1.0 - look, axis=1)
+        before = np.concatenate([np.ones((miss.shape[0], 1)), miss[:, :-1]], axis=1)
+        found = (before - miss) * weight[sl, None]
+        np.add.at(gain, kk[valid], found[valid])
+    if flip:
+        gain = gain[::-1]
+    return np.concatenate([[0.0], np.cumsum(gain)])
 
 
 def random_search_pod(sweep_width_m: object, track_m: object, area_m2: float) -> np.ndarray:

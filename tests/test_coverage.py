@@ -127,3 +127,26 @@ def test_probe_line_refuses_bad_settings():
         ProbeLine(team_size=0)
     with pytest.raises(ValueError, match="full_depth_m"):
         ProbeLine(first_depth_m=2.0, full_depth_m=1.0)
+
+
+def test_too_many_lanes_are_refused_by_name():
+    wide = DebrisArea.rectangle(100.0, 10000.0)
+    with pytest.raises(ValueError, match=r"spacing_m = 1 m across 10000 m needs 10000 lanes"):
+        coverage(wide, PLATFORMS["drone"], 1.0)
+    assert coverage(wide, PLATFORMS["drone"], 2.0).lanes == 5000
+
+
+def test_width_profile_is_the_length_across_the_area():
+    # an L-shaped area: 40 m long for y in [0, 10), 10 m long for y in [10, 30)
+    ell = DebrisArea.polygon([(0, 0), (40, 0), (40, 10), (10, 10), (10, 30), (0, 30)])
+    ys, length = ell.width_profile(samples=6)
+    assert list(ys) == pytest.approx([2.5, 7.5, 12.5, 17.5, 22.5, 27.5])
+    assert list(length) == pytest.approx([40, 40, 10, 10, 10, 10])
+    # a U shape: two 10 m arms above y = 10
+    u = DebrisArea.polygon([(0, 0), (30, 0), (30, 20), (20, 20), (20, 10), (10, 10),
+                            (10, 20), (0, 20)])
+    ys, length = u.width_profile(samples=4)
+    assert list(length) == pytest.approx([30, 30, 20, 20])
+    # summed over the height it gives the area
+    ys, length = u.width_profile(samples=1000)
+    assert float(np.sum(length) * 20.0 / 1000) == pytest.approx(u.area_m2, rel=1e-9)

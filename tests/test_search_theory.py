@@ -122,3 +122,23 @@ def test_random_search_hand_worked():
     assert float(random_search_pod(4.0, 2.0 * 600.0, 1e4)) == pytest.approx(0.3812, abs=1e-4)
     with pytest.raises(ValueError, match="area_m2"):
         random_search_pod(4.0, 100.0, 0.0)
+
+
+def test_lane_updates_match_the_full_product():
+    # lanes flown across the area (either way), each updating only the targets in its
+    # reach, give the same progress as the full product over every lane and target
+    rng = np.random.default_rng(3)
+    x = np.linspace(0.0, 6.0, 61)
+    p = 0.9 * np.exp(-x)
+    lanes = np.sort(rng.uniform(0.0, 1000.0, 600))
+    ys = np.linspace(0.0, 1000.0, 3000)
+    w = rng.uniform(0.5, 1.5, ys.size)
+    got = lane_by_lane_pod(x, p, lanes, ys, w)
+    look = np.interp(np.abs(ys[None, :] - lanes[:, None]), x, p, right=0.0)
+    miss = np.cumprod(1.0 - look, axis=0) @ (w / w.sum())
+    assert got == pytest.approx(np.concatenate([[0.0], 1.0 - miss]), abs=1e-9)
+    back = lane_by_lane_pod(x, p, lanes[::-1], ys, w)
+    miss = np.cumprod(1.0 - look[::-1], axis=0) @ (w / w.sum())
+    assert back == pytest.approx(np.concatenate([[0.0], 1.0 - miss]), abs=1e-9)
+    with pytest.raises(ValueError, match="in order across"):
+        lane_by_lane_pod(x, p, [0.0, 10.0, 5.0], ys, w)

@@ -24,7 +24,8 @@ from snowprobe_widgets.burial_statistics import (
     DEPTH_DISTRIBUTIONS,
     SURVIVAL_TABLES,
 )
-from snowprobe_widgets.coverage import ICAR_RATE_M2_MIN
+from snowprobe_widgets.coverage import ICAR_RATE_M2_MIN, MAX_LANES
+from snowprobe_widgets.detection import DEFAULT_THRESHOLD_DB
 from snowprobe_widgets.plan import (
     PLAN_CAUTIONS,
     PLATFORMS,
@@ -125,6 +126,7 @@ class SearchPlanBoard(widgets.VBox):
             _DEMO + name: Scenario.example(name) for name in Scenario.examples()}
         self._lateral: dict[tuple, LateralRange] = {}
         self._sweeps: dict[str, LateralRange] = {}
+        self._trades: dict[tuple, Any] = {}
         self._plan: SearchPlan | None = None
         self._others: list[tuple[str, SearchPlan]] = []
         if scenario is not None:
@@ -155,7 +157,7 @@ class SearchPlanBoard(widgets.VBox):
         self.lateral_source = dropdown("lateral range", [_ESTIMATE], _ESTIMATE)
         self.sweep_upload = widgets.FileUpload(accept=".nc", multiple=False,
                                                description="open saved sweep")
-        self.threshold = float_slider("call level (dB)", 10.0, 0.0, 40.0, 1.0,
+        self.threshold = float_slider("call level (dB)", DEFAULT_THRESHOLD_DB, 0.0, 40.0, 1.0,
                                       readout_format=".0f",
                                       tooltip="echo over noise and clutter that an operator "
                                               "calls a find")
@@ -173,6 +175,8 @@ class SearchPlanBoard(widgets.VBox):
                                         readout_format=".0f")
         self.probe_full = float_slider("s per probe, full depth", 20.0, 2.0, 120.0, 1.0,
                                        readout_format=".0f")
+        self.compare_platforms = widgets.Checkbox(
+            value=False, indent=False, description="compare the other platforms too")
         self.report_button = widgets.Button(description="printable plan (HTML)",
                                             layout=widgets.Layout(width="220px"))
         self.report_button.add_class(REPORT_BUTTON_CLASS)
@@ -254,7 +258,7 @@ class SearchPlanBoard(widgets.VBox):
                             layout=widgets.Layout(width="440px"))
         right = widgets.VBox([self.time_figure, self.time_key, self.summary,
                               self.spacing_figure, self.spacing_key, self.lateral_figure,
-                              self.lateral_key, self.table],
+                              self.lateral_key, self.table, self.compare_platforms],
                              layout=widgets.Layout(width="530px"))
         header = widgets.HTML(
             "<h3 style='margin:4px 0'>Search plan: lanes, time and the survival window</h3>"
@@ -269,7 +273,7 @@ class SearchPlanBoard(widgets.VBox):
                   self.speed, self.height, self.trace_rate, self.turn, self.design,
                   self.lateral_source,
                   self.threshold, self.arrival, self.dig, self.survival, self.depths,
-                  self.team, self.probe_first, self.probe_full):
+                  self.team, self.probe_first, self.probe_full, self.compare_platforms):
             w.observe(self._on_control, names="value")
         self.platform.observe(self._on_platform, names="value")
         self.upload.observe(self._on_upload, names="value")
@@ -394,12 +398,10 @@ class SearchPlanBoard(widgets.VBox):
         else:
             lateral = self._sweeps[self.lateral_source.value]
         plan = plan_search(lateral, area, platform, self.spacing.value, **options)
-        trade = spacing_tradeoff(lateral, area, platform,
-                                 np.union1d(_SPACINGS_M, [self.spacing.value]),
-                                 depths=self.depths.value)
+        trade = self._tradeoff(lateral, area, platform)
         others = [(f"this radar, {platform.name}", plan)]
         for name, preset in PLATFORMS.items():
-            if name == self.platform.value:
+            if name == self.platform.value or not self.compare_platforms.value:
                 continue
             lr = self._lateral_for(scenario, preset.antenna_height_m)
             others.append((f"this radar, {name} (link-budget estimate)",
@@ -413,6 +415,26 @@ class SearchPlanBoard(widgets.VBox):
         self._draws += 1
         self.status.value = (f"draws={self._draws} | {plan.form} | "
                              f"{plan.coverage.time_s / 60:.0f} min to clear")
+
+    def _tradeoff(self, lateral: LateralRange, area: DebrisArea, platform: Platform) -> Any:
+        """The spacing curve: the fixed spacings are computed once per area, platform,
+        curves and depths (a spacing change adds only its own point)."""
+        import xarray as xr
+
+        key = (id(lateral), area.vertices_m.tobytes(), platform, self.depths.value)
+        if key not in self._trades:
+            closest = area.width_across_m() / MAX_LANES  # narrower spacings are refused
+            if len(self._trades) > 16:
+                self._trades.clear()
+            self._trades[key] = spacing_tradeoff(lateral, area, platform,
+                                                 _SPACINGS_M[_SPACINGS_M >= closest],
+                                                 depths=self.depths.value)
+        grid = self._trades[key]
+        if np.any(np.isclose(grid["spacing_m"].values, self.spacing.value)):
+            return grid
+        point = spacing_tradeoff(lateral, area, platform, [self.spacing.value],
+                                 depths=self.depths.value)
+        return xr.concat([grid, point], dim="spacing_m").sortby("spacing_m")
 
     def _draw_spacing(self, trade: Any) -> None:
         x = trade["spacing_m"].values

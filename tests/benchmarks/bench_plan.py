@@ -3,7 +3,7 @@
 Run by hand: ``python tests/benchmarks/bench_plan.py``. Prints the median time of one link
 budget (the baseline, measured in the same run), of the link-budget lateral range estimate
 (ten depths), of ``plan_search`` on a given estimate, of the spacing trade-off (16
-spacings) and of a plan-board redraw after a spacing change (three platforms, estimates
+spacings) and of a plan-board redraw after a spacing change (estimate and spacing curve
 cached), with ratios to the baseline. Goal: a redraw under 0.5 s.
 """
 

@@ -118,6 +118,11 @@ def test_printable_plan_carries_the_cautions_and_the_plan(app):
     assert "probe and shovel" in text
     assert app.plan.summary[0].split(":")[0] in text
     assert "<svg" in text and "probe line" in text
+    assert "this radar, drone" not in text
+    app.compare_platforms.value = True
+    assert "this radar, drone (link-budget estimate)" in app.table.value
+    text = app.report()
+    assert "this radar, drone (link-budget estimate)" in text
     # a new plan withdraws the old download
     app.dig.value = 15.0
     assert app.download.value == ""
@@ -148,3 +153,15 @@ def test_a_saved_sweep_gives_the_lateral_range(app, tmp_path):
     assert "junk.nc was not opened as a sweep" in text and "/tmp" not in text
     assert app.lateral_source.value == "sweep: lanes.nc"
     app.lateral_source.value = "link-budget estimate (fast)"
+
+
+def test_a_wide_area_keeps_the_curve_to_spacings_it_allows(app):
+    app.shape.value = "polygon"
+    app.corners.value = "0,0; 100,0; 100,4000; 0,4000"  # lanes along x: 4 km across
+    assert message_text(app.message) == ""
+    x = np.asarray(app._time_line.x, float)
+    assert x.min() >= 4000.0 / 5000 - 1e-6
+    app.spacing.value = 0.5  # 8000 lanes: refused by name, the plan stays
+    assert "8000 lanes" in message_text(app.message)
+    app.spacing.value = 2.0
+    app.shape.value = "rectangle"
