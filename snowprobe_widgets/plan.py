@@ -55,6 +55,7 @@ from .coverage import (
     ProbeLine,
     coverage,
 )
+from .detection import DEFAULT_THRESHOLD_DB
 from .search_theory import (
     lane_by_lane_pod,
     lateral_curve_arrays,
@@ -354,7 +355,8 @@ def _check_depths(depths_m: object) -> np.ndarray:
 
 
 def lateral_range_from_budget(scenario: Any, *, antenna_height_m: float | None = None,
-                              depths_m: object = DEFAULT_DEPTHS_M, threshold_db: float = 10.0,
+                              depths_m: object = DEFAULT_DEPTHS_M,
+                              threshold_db: float = DEFAULT_THRESHOLD_DB,
                               n_offsets: int = 81) -> LateralRange:
     """A fast estimate of the lateral range curves from the link budget.
 
@@ -386,7 +388,8 @@ def lateral_range_from_budget(scenario: Any, *, antenna_height_m: float | None =
         Burial depths, m, increasing, each in [0.05, 10].
     threshold_db : float
         Echo over noise-and-clutter rms that an operator calls a detection, dB, in [0, 60]
-        (10 dB: the link budget's default, common practice).
+        (default: the detection level shared by the link budget and the detector,
+        :data:`snowprobe_widgets.detection.DEFAULT_THRESHOLD_DB`).
     n_offsets : int
         Offsets from 0 out to where every curve has fallen below 2 % (the beam's footprint
         at the deepest depth plus 2 m, doubled as needed up to 1 km), in [11, 1001].
