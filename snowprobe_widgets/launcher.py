@@ -921,8 +921,10 @@ def main(argv: Sequence[str] | None = None) -> int:
     args = parser.parse_args(argv)
     try:
         if args.command == "list":
-            for board in find_dashboards().values():
-                print(f"{board.name:<12} {board.title}: {board.summary}")
+            boards = find_dashboards()
+            width = max((len(name) for name in boards), default=0)
+            for board in boards.values():
+                print(f"{board.name:<{width}}  {board.title}: {board.summary}")
             return 0
         if args.command == "serve":
             return serve(_serve_options(args))

@@ -85,7 +85,7 @@ VERSION = 1
 _Z95 = 1.959963984540054
 #: Most grid cells whose every combination with the distributions' extremes is checked
 #: before a run (beyond it: each value alone, and the grid's corners).
-_MAX_CHECKED_CELLS = 5000
+_MAX_CHECKED_CELLS = 2000
 #: Most realizations in one sweep (memory of the records stays below ~1 GB).
 _MAX_REALIZATIONS_TOTAL = 2_000_000
 _CLUTTER_SEED = "clutter.seed"
@@ -164,8 +164,8 @@ class _Plan:
 
 
 def _apply(scenario: Scenario, settings: Sequence[tuple[FieldPath, Any]]) -> Scenario:
-    """Apply several path settings; only the last rebuild's checks must pass, but every
-    intermediate scenario is checked too (a ValueError names the path)."""
+    """Apply path settings in order; every step must give a valid scenario (a
+    ValueError names the path, the value and the allowed range)."""
     for path, value in settings:
         scenario = path.set(scenario, value)
     return scenario
@@ -311,7 +311,13 @@ def _run_items(plan: _Plan, items: Sequence[tuple[int, int]]
     """Run realizations ``(cell, r)`` of ``plan`` (in a worker or in this process)."""
     out = []
     for cell, r in items:
-        sc, drawn, clutter_seed = _draw(plan, cell, r)
+        try:
+            sc, drawn, clutter_seed = _draw(plan, cell, r)
+        except ValueError as exc:  # a draw the checks before the run could not foresee
+            where = ", ".join(f"{p.text} = {v!r}" for (p, _), v in
+                              zip(plan.vary, plan.cell_values(cell), strict=True))
+            raise ValueError(f"realization {r} of the cell {where or '(single)'}: {exc}"
+                             ) from None
         res = run_realization(sc, level_db=plan.level_db, floor_db=plan.floor_db,
                               reduced=plan.reduced)
         out.append((cell, r, res, drawn, clutter_seed))

@@ -13,9 +13,11 @@ sum of
    Newton's method (:mod:`snowprobe_widgets.raypaths`, tabulated per object). A facet
    contributes
 
-       (j f / c) * r(theta_loc) cos(theta_loc) A * T2 * exp(-2 alpha l) * beam / (R_par R_perp)
+       (j f / c) * r(theta_loc) cos(theta_loc) A * T2 * exp(-2 alpha l) * beam / (R_par' R_perp)
 
-   at its two-way delay, with r the local TE reflection at the local incidence angle. Each
+   at its two-way delay, with r the local TE reflection at the local incidence angle and
+   R_par' R_perp the two-way spreading of :mod:`snowprobe_widgets.raypaths` (the in-plane
+   tube width taken across the ray at the facet, as reciprocity requires). Each
    kind (:mod:`snowprobe_widgets.targets`) gives the angle dependence of r and the
    spectrum multiplying the sum: the person's clothing / skin / fat / muscle stack through
    :func:`layered.reflection`, -1 for metal, and for a boulder or branch the exact series

@@ -237,10 +237,16 @@ class DetectabilityView(widgets.VBox):
         self.progress = widgets.IntProgress(value=0, min=0, max=1, description="progress",
                                             layout=widgets.Layout(width="380px"))
         self.progress_text = widgets.HTML()
+        self.progress_text.add_class("sp-sweep-progress")
         self.level = float_slider("detector level (dB)", DEFAULT_THRESHOLD_DB, 10.0, 60.0,
                                   1.0, readout_format=".0f")
         self.contour = float_slider("probability contour", 0.9, 0.05, 0.99, 0.01)
         self.message = message_line()
+        self.legend = widgets.HTML(
+            "<small>Map: grey cells have not run. Solid red line: where the detection "
+            "probability crosses the contour value; dashed: where the ends of its "
+            "Wilson 95 % interval cross it. Moving the detector level re-reads the "
+            "recorded scores (no new simulation).</small>")
         self.readout = widgets.HTML()
         self.readout.add_class("sp-detectability-readout")
         self.status = widgets.HTML()
@@ -267,6 +273,7 @@ class DetectabilityView(widgets.VBox):
         ])
         views = widgets.VBox([
             widgets.HBox([self.map_figure, self.alarm_figure]),
+            self.legend,
             widgets.HBox([self.level, self.contour]),
             widgets.HBox([self.roc_figure, self.readout]),
             self.status,
@@ -306,7 +313,7 @@ class DetectabilityView(widgets.VBox):
         self.map_figure = bqplot.Figure(
             marks=[self._map_image, self._contour_mark, self._interval_mark,
                    self._cell_mark], axes=[self._ax_x, self._ax_y], padding_x=0.0,
-            padding_y=0.0, title="detection probability (grey: not run)",
+            padding_y=0.0, title="detection probability (dark 0, light 1)",
             fig_margin={"top": 40, "bottom": 50, "left": 70, "right": 20},
             layout=widgets.Layout(width="520px", height="380px"))
         self.map_figure.add_class("sp-detectability-map")

@@ -292,6 +292,7 @@ class ScenarioExplorer(widgets.VBox):
         self.lower.observe(self._safe(self._refresh_lazy), names="selected_index")
         self.trace_view.fdtd_button.on_click(self._safe(self.run_fdtd))
         self.trace_view.fdtd2d_button.on_click(self._safe(self.run_fdtd2d))
+        self._check2d_at: float | None = None  # position of the 2-D check on screen
 
 
         # files: upload/download when served, paths in a notebook (widgets/file_panel.py)
@@ -466,8 +467,10 @@ class ScenarioExplorer(widgets.VBox):
         self.undo_button.disabled = not self._history
         self._scenario = scenario
         self._raw = raw
-        if old is None or _column_media_key(old) != _column_media_key(scenario):
+        if old is None or _column_media_key(old) != _column_media_key(scenario) or (
+                self._check2d_at is not None and old != scenario):
             self.trace_view.clear_reference()
+            self._check2d_at = None
         self.section.update(scenario)
         if pick_m is not None:
             self.radargram_view.picked_position_m = None
@@ -660,6 +663,10 @@ class ScenarioExplorer(widgets.VBox):
     def _on_pick(self, change: Any) -> None:
         if change["new"] is not None:
             self._update_trace()
+            if self._check2d_at is not None and \
+                    self.radargram_view.picked_position_m != self._check2d_at:
+                self.trace_view.clear_reference()  # the 2-D check holds for one position
+                self._check2d_at = None
 
     def _update_detections(self) -> None:
         view = self.radargram_view
@@ -741,6 +748,7 @@ class ScenarioExplorer(widgets.VBox):
             f"cells x {res.grid.n_steps} steps in {res.elapsed_s:.2f} s. Both use the media "
             "frozen at the centre frequency, as plane waves.")
         self.fdtd_agreement = ncc
+        self._check2d_at = None
         return ncc
 
     def run_fdtd2d(self) -> float | None:
@@ -780,6 +788,7 @@ class ScenarioExplorer(widgets.VBox):
             labels=("2-D FDTD, object as a cylinder (normalised)",
                     "model, object alone (normalised)"))
         self.fdtd2d_agreement = res.agreement
+        self._check2d_at = x
         return res.agreement
 
     # ------------------------------------------------------------------ files

@@ -47,7 +47,6 @@ TOUCH_PX = 48
 _MAX_ROUNDS = 30
 _MARK_COLOUR = "#00c853"
 _PICK_COLOUR = "#ffd400"
-_TRUTH_COLOUR = "#d9480f"
 #: A tap this close to a mark removes it, as a fraction of the line and of the window
 #: (about 22 px on a 900 x 440 px picture: half a touch target).
 _NEAR_FRACTION = (0.025, 0.05)

@@ -6,7 +6,8 @@ Run by hand: ``python tests/benchmarks/bench_fdtd2d.py``. Prints
    on a 2 m x 2 m layered scene at 8, 10 and 14 cells per shortest wavelength (ratios
    against the 10-cell TE run of the same session);
 2. the flank/apex echo ratio of a metal cylinder (radius 0.2 m, axis 1 m deep in dry
-   snow, antenna 0.5 m up, 800 MHz, TE) at 0, 20, 40, 53 and 55 deg in air: the 2-D FDTD,
+   snow, antenna 0.5 m up, 800 MHz; TE with the radar's field across the line, TM with it
+   along the line) at 0, 20, 40, 53 and 55 deg in air: the 2-D FDTD,
    independent 2-D ray theory, and the model's facet sum of a long branch across the line
    (3-D, converted to 2-D by sqrt(R_perp), see tests/test_hyperbola_flank.py), with the
    run time of each FDTD position;
@@ -72,12 +73,12 @@ def speed() -> None:
                   f"{el:8.2f}  {cpu:8.2f}   {per:10.1f}             {ratio}")
 
 
-def flank() -> None:
+def flank(pol: str, radar_polarization: str) -> None:
     fc, h, radius, depth = 800e6, 0.5, 0.2, 1.0
     snow = mat.snow(350.0)
     n = float(snow.refractive_index(fc).real)
     radar = Radar(center_frequency_hz=fc, dt_s=2.5e-11, time_window_s=40e-9,
-                  beamwidth_deg=180.0, antenna_height_m=h)
+                  beamwidth_deg=180.0, antenna_height_m=h, polarization=radar_polarization)
     pulse = radar.make_pulse()
     cyl = BuriedCylinder(0.0, depth, radius, mat.metal())
     sc = Scenario(Snowpack((Layer(4.0, 350.0),)), Ground(),
@@ -87,14 +88,14 @@ def flank() -> None:
     rg = simulate(sc, components=("objects",))
     env = np.abs(hilbert(rg.data, axis=0)).max(axis=0)
     x = rg.position_m
-    print("\n2. flank/apex of a buried metal cylinder, TE, dB (model - FDTD in the last column)")
-    print("   deg   FDTD    2-D rays   model   model-FDTD   FDTD run (s)")
+    print(f"\n2. flank/apex of a buried metal cylinder, {pol} (radar {radar_polarization}), dB")
+    print("   deg   FDTD    2-D rays (TE)   model   model-FDTD   FDTD run (s)")
     apex = None
     for deg in (0.0, 20.0, 40.0, 53.0, 55.0):
         th = math.radians(deg)
         go, x_c, rperp = _cylinder_go_2d(th, h, n, depth, radius)
         tr = cylinder_trace([snow, snow], [3.0], cyl, antenna_x_m=x_c, antenna_height_m=h,
-                            pulse=pulse, dt_s=2e-11, n_samples=1500)
+                            pulse=pulse, dt_s=2e-11, n_samples=1500, polarization=pol)
         peak = float(np.abs(hilbert(tr.amplitude)).max())
         model = np.interp(x_c, x, env) / beam_weight(th, 180.0) * math.sqrt(rperp)
         if apex is None:
@@ -102,8 +103,8 @@ def flank() -> None:
         f_db = 20 * math.log10(peak / apex[0])
         g_db = 20 * math.log10(go / apex[1])
         m_db = 20 * math.log10(model / apex[2])
-        print(f"   {deg:4.0f}  {f_db:6.2f}   {g_db:6.2f}   {m_db:6.2f}     {m_db - f_db:+.2f}"
-              f"        {tr.elapsed_s:6.1f}")
+        print(f"   {deg:4.0f}  {f_db:6.2f}   {g_db:6.2f}          {m_db:6.2f}     "
+              f"{m_db - f_db:+.2f}        {tr.elapsed_s:6.1f}")
 
 
 def demos() -> None:
@@ -127,5 +128,6 @@ def demos() -> None:
 
 if __name__ == "__main__":
     speed()
-    flank()
+    flank("TE", "across_line")
+    flank("TM", "along_line")
     demos()

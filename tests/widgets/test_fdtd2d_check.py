@@ -34,6 +34,12 @@ def test_2d_check_runs_at_the_picked_trace_and_reports_agreement(app) -> None:
     assert "2-D FDTD" in app.trace_view.reference.labels[0]
     assert app.trace_view.reference.visible
     assert app.trace_view.message.value == ""
+    # it holds for one position and one scenario: moving the pick or the person clears it
+    app.radargram_view.pick_position(4.0)
+    assert not app.trace_view.reference.visible
+    assert app.run_fdtd2d() is not None
+    app.person.depth.value = 0.7
+    assert not app.trace_view.reference.visible
 
 
 def test_2d_check_refuses_without_a_stand_in(app) -> None:

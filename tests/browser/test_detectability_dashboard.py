@@ -24,7 +24,7 @@ def _type_into(page, selector: str, text: str) -> None:
     box.click()
     page.keyboard.press("Control+A")
     page.keyboard.type(text)
-    page.keyboard.press("Tab")
+    page.keyboard.press("Enter")
 
 
 def test_run_a_small_sweep_see_the_map_and_open_a_cell(server, browser):
@@ -41,6 +41,7 @@ def test_run_a_small_sweep_see_the_map_and_open_a_cell(server, browser):
         page.wait_for_function(
             "() => /sweep: complete/.test(document.querySelector("
             "'.sp-detectability-status').textContent)", timeout=180_000)
+        assert page.locator(".sp-sweep-progress").inner_text().strip() == "done: 4 realizations"
         status = page.locator(".sp-detectability-status").inner_text()
         assert int(re.search(r"draws=(\d+)", status).group(1)) >= 2
         # the map shows a picture; clicking its middle opens that cell's scene
