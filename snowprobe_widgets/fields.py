@@ -590,10 +590,12 @@ def _screen_refusal(f: Field, value: Any, lo: float, hi: float, lo_open: bool,
         return f"{f.label} is {len(value)} characters long: shorten it to {f.max_length}."
     try:
         x = float(value)
-    except OverflowError:
-        return f"{f.label}: that number is far too large."
+    except OverflowError:  # an integer too long for a float: far out of any range
+        x = math.inf if value > 0 else -math.inf
     except (TypeError, ValueError):
         return f"{f.label}: type a number."
+    if math.isinf(x) and isinstance(value, (int, np.integer)) and not isinstance(value, bool):
+        return f"{f.label} is far too large: use {_range_words(f, lo, hi)}."
     if isinstance(value, bool) or not math.isfinite(x):
         return f"{f.label}: type a number."
     if kind == "integer" and x != int(x):

@@ -388,8 +388,8 @@ def lateral_range_from_budget(scenario: Any, *, antenna_height_m: float | None =
     depths_m : sequence of float
         Burial depths, m, increasing, each in [0.05, 10].
     threshold_db : float
-        Echo over noise-and-clutter rms that is called a detection, dB, in [0, 60]
-        (default: the link budget's and the automatic detector's level,
+        Echo over noise-and-clutter rms that an operator calls a detection, dB, in [0, 60]
+        (default: the detection level shared by the link budget and the detector,
         :data:`snowprobe_widgets.detection.DEFAULT_THRESHOLD_DB`).
     n_offsets : int
         Offsets from 0 out to where every curve has fallen below 2 % (the beam's footprint

@@ -6,20 +6,24 @@ nothing itself.
 
 from __future__ import annotations
 
+import inspect
 from collections.abc import Callable
 from typing import Any
 
 import ipywidgets as widgets
 
+from snowprobe_widgets.fields import FIELDS, Field
 from snowprobe_widgets.processing import (
     BACKGROUND_METHODS,
     GAIN_KINDS,
     MIGRATION_METHODS,
+    STEPS,
     ProcessingChain,
     ProcessingStep,
 )
 from snowprobe_widgets.widgets._common import (
     dropdown,
+    field_control,
     float_slider,
     int_slider,
     section_title,
@@ -55,9 +59,13 @@ class ProcessingPanel(widgets.VBox):
     def __init__(self, center_frequency_hz: float = 800e6, **kwargs: Any) -> None:
         self._callbacks: list[Callable[[], None]] = []
         self._quiet = 0
+        # built-in steps with their own controls, then every other registered step (a
+        # plugin's) with controls built from its parameter declarations
+        self.plugin_params = _plugin_steps()
+        titles = {**STEP_TITLES, **{name: _plugin_title(name) for name in self.plugin_params}}
         self.switches = {name: widgets.Checkbox(value=False, indent=False, description=title,
                                                 layout=widgets.Layout(width="100%"))
-                         for name, title in STEP_TITLES.items()}
+                         for name, title in titles.items()}
         for switch in self.switches.values():
             switch.add_class(SWITCH_CLASS)
         self.tz_target = float_slider("target time (ns)", 0.0, 0.0, 50.0, 0.1)
@@ -89,6 +97,8 @@ class ProcessingPanel(widgets.VBox):
             "bandpass": (self.bp_low, self.bp_high, self.bp_order),
             "migrate": (self.mig_velocity, self.mig_method, self.mig_height),
             "envelope": (),
+            **{name: tuple(c for _f, c in controls.values())
+               for name, controls in self.plugin_params.items()},
         }
         rows: list[widgets.Widget] = [section_title("Processing, in the order it runs")]
         for name, switch in self.switches.items():
@@ -200,10 +210,45 @@ class ProcessingPanel(widgets.VBox):
                         "surface_time_s": (self.tz_target.value * _NS
                                            if self.switches["time_zero"].value else None)},
             "envelope": {},
+            **{name: {p: _si_value(f, c.value) for p, (f, c) in controls.items()}
+               for name, controls in self.plugin_params.items()},
         }
         return ProcessingChain(tuple(
             ProcessingStep(name, tuple(params[name].items()), bool(switch.value))
             for name, switch in self.switches.items()))
 
 
-__all__ = ["STEP_TITLES", "SWITCH_CLASS", "ProcessingPanel"]
+def step_group(name: str) -> str:
+    """The declarations group of a processing step's parameters: ``"step:<name>"``."""
+    return f"step:{name}"
+
+
+def _plugin_steps() -> dict[str, dict[str, tuple[Field, widgets.Widget]]]:
+    """Each registered step without built-in controls, with a control per declared
+    parameter (starting at the step function's default where it has one)."""
+    out: dict[str, dict[str, tuple[Field, widgets.Widget]]] = {}
+    for name in STEPS.names():
+        if name in STEP_TITLES:
+            continue
+        defaults = {k: p.default for k, p in inspect.signature(STEPS.get(name)).parameters.items()
+                    if p.default is not inspect.Parameter.empty}
+        declared = FIELDS.get(step_group(name), {})
+        out[name] = {pname: (f, field_control(f, defaults.get(pname)))
+                     for pname, f in declared.items()}
+    return out
+
+
+def _plugin_title(name: str) -> str:
+    doc = (inspect.getdoc(STEPS.get(name)) or "").strip().splitlines()
+    return f"{name}: {doc[0].rstrip('.')}" if doc else name
+
+
+def _si_value(f: Field, shown: Any) -> Any:
+    if f.kind == "integer":
+        return int(f.to_si(shown))
+    if f.kind in ("number", "optional number"):
+        return float(f.to_si(shown))
+    return shown
+
+
+__all__ = ["STEP_TITLES", "SWITCH_CLASS", "ProcessingPanel", "step_group"]

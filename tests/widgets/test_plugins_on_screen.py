@@ -1,0 +1,76 @@
+"""A plugin's processing step reaches the screen: a small plugin package built here.
+
+The package is a module and a ``.dist-info`` folder with an entry point in the group
+``snowprobe_widgets.processing`` on a temporary path (nothing is installed into the
+environment); a fresh interpreter imports the app with that path, so the registries read
+the entry point as they would for an installed plugin.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import subprocess
+import sys
+import textwrap
+
+PLUGIN = textwrap.dedent('''
+    """A test plugin: clip the section at a fraction of its peak."""
+    import numpy as np
+
+    from snowprobe_widgets.fields import Field, declare
+    from snowprobe_widgets.radargram import ProcessingRecord
+
+    declare(Field("step:peak_clip", "fraction", "number", "Clip at", display_unit="%",
+                  scale=0.01, low=0.01, high=1.0, step=1.0, decimals=0,
+                  help="Amplitudes above this share of the peak are cut."))
+
+
+    def peak_clip(rg, fraction=0.5):
+        """Clip at a share of the peak."""
+        top = fraction * float(np.max(np.abs(rg.data)))
+        return rg.with_data(np.clip(rg.data, -top, top),
+                            ProcessingRecord("peak_clip", (("fraction", fraction),)))
+''')
+
+SCRIPT = textwrap.dedent('''
+    import json
+    from snowprobe_widgets.widgets import ScenarioExplorer
+
+    app = ScenarioExplorer()
+    panel = app.processing
+    switch = panel.switches["peak_clip"]
+    (field, control), = panel.plugin_params["peak_clip"].values()
+    out = {"title": switch.description, "label": control.description,
+           "tooltip": control.tooltip, "value": control.value,
+           "in_panel": switch in panel.children}
+    switch.value = True
+    control.value = 25.0
+    out["chain"] = [[s.name, dict(s.params), s.enabled] for s in app.chain.steps]
+    out["peak"] = float(abs(app.radargram.data).max())
+    out["raw_peak"] = float(abs(app.raw_radargram.data).max())
+    out["history"] = [r.step for r in app.radargram.history]
+    print(json.dumps(out))
+''')
+
+
+def test_a_plugin_step_appears_in_the_panel_and_the_chain(tmp_path) -> None:
+    (tmp_path / "snowlab_clip.py").write_text(PLUGIN)
+    info = tmp_path / "snowlab_clip-0.1.dist-info"
+    info.mkdir()
+    (info / "METADATA").write_text("Metadata-Version: 2.1\nName: snowlab-clip\nVersion: 0.1\n")
+    (info / "entry_points.txt").write_text(
+        "[snowprobe_widgets.processing]\npeak_clip = snowlab_clip:peak_clip\n")
+    env = {**os.environ, "PYTHONPATH": os.pathsep.join(
+        [str(tmp_path), *filter(None, [os.environ.get("PYTHONPATH")])])}
+    done = subprocess.run([sys.executable, "-c", SCRIPT], env=env, capture_output=True,
+                          text=True, timeout=300, check=False)
+    assert done.returncode == 0, done.stderr[-2000:]
+    out = json.loads(done.stdout.strip().splitlines()[-1])
+    assert out["title"] == "peak_clip: Clip at a share of the peak" and out["in_panel"]
+    assert out["label"] == "Clip at (%)"  # from the plugin's declaration
+    assert out["tooltip"] == "Amplitudes above this share of the peak are cut."
+    assert out["value"] == 50.0  # the step function's default, 0.5, in display units
+    steps = {name: (params, on) for name, params, on in out["chain"]}
+    assert steps["peak_clip"] == ({"fraction": 0.25}, True)
+    assert out["history"][-1] == "peak_clip"
