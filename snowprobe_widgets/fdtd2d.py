@@ -695,8 +695,10 @@ def scenario_cylinder(scenario: object) -> tuple[BuriedCylinder, str]:
 def _scenario_polarization(scenario: object) -> str:
     """TE when the radar's field lies across the line (along the stand-in's axis), TM when
     it lies along the line."""
-    radar = getattr(scenario, "radar", None)
-    return "TM" if getattr(radar, "polarization", "across_line") == "along_line" else "TE"
+    from .raypaths import ray_polarization
+
+    return ray_polarization(getattr(getattr(scenario, "radar", None), "polarization",
+                                    "across_line"))
 
 
 def scenario_check(scenario: object, position_m: float, *,

@@ -63,7 +63,7 @@ from .constants import C0_M_S
 from .facets import FacetMesh
 from .radar_equation import antenna_factor, beam_weight, noise_rms
 from .radargram import Radargram, TruthMarker
-from .raypaths import AlongX, RayTable, layers_above_m, solve_rays
+from .raypaths import AlongX, RayTable, layers_above_m, ray_polarization, solve_rays
 from .targets import kind_of
 from .targets.base import ANGLES_DEG
 from .targets.clods import clod_amplitude
@@ -305,7 +305,8 @@ def _prepare_targets(scenario: Any, pulse: Any, grid: _Grid, optics: ColumnOptic
         table = RayTable.build(
             x_max, (z_lo, z_hi), antenna_height_m=h, thickness_m=optics.thickness_m,
             index=optics.index, alpha_np_m=optics.alpha_np_m,
-            beam=lambda th: beam_weight(th, radar.beamwidth_deg))
+            beam=lambda th: beam_weight(th, radar.beamwidth_deg),
+            polarization=ray_polarization(radar.polarization))
         r_angle, r_f = target_reflection(obj, complex(snow_m.permittivity(fc)), fc, fb,
                                          polarization=radar.polarization)
         disp = vertical_dispersion(optics, obj.depth_m, fc, fb)
@@ -445,7 +446,8 @@ def simulate(scenario: Any, *, components: Iterable[str] = COMPONENTS,
             Z = np.broadcast_to(cz[None, :], X.shape)
             res = solve_rays(X, Z, antenna_height_m=radar.antenna_height_m,
                              thickness_m=optics.thickness_m, index=optics.index,
-                             alpha_np_m=optics.alpha_np_m)
+                             alpha_np_m=optics.alpha_np_m,
+                             polarization=ray_polarization(radar.polarization))
             g = res.transmission * res.attenuation / res.spreading_m2
             g = g * beam_weight(np.arcsin(np.clip(res.sin_theta0, 0, 1)), radar.beamwidth_deg)
             g = np.where(res.reached, g, 0.0)
