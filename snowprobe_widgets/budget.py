@@ -39,7 +39,7 @@ import numpy as np
 import scipy.fft
 
 from ._validate import check_range
-from .budget_checks import CLUTTER_MARGIN_DB, overruling_warnings
+from .budget_checks import CLUTTER_MARGIN_DB, beam_edge_m, overruling_warnings
 from .budget_checks import two_way_time_s as _two_way_time_s
 from .constants import C0_M_S
 from .detection import DEFAULT_THRESHOLD_DB
@@ -415,7 +415,8 @@ class _ClutterModel:
         fc = radar.center_frequency_hz
         self.h = radar.antenna_height_m
         self.opt = _extended(optics, max_depth_m + 0.5)
-        self.half_bw = math.radians(radar.beamwidth_deg) / 2
+        self.beamwidth_deg = radar.beamwidth_deg
+        half_bw = math.radians(radar.beamwidth_deg) / 2
         pulse = radar.make_pulse()
         self.bandwidth = pulse.bandwidth_hz
         # incoherent sum of wavelets: the mean square at one instant is (scatterers per
@@ -424,7 +425,7 @@ class _ClutterModel:
         self.energy = float(np.sum(pulse.waveform(tt) ** 2) * (tt[1] - tt[0])) * self.bandwidth
         # across the footprint the two-way beam weight falls to 1/2 at the -3 dB edge;
         # its mean square over a uniform disc, numerically
-        w = beam_weight(np.linspace(0, self.half_bw, 50), radar.beamwidth_deg)
+        w = beam_weight(np.linspace(0, half_bw, 50), radar.beamwidth_deg)
         self.w2 = float(np.mean(w * w * np.linspace(0, 1, 50)) * 2)
         self.af = antenna_factor(radar.antenna_gain_dbi, fc)
         layers = scenario.snowpack.layers
@@ -442,8 +443,7 @@ class _ClutterModel:
         opt = self.opt
         j = _layer_of(opt, depth_m)
         n = float(opt.index[j])
-        s_snow = math.sin(self.half_bw) / n
-        radius = self.h * math.tan(self.half_bw) + depth_m * s_snow / math.sqrt(1 - s_snow**2)
+        radius = beam_edge_m(opt, self.h, self.beamwidth_deg, depth_m)
         shell = C0_M_S / (2 * self.bandwidth * n)
         count = self.density * math.pi * radius**2 * shell
         D = _above(opt, depth_m)
