@@ -65,16 +65,19 @@ def window_needed_s(optics: Any, antenna_height_m: float, depth_m: float,
 
 
 def beam_edge_m(optics: Any, antenna_height_m: float, beamwidth_deg: float,
-                depth_m: float) -> float:
+                depth_m: float | np.ndarray) -> float | np.ndarray:
     """Horizontal distance from the antenna to the -3 dB beam's edge at ``depth_m``, m,
     refracted at every interface (``h tan(b/2)`` in the air, then ``d_j tan(theta_j)``
     with ``sin theta_j = sin(b/2) / n_j``; see the module notes). The footprint here and
-    the budget's clutter cell both use it."""
+    the budget's clutter cell both use it; an array of depths gives an array."""
     half = math.radians(beamwidth_deg) / 2.0
-    d = layers_above_m(optics.thickness_m, depth_m)
+    thick = np.asarray(optics.thickness_m, dtype=float)
+    tops = np.concatenate([[0.0], np.cumsum(thick)[:-1]])
+    d = np.clip(np.asarray(depth_m, dtype=float)[..., None] - tops, 0.0, thick)
     s = math.sin(half) / np.asarray(optics.index, dtype=float)
-    return antenna_height_m * math.tan(min(half, math.radians(89.0))) + float(
-        np.sum(d * s / np.sqrt(1.0 - s * s)))
+    edge = antenna_height_m * math.tan(min(half, math.radians(89.0))) + d @ (
+        s / np.sqrt(1.0 - s * s))
+    return edge if np.ndim(edge) else float(edge)
 
 
 def footprint_radius_m(optics: Any, antenna_height_m: float, beamwidth_deg: float,

@@ -166,18 +166,17 @@ def index_offsets(optics: ColumnOptics, freq_hz: np.ndarray) -> list[np.ndarray]
     return out
 
 
-def dispersion_factor(offsets: list[np.ndarray], k0: np.ndarray, above_m: np.ndarray,
-                      alpha_np_m: np.ndarray) -> np.ndarray:
+def dispersion_factor(offsets: list[np.ndarray] | np.ndarray, k0: np.ndarray,
+                      above_m: np.ndarray, alpha_np_m: np.ndarray) -> np.ndarray:
     """exp(-2 j k0 sum_j (n_j(f) - n'_j(fc)) D_j) * exp(+2 sum_j alpha_j(fc) D_j).
 
     Two-way dispersion and frequency-dependent attenuation relative to the centre-frequency
-    values that facet delays and gains already carry (D_j: ``above_m``).
+    values that facet delays and gains already carry (D_j: ``above_m``, shape (n_layers,),
+    or (n_depths, n_layers) for many depths at once, giving (n_depths, n_f)).
     """
-    phase = np.zeros(k0.size, complex)
-    for dn, d in zip(offsets, above_m, strict=True):
-        if d > 0:
-            phase += dn * d
-    return np.exp(-2j * k0 * phase) * np.exp(2 * float(np.dot(alpha_np_m, above_m)))
+    above = np.asarray(above_m, float)
+    phase = above @ np.asarray(offsets).reshape(above.shape[-1], -1)
+    return np.exp(-2j * k0 * phase) * np.exp(2 * (above @ alpha_np_m))[..., None]
 
 
 def vertical_dispersion(optics: ColumnOptics, depth_m: float, fc: float,
