@@ -40,7 +40,7 @@ SCRIPT = textwrap.dedent('''
     app = ScenarioExplorer()
     panel = app.processing
     switch = panel.switches["peak_clip"]
-    (field, control), = panel.plugin_params["peak_clip"].values()
+    (field, control), = panel.params["peak_clip"].values()
     out = {"title": switch.description, "label": control.description,
            "tooltip": control.tooltip, "value": control.value,
            "in_panel": switch in panel.children}
