@@ -572,9 +572,10 @@ def layer_material(model: str, density_kg_m3: float, lwc_percent: float = 0.0, *
     ValueError
         If ``model`` is not a known name (the message lists the known ones).
     """
-    check_choice("dielectric_model", model, layer_model_names())
     if model in LAYER_MODELS:
         return LAYER_MODELS.get(model)(density_kg_m3, lwc_percent, temperature_c)
-    dry, wet = model.split("+", 1)
+    dry, plus, wet = str(model).partition("+")
+    if not (plus and f"dry_snow:{dry}" in MODELS and f"wet_snow:{wet}" in MODELS):
+        check_choice("dielectric_model", model, layer_model_names())
     return snow(density_kg_m3, lwc_percent, dry_model=dry, wet_model=wet,
                 temperature_c=temperature_c)

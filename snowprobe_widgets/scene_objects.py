@@ -105,8 +105,10 @@ class Layer:
                 screen=f"Liquid water {self.lwc_percent:g} % does not fit in the pores of "
                        f"{self.density_kg_m3:.0f} kg/m³ snow: use at most "
                        f"{math.floor(1000 * room) / 10:g} %, or a lower density.") from None
-        try:  # the named model takes this layer (the ice model holds no water)
-            self.material()
+        try:  # the named model takes this layer (the ice model holds no water); the
+            # default model takes every layer the checks above accept
+            if self.dielectric_model != "snow":
+                self.material()
         except ValueError as exc:
             raise FieldError(
                 str(exc), field=declaration("layer", "dielectric_model"),
