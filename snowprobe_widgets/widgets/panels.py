@@ -276,9 +276,10 @@ class SnowpackEditor(Panel):
         options = []
         for i, layer in enumerate(self._layers):
             tag = "ice crust, " if layer.ice_crust else ""
+            model = "" if layer.dielectric_model == "snow" else f", {layer.dielectric_model}"
             options.append((f"{i + 1}: {tag}{layer.thickness_m:.2f} m, "
-                            f"{layer.density_kg_m3:.0f} kg/m3, {layer.lwc_percent:.1f} % water",
-                            i))
+                            f"{layer.density_kg_m3:.0f} kg/m3, {layer.lwc_percent:.1f} % water"
+                            f"{model}", i))
         self._quiet += 1
         try:
             self.layer_choice.options = options

@@ -66,6 +66,12 @@ CHOICE_PARAMETERS: dict[str, tuple[str, dict[str, dict[str, Any]]]] = {
 }
 
 
+#: Starting values (SI) of parameters whose step has no default for them.
+STARTING_VALUES: dict[tuple[str, str], Any] = {
+    ("migrate", "velocity_m_s"): 0.23e9,  # dry snow (common practice)
+}
+
+
 def step_names() -> tuple[str, ...]:
     """Registered steps in panel order: the built-ins as they run, then the others."""
     return (tuple(n for n in STEP_TITLES if n in STEPS)
@@ -83,6 +89,7 @@ def step_title(name: str) -> str:
 def _starting_values(name: str) -> dict[str, Any]:
     """A step's defaults, with the defaults of each choice where the signature has None."""
     values = {k: v for k, v in step_defaults(name).items() if v is not None}
+    values.update({k: v for (step, k), v in STARTING_VALUES.items() if step == name})
     for table in CHOICE_PARAMETERS.get(name, ("", {}))[1].values():
         for k, v in table.items():
             values.setdefault(k, v)
