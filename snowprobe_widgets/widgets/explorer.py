@@ -616,6 +616,8 @@ class ScenarioExplorer(widgets.VBox):
             chain.append(c)
 
         if not guarded(self.message, run, self._restore_controls):
+            if self._chain is not None:  # a refused setting goes back to the chain on screen
+                self.processing.show(self._chain)
             return
         self._chain = chain[0]
         self._processed = done[0]

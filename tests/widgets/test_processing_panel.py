@@ -171,3 +171,18 @@ def test_a_refusal_by_the_step_speaks_the_screen_words(record) -> None:
     with pytest.raises(fields.FieldError) as err:
         STEPS.get("dewow")(record, window_s=2.0 * record.time_s[-1])
     assert err.value.screen.startswith("Window") and "ns" in err.value.screen
+
+
+def test_a_refused_processing_setting_returns_to_the_chain_on_screen() -> None:
+    from snowprobe_widgets.widgets import ScenarioExplorer
+    from snowprobe_widgets.widgets._common import message_text
+
+    app = ScenarioExplorer(Scenario.example("crust_and_ski"))
+    high = app.processing.control("bandpass", "high_hz")
+    before, draws = high.value, app.radargram_view.draws
+    high.value = high.max  # the Nyquist frequency itself: the band must stay under it
+    text = message_text(app.message)
+    assert text.startswith("High edge") and "MHz" in text, text
+    assert high.value == before and app.radargram_view.draws == draws
+    assert dict(dict((s.name, s.params) for s in app.chain.steps)["bandpass"])[
+        "high_hz"] == pytest.approx(high.value * 1e6)
