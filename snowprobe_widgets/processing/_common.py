@@ -16,7 +16,6 @@ same declarations, so the three agree and every refusal speaks the screen's word
 
 from __future__ import annotations
 
-import math
 from typing import Any
 
 import numpy as np
@@ -133,23 +132,6 @@ def trace_spacing_m(rg: Radargram) -> float:
 def check_velocity(name: str, value: float) -> float:
     """Return ``value`` if it is a physical propagation velocity, else raise ``ValueError``."""
     return check_range(name, value, VELOCITY_MIN_M_S, VELOCITY_MAX_M_S, unit="m/s")
-
-
-def check_int(name: str, value: Any, low: int, high: float = math.inf) -> int:
-    """Return ``value`` as int if it is a whole number in ``[low, high]``."""
-    if isinstance(value, bool) or not isinstance(value, (int, np.integer, float)):
-        raise ValueError(f"{name} must be a whole number, got {value!r}")
-    if isinstance(value, float) and not value.is_integer():
-        raise ValueError(f"{name} = {value!r} must be a whole number in [{low}, {high:g}]")
-    check_range(name, value, low, high)
-    return int(value)
-
-
-def check_bool(name: str, value: Any) -> bool:
-    """Return ``value`` if it is a bool, else raise ``ValueError``."""
-    if not isinstance(value, (bool, np.bool_)):
-        raise ValueError(f"{name} must be true or false, got {value!r}")
-    return bool(value)
 
 
 def window_samples(step: str, name: str, window_s: float, rg: Radargram) -> int:
