@@ -26,21 +26,57 @@ import math
 import numpy as np
 from scipy import fft as sfft
 
-from .._validate import check_choice, check_range
 from ..constants import C0_M_S
+from ..fields import Field, declare
 from ..radargram import Radargram
 from ._common import (
     STEPS,
     VELOCITY_MAX_M_S,
-    check_velocity,
+    VELOCITY_MIN_M_S,
+    check_param,
     record,
     sample_interval_s,
+    step_group,
     trace_spacing_m,
 )
 
 __all__ = ["migrate", "MIGRATION_METHODS", "rms_velocity_m_s"]
 
 MIGRATION_METHODS = ("fk", "kirchhoff")
+
+
+def _aperture(scenario: object, rg: Radargram | None) -> tuple[float, float]:
+    # one trace spacing to the whole line
+    if rg is not None:
+        dx = rg.dx_m if rg.position_m.size > 1 else 0.0
+        length = float(rg.position_m[-1] - rg.position_m[0])
+    else:
+        survey = scenario.survey  # type: ignore[attr-defined]
+        dx, length = survey.trace_spacing_m, survey.end_m - survey.start_m
+    return dx, max(length, dx)
+
+
+_M = step_group("migrate")
+declare(
+    Field(_M, "velocity_m_s", "number", "Wave speed", unit="m/s", display_unit="m/ns",
+          scale=1e9, low=VELOCITY_MIN_M_S, high=VELOCITY_MAX_M_S, step=0.005, decimals=3,
+          help="Speed of the wave in the snow (dry snow about 0.23 m/ns, wet snow less); "
+               "the right speed collapses a hyperbola to a point."),
+    Field(_M, "method", "choice", "Method", choices=MIGRATION_METHODS,
+          help="fk: fast, for one speed; kirchhoff: sums along each hyperbola, slower."),
+    Field(_M, "aperture_m", "optional number", "Aperture", unit="m", display_unit="m",
+          low=0.0, high=1e4, soft=_aperture, step=0.1,
+          help="kirchhoff only: how far along the line each point sums; empty: the whole "
+               "line."),
+    Field(_M, "antenna_height_m", "number", "Antenna height", unit="m", display_unit="m",
+          low=0.0, high=100.0, soft=(0.0, 50.0), step=0.05,
+          help="Height of the antenna above the snow; the wave crosses this air gap first. "
+               "It follows the radar's antenna height."),
+    Field(_M, "surface_time_s", "optional number", "Surface echo time", unit="s",
+          display_unit="ns", scale=1e-9, low=0.0, high=1e-6, decimals=1,
+          help="Where the surface echo lies on the record (after time-zero); empty: where "
+               "the antenna height puts it."),
+)
 
 
 #: Half-length (taps on each side) of the windowed-sinc interpolator of the Stolt mapping.
@@ -218,12 +254,12 @@ def migrate(rg: Radargram, velocity_m_s: float, method: str = "fk",
     Radargram
         Same axes; time is vertical two-way time below the antenna line.
     """
-    method = check_choice("method", method, MIGRATION_METHODS)
-    v = check_velocity("velocity_m_s", velocity_m_s)
-    h = check_range("antenna_height_m", antenna_height_m, 0.0, 100.0, unit="m")
+    method = check_param("migrate", "method", method)
+    v = check_param("migrate", "velocity_m_s", velocity_m_s)
+    h = check_param("migrate", "antenna_height_m", antenna_height_m)
     t_air = 2.0 * h / C0_M_S
-    t_s = t_air if surface_time_s is None else check_range(
-        "surface_time_s", surface_time_s, 0.0, 1e-6, unit="s")
+    t_s = t_air if surface_time_s is None else check_param(
+        "migrate", "surface_time_s", surface_time_s)
     # times from the antenna: the record's own axis moved so the surface lies at 2 h / c0
     t_ant = rg.time_s - t_s + t_air
     dt = sample_interval_s(rg)
@@ -239,7 +275,7 @@ def migrate(rg: Radargram, velocity_m_s: float, method: str = "fk",
         length = float(rg.position_m[-1] - rg.position_m[0])
         if aperture_m is None:
             aperture_m = length
-        aperture_m = check_range("aperture_m", aperture_m, dx, max(length, dx), unit="m")
+        aperture_m = check_param("migrate", "aperture_m", aperture_m, rg)
         v_half = 0.5 * (rms_velocity_m_s(t_ant, v, h) if h > 0.0 else v)
         out = _kirchhoff(rg.data, t_ant, dt, dx, v_half, aperture_m)
     rec = record("migrate", velocity_m_s=v, method=method, aperture_m=aperture_m,
