@@ -107,9 +107,9 @@ def _cpu_s(server: Launcher) -> dict[str, float]:
             out["kernels"] += used(process)
         except psutil.Error:
             continue
-    for process in psutil.process_iter(["exe"]):
+    for process in psutil.Process().children(recursive=True):  # our browser only
         try:
-            if process.info["exe"] and Path(process.info["exe"]).name.startswith("chrom"):
+            if process.name().startswith("chrom"):
                 out["browsers"] += used(process)
         except psutil.Error:
             continue
