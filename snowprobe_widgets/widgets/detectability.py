@@ -34,6 +34,7 @@ from snowprobe_widgets.scene import Scenario
 from snowprobe_widgets.widgets._common import (
     as_f32,
     caution_box,
+    download_link,
     dropdown,
     float_slider,
     int_slider,
@@ -242,6 +243,9 @@ class DetectabilityView(widgets.VBox):
                                             layout=widgets.Layout(width="380px"))
         self.progress_text = widgets.HTML()
         self.progress_text.add_class("sp-sweep-progress")
+        #: the finished (or cancelled) sweep as a netCDF download, for the plan page
+        self.download = widgets.HTML()
+        self.download.add_class("sp-sweep-download")
         self.level = float_slider("detector level (dB)", DEFAULT_THRESHOLD_DB, 10.0, 60.0,
                                   1.0, readout_format=".0f")
         self.contour = float_slider("probability contour", 0.9, 0.05, 0.99, 0.01)
@@ -273,7 +277,7 @@ class DetectabilityView(widgets.VBox):
             section_title("Scene and grid"), self.base_choice, self.field_x, self.field_y,
             section_title("What nobody knows exactly"), self.preset, self.realizations,
             widgets.HBox([self.run_button, self.cancel_button]),
-            widgets.HBox([self.progress, self.progress_text]), self.message,
+            widgets.HBox([self.progress, self.progress_text]), self.download, self.message,
         ])
         views = widgets.VBox([
             widgets.HBox([self.map_figure, self.alarm_figure]),
@@ -462,6 +466,9 @@ class DetectabilityView(widgets.VBox):
                                     else f"cancelled: {done} of {ds['done'].size} "
                                     "realizations kept")
         self._selected = None
+        self.download.value = download_link(
+            bytes(ds.to_netcdf(engine="scipy")), "detection-sweep.nc", "application/x-netcdf",
+            "download this sweep (netCDF)")
         self._resummarise()
 
     def _resummarise(self) -> None:

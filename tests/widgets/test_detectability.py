@@ -132,3 +132,26 @@ def test_the_design_app_has_the_view_in_a_tab_on_its_own_scene():
     assert view.run(wait=True)
     assert view.base == app.scenario and view.dataset is not None
     assert view.select_cell(2.0) and app.scenario.snowpack.layers[0].lwc_percent == 2.0
+
+
+def test_a_finished_sweep_leaves_as_a_netcdf_download(ran, tmp_path):
+    import base64
+    import datetime
+    import re
+
+    from snowprobe_widgets.widgets import SearchPlanBoard
+
+    match = re.search(r"download='([^']+)' href='data:application/x-netcdf;base64,([^']+)'",
+                      ran.download.value)
+    assert match and match.group(1).endswith(".nc")
+    payload = base64.b64decode(match.group(2))
+    (tmp_path / "sweep.nc").write_bytes(payload)
+    back = sweeps.load(tmp_path / "sweep.nc")  # the project's own reader accepts it
+    np.testing.assert_array_equal(back["done"].values, ran.dataset["done"].values)
+    # the plan page reads it as a sweep (it needs one across the lateral offset; this one
+    # varies the depth, so it is refused for that reason, after reading)
+    board = SearchPlanBoard()
+    board.sweep_upload.value = ({"name": "sweep.nc", "type": "", "size": len(payload),
+                                 "content": memoryview(payload),
+                                 "last_modified": datetime.datetime.now()},)
+    assert "did not vary 'persons[0].offset_m'" in message_text(board.message)
