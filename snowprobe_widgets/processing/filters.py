@@ -4,6 +4,8 @@ band-pass and envelope.
 
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 from scipy import ndimage, signal
 
@@ -179,6 +181,15 @@ def background_removal(rg: Radargram, method: str = "mean",
     return rg.with_data(data - bg, rec)
 
 
+@functools.lru_cache(maxsize=16)
+def _butter_bandpass(order: int, low_hz: float, high_hz: float, fs_hz: float) -> np.ndarray:
+    """Second-order sections of a Butterworth band-pass (designed once per setting: a
+    sweep filters thousands of sections alike)."""
+    sos = signal.butter(order, [low_hz, high_hz], btype="bandpass", fs=fs_hz, output="sos")
+    sos.setflags(write=False)  # callers filter with a copy (scipy wants a writable one)
+    return sos
+
+
 @STEPS.register("bandpass")
 def bandpass(rg: Radargram, low_hz: float, high_hz: float, order: int = 4) -> Radargram:
     """Zero-phase Butterworth band-pass (forward and backward second-order sections).
@@ -198,7 +209,7 @@ def bandpass(rg: Radargram, low_hz: float, high_hz: float, order: int = 4) -> Ra
     lo = check_range("low_hz", low_hz, 0.0, nyq, unit="Hz", low_open=True, high_open=True)
     hi = check_range("high_hz", high_hz, lo, nyq, unit="Hz", low_open=True, high_open=True)
     n = check_int("order", order, 1, 10)
-    sos = signal.butter(n, [lo, hi], btype="bandpass", fs=1.0 / dt, output="sos")
+    sos = _butter_bandpass(n, lo, hi, 1.0 / dt).copy()
     nt = rg.time_s.size
     padlen = min(3 * (2 * len(sos) + 1), nt - 1)
     out = signal.sosfiltfilt(sos, rg.data.T, axis=-1, padlen=padlen).T
