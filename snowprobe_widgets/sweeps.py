@@ -273,14 +273,17 @@ def _make_plan(base: Any, vary: Any, uncertain: Any, realizations: Any, seed: An
 
 
 def _check_plan(plan: _Plan) -> None:
-    """Refuse, before any work, every value and distribution bound the scenario refuses."""
+    """Refuse, before any work, every value and distribution bound outside the field's
+    declared range (:mod:`snowprobe_widgets.fields`) or refused by the scenario."""
     base = plan.base
     for path, values in plan.vary:
         for v in values:
+            path.check(v)
             path.set(base, v)
     for path, dist in plan.uncertain:
         for v in dist.extremes():
             try:
+                path.check(v)
                 path.set(base, v)
             except ValueError as exc:
                 raise ValueError(f"uncertain[{path.text!r}] reaches outside the field's "

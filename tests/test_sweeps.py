@@ -134,9 +134,12 @@ def test_parts_add_up_to_one_simulation():
 
 
 @pytest.mark.parametrize(("vary", "uncertain", "words"), [
-    ({"persons[0].deep_m": [1.0]}, None, ["persons[0].deep_m", "no field", "depth_m"]),
-    ({"persons[2].depth_m": [1.0]}, None, ["persons[2].depth_m", "index 2"]),
-    ({"radar": [1.0]}, None, ["radar", "group of fields"]),
+    ({"persons[0].deep_m": [1.0]}, None, ["persons[0].deep_m", "no declared field", "depth_m"]),
+    ({"persons[2].depth_m": [1.0]}, None, ["persons[2].depth_m", "only 1"]),
+    ({"radar": [1.0]}, None, ["'radar'", "no declared field"]),
+    ({"persons[0].posture": ["sitting"]}, None, ["persons[0].posture", "sitting",
+                                                 "lying_flat"]),
+    ({"clutter.seed": [1.5]}, None, ["clutter.seed", "1.5", "whole number"]),
     ({DEPTH: [0.5, 150.0]}, None, [DEPTH, "150", "[0, 100]"]),
     ({DEPTH: [0.5, 1.9]}, None, [DEPTH, "1.9", "deeper than the 2 m snowpack"]),
     ({DEPTH: [0.5]}, {WET: Uniform(0.0, 20.0)}, [WET, "20", "[0, 12] %"]),

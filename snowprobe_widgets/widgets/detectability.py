@@ -30,6 +30,7 @@ import numpy as np
 
 from snowprobe_widgets import sweeps
 from snowprobe_widgets.detection import DEFAULT_THRESHOLD_DB
+from snowprobe_widgets.fields import FieldError, check, declaration_at
 from snowprobe_widgets.scene import Scenario
 from snowprobe_widgets.widgets._common import (
     as_f32,
@@ -55,21 +56,30 @@ MAX_SWEEPS_AT_ONCE = 2
 #: Most grid cells x realizations one dashboard sweep may ask for.
 MAX_DASHBOARD_REALIZATIONS = 20_000
 
-#: Sweepable fields: label -> (path, display scale (SI per display unit), default range,
-#: allowed display range, decimals). Ranges lie inside the fields' own ranges; the
-#: sweep's checks still refuse a value the base scenario cannot take.
-SWEEP_FIELDS: dict[str, tuple[str, float, tuple[float, float], tuple[float, float], int]] = {
-    "burial depth (m)": ("persons[0].depth_m", 1.0, (0.3, 1.5), (0.05, 100.0), 2),
-    "liquid water, every layer (%)": ("snowpack.layers[*].lwc_percent", 1.0, (0.0, 6.0),
-                                      (0.0, 12.0), 1),
-    "density, every layer (kg/m3)": ("snowpack.layers[*].density_kg_m3", 1.0,
-                                     (150.0, 550.0), (30.0, 917.0), 0),
-    "offset from the line (m)": ("persons[0].offset_m", 1.0, (0.0, 1.5), (0.0, 5.0), 2),
-    "centre frequency (MHz)": ("radar.center_frequency_hz", 1e6, (300.0, 900.0),
-                               (50.0, 3000.0), 0),
-    "antenna height (m)": ("radar.antenna_height_m", 1.0, (0.2, 3.0), (0.05, 30.0), 2),
-    "trace spacing (m)": ("survey.trace_spacing_m", 1.0, (0.02, 0.1), (0.001, 100.0), 3),
+#: Sweepable fields and the range each starts with, in display units. Labels, units,
+#: scales, decimals and the allowed ranges come from the field declarations
+#: (:mod:`snowprobe_widgets.fields`, the same the design screen uses); the sweep's own
+#: checks still refuse a value the base scenario cannot take.
+_SWEEP_DEFAULTS: dict[str, tuple[float, float]] = {
+    "persons[0].depth_m": (0.3, 1.5),
+    "snowpack.layers[*].lwc_percent": (0.0, 6.0),
+    "snowpack.layers[*].density_kg_m3": (150.0, 550.0),
+    "persons[0].offset_m": (0.0, 1.5),
+    "radar.center_frequency_hz": (300.0, 900.0),
+    "radar.antenna_height_m": (0.2, 3.0),
+    "survey.trace_spacing_m": (2.0, 10.0),
 }
+
+
+def _sweep_label(path: str) -> str:
+    f = declaration_at(path)
+    every = (", every layer" if path.startswith("snowpack.layers[*]") else
+             " of person 1" if path.startswith("persons[0]") else "")
+    return f"{f.label}{every} ({f.display_unit})" if f.display_unit else f.label + every
+
+
+#: Sweepable fields: label on screen -> field path.
+SWEEP_FIELDS: dict[str, str] = {_sweep_label(p): p for p in _SWEEP_DEFAULTS}
 _NONE = "(none)"
 _PRESET_NONE = "none: clutter and noise only"
 _NAN_INDEX = 0  # palette entry for a cell with no finished realization (grey)
@@ -161,8 +171,7 @@ class _FieldRow(widgets.HBox):
         for w in (self.low, self.high, self.steps):
             w.disabled = not on
         if on:
-            _path, _scale, (lo, hi), _allowed, _dec = SWEEP_FIELDS[self.field.value]
-            self.low.value, self.high.value = lo, hi
+            self.low.value, self.high.value = _SWEEP_DEFAULTS[SWEEP_FIELDS[self.field.value]]
 
     def grid(self) -> tuple[str, list[float], list[float]] | None:
         """(path, SI values, display values), or None when no field is chosen.
@@ -175,19 +184,22 @@ class _FieldRow(widgets.HBox):
         if self.field.value == _NONE:
             return None
         label = self.field.value
-        path, scale, _default, (amin, amax), dec = SWEEP_FIELDS[label]
+        path = SWEEP_FIELDS[label]
+        f = declaration_at(path)
         lo, hi = float(self.low.value), float(self.high.value)
         for name, v in (("from", lo), ("to", hi)):
-            if not (math.isfinite(v) and amin <= v <= amax):
-                raise ValueError(f"{label} {name} = {v:g} is outside the allowed range "
-                                 f"[{amin:g}, {amax:g}]")
+            try:
+                check(f.group, f.name, f.to_si(v))
+            except FieldError as exc:
+                raise ValueError(f"{label} {name}: {exc.screen}") from None
         if not lo < hi:
             raise ValueError(f"{label}: from = {lo:g} must be below to = {hi:g}")
+        dec = f.decimals
         shown = [round(v, dec) for v in np.linspace(lo, hi, int(self.steps.value))]
         if len(set(shown)) != len(shown):
             raise ValueError(f"{label}: {len(shown)} values between {lo:g} and {hi:g} do not "
                              f"differ at {dec} decimals; fewer values or a wider range")
-        return path, [v * scale for v in shown], shown
+        return path, [f.to_si(v) for v in shown], shown
 
 
 class DetectabilityView(widgets.VBox):
@@ -226,8 +238,10 @@ class DetectabilityView(widgets.VBox):
         self.base_choice = dropdown("base scene", list(Scenario.examples()),
                                     self.base.name if self.base.name in Scenario.examples()
                                     else Scenario.examples()[0])
-        self.field_x = _FieldRow("field across", False, "burial depth (m)", "sp-field-x")
-        self.field_y = _FieldRow("field up", True, "liquid water, every layer (%)",
+        self.field_x = _FieldRow("field across", False, _sweep_label("persons[0].depth_m"),
+                                 "sp-field-x")
+        self.field_y = _FieldRow("field up", True,
+                                 _sweep_label("snowpack.layers[*].lwc_percent"),
                                  "sp-field-y")
         self.preset = dropdown("uncertain", [_PRESET_NONE, *sweeps.UNCERTAINTY_PRESETS],
                                "typical dry debris")
