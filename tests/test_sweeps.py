@@ -127,10 +127,17 @@ def test_parts_add_up_to_one_simulation():
     from snowprobe_widgets.synthesis import simulate
 
     sc = Scenario.example("crust_and_ski")
-    full, _twin, _parts = realization_radargrams(sc)
-    ref = simulate(sc)
-    # simulate is linear in its parts; the sum differs from one run only by rounding
-    assert np.max(np.abs(full.data - ref.data)) <= 1e-9 * np.max(np.abs(ref.data))
+    # the second scene differs in its clutter only, so it reuses the first one's
+    # persons' echo: the sum must still be its own full simulation
+    other = dataclasses.replace(sc, clutter=dataclasses.replace(
+        sc.clutter, seed=sc.clutter.seed + 1, scatterer_density_per_m3=3.0))
+    deeper = dataclasses.replace(sc, persons=(dataclasses.replace(
+        sc.persons[0], depth_m=sc.persons[0].depth_m + 0.1),) + sc.persons[1:])
+    for scene in (sc, other, deeper):
+        full, _twin, _parts = realization_radargrams(scene)
+        ref = simulate(scene)
+        # simulate is linear in its parts; the sum differs from one run only by rounding
+        assert np.max(np.abs(full.data - ref.data)) <= 1e-9 * np.max(np.abs(ref.data))
 
 
 @pytest.mark.parametrize(("vary", "uncertain", "words"), [
