@@ -252,6 +252,10 @@ class DetectabilityView(widgets.VBox):
         self.run_button.add_class("sp-sweep-run")
         self.cancel_button = widgets.Button(description="cancel", disabled=True)
         self.cancel_button.add_class("sp-sweep-cancel")
+        self.resume_button = widgets.Button(description="resume", disabled=True,
+                                            tooltip="run the realizations a cancelled "
+                                                    "sweep did not finish")
+        self.resume_button.add_class("sp-sweep-resume")
         self.progress = widgets.IntProgress(value=0, min=0, max=1, description="progress",
                                             layout=widgets.Layout(width="380px"))
         self.progress_text = widgets.HTML()
@@ -275,6 +279,7 @@ class DetectabilityView(widgets.VBox):
         self.base_choice.observe(self._on_base_choice, names="value")
         self.run_button.on_click(lambda _: self.run())
         self.cancel_button.on_click(lambda _: self.cancel())
+        self.resume_button.on_click(lambda _: self.resume())
         self.level.observe(lambda _: self._resummarise(), names="value")
         self.contour.observe(lambda _: self._draw(), names="value")
 
@@ -286,7 +291,7 @@ class DetectabilityView(widgets.VBox):
         controls = widgets.VBox([
             section_title("Scene and grid"), self.base_choice, self.field_x, self.field_y,
             section_title("What nobody knows exactly"), self.preset, self.realizations,
-            widgets.HBox([self.run_button, self.cancel_button]),
+            widgets.HBox([self.run_button, self.cancel_button, self.resume_button]),
             widgets.HBox([self.progress, self.progress_text]), self.message,
         ])
         views = widgets.VBox([
@@ -421,35 +426,65 @@ class DetectabilityView(widgets.VBox):
         except ValueError as exc:
             show_message(self.message, str(exc))
             return False
+        realizations = int(self.realizations.value)
+        base = self.base
+
+        def job(pool: Any, on_progress: Callable[[int, int], Any]) -> Any:
+            return sweeps.sweep(base, vary, uncertain=uncertain,
+                                realizations=realizations, executor=pool, progress=False,
+                                on_progress=on_progress, cancel=self._cancel, chunk_size=2)
+
+        total = int(np.prod([len(v) for v in vary.values()])) * realizations
+        return self._start(job, total, 0, wait, axes=shown)
+
+    def resume(self, wait: bool = False) -> bool:
+        """Run the realizations the shown (cancelled) sweep did not finish, in a worker
+        process; the result equals an uninterrupted run's. Returns False, with the
+        reason in the message line, when there is nothing to resume or a sweep runs."""
+        if self.running:
+            show_message(self.message, "a sweep is already running; cancel it first")
+            return False
+        ds = self.dataset
+        if ds is None or ds.attrs["complete"]:
+            show_message(self.message, "there is no cancelled sweep to resume")
+            return False
+
+        def job(pool: Any, on_progress: Callable[[int, int], Any]) -> Any:
+            return sweeps.resume(ds, executor=pool, progress=False, on_progress=on_progress,
+                                 cancel=self._cancel, chunk_size=2)
+
+        return self._start(job, int(ds["done"].size), int(ds["done"].sum()), wait)
+
+    def _start(self, job: Callable[[Any, Callable[[int, int], Any]], Any], total: int,
+               done_before: int, wait: bool, axes: list[list[float]] | None = None) -> bool:
+        """Run ``job(pool, on_progress)`` on a one-worker process pool from a thread
+        (``axes``: the display values of a new grid)."""
         if not self._slots.acquire():
             show_message(self.message, f"{self._slots.slots} sweeps are already running on "
                          "this server; try again when one has finished")
             return False
         show_message(self.message, "")
-        self._axes_values = shown
+        if axes is not None:
+            self._axes_values = axes
         self._cancel.clear()
         self.run_button.disabled = True
+        self.resume_button.disabled = True
         self.cancel_button.disabled = False
-        total = int(np.prod([len(v) for v in vary.values()])) * int(self.realizations.value)
-        self.progress.max, self.progress.value = total, 0
+        self.progress.max, self.progress.value = total, done_before
         self.progress_text.value = "starting a worker process"
         started = time.monotonic()
 
-        def on_progress(done: int, total: int) -> None:
-            self.progress.value = done
+        def on_progress(done: int, todo: int) -> None:
+            self.progress.value = done_before + done
             elapsed = time.monotonic() - started
-            left = elapsed / done * (total - done) if done else float("nan")
-            self.progress_text.value = (f"{done} of {total} realizations, about "
-                                        f"{left:.0f} s left" if done else "")
+            left = elapsed / done * (todo - done) if done else float("nan")
+            self.progress_text.value = (f"{done_before + done} of {total} realizations, "
+                                        f"about {left:.0f} s left" if done else "")
 
         def work() -> None:
             try:
                 with sweeps.local_pool(1) as pool:
-                    ds = sweeps.sweep(self.base, vary, uncertain=uncertain,
-                                      realizations=int(self.realizations.value),
-                                      executor=pool, progress=False,
-                                      on_progress=on_progress, cancel=self._cancel,
-                                      chunk_size=2)
+                    ds = job(pool, on_progress)
                 self._show_result(ds)
             except Exception as exc:  # shown, never raised into the page
                 show_message(self.message, f"the sweep failed: {exc}")
@@ -457,6 +492,8 @@ class DetectabilityView(widgets.VBox):
                 self._slots.release()
                 self.run_button.disabled = False
                 self.cancel_button.disabled = True
+                self.resume_button.disabled = not (self.dataset is not None and
+                                                   not self.dataset.attrs["complete"])
 
         self._thread = threading.Thread(target=work, daemon=True)
         self._thread.start()

@@ -103,6 +103,17 @@ def test_cancel_keeps_what_finished():
     assert view.dataset is not None and view.dataset.attrs["complete"] == 0
     assert int(view.dataset["done"].sum()) < 80
     assert "cancelled" in view.progress_text.value
+    assert not view.resume_button.disabled
+    partial = view.dataset
+    assert view.resume(wait=True)
+    ds = view.dataset
+    assert ds.attrs["complete"] == 1 and int(ds["done"].sum()) == 80
+    assert view.resume_button.disabled and "done: 80" in view.progress_text.value
+    # what the cancelled run kept is kept as it was
+    kept = partial["done"].values
+    np.testing.assert_array_equal(ds["found"].values[kept], partial["found"].values[kept])
+    assert not view.resume()
+    assert "no cancelled sweep" in message_text(view.message)
 
 
 def test_contour_of_a_ramp_crosses_where_it_should():
