@@ -79,6 +79,12 @@ def test_identical_in_process_on_a_pool_and_on_a_dask_cluster(tmp_path):
     xr.testing.assert_identical(serial, pooled)
     xr.testing.assert_identical(serial, on_dask)
     xr.testing.assert_identical(serial, sweeps.load(tmp_path / "cli.nc"))
+    # nothing uncertain but the clutter: the realizations of a cell share the persons'
+    # echo and the detector's migration map, computed once in this process and in each
+    # worker as its one-realization chunks arrive
+    plain = dict(realizations=4, seed=5, progress=False)
+    xr.testing.assert_identical(sweeps.sweep(base, vary, executor=1, **plain),
+                                sweeps.sweep(base, vary, executor=2, chunk_size=1, **plain))
 
 
 def test_probability_falls_with_depth_and_wetness():
