@@ -95,22 +95,30 @@ def _build_stolt_map(nt: int, nx: int, dt: float, dx: float, v_half: float,
     half = _SINC_HALF
     w_in = np.sqrt(w[:, None] ** 2 + (v_half * kx[None, :]) ** 2)
     read = w_in < (nf - 1) * dw  # read below Nyquist only
-    rows, cols = np.nonzero(read)
+    w_out = np.broadcast_to(w[:, None], read.shape)[read]
+    cols = np.broadcast_to(np.arange(nxf), read.shape)[read]
     w_read = w_in[read]
     idx = w_read / dw
     i0 = np.floor(idx).astype(np.intp)
     frac = idx - i0
     sin_pf = np.sin(np.pi * frac)
+    # Hann window cos(pi u / H) at u = frac - k, by the difference formula from one cosine
+    # and one sine of pi frac / H
+    cos_a, sin_a = np.cos(np.pi * frac / half), np.sin(np.pi * frac / half)
+    at_node = frac == 0.0  # u = 0 happens for k = 0 only (frac is in [0, 1))
     weight = np.empty((2 * half, w_read.size))
     for n, k in enumerate(range(-half + 1, half + 1)):
-        u = frac - k
+        hann = 0.5 + 0.5 * (cos_a * math.cos(math.pi * k / half)
+                            + sin_a * math.sin(math.pi * k / half))
         # sinc(u) = (-1)**k sin(pi frac) / (pi u), and 1 at u = 0
-        safe = np.where(u == 0.0, 1.0, u)
-        sinc = np.where(u == 0.0, 1.0, (-1.0) ** k * sin_pf / (np.pi * safe))
-        weight[n] = sinc * (0.5 + 0.5 * np.cos(np.pi * u / half))
+        if k == 0:
+            sinc = np.where(at_node, 1.0, sin_pf / (np.pi * np.where(at_node, 1.0, frac)))
+        else:
+            sinc = (-1.0) ** k / np.pi * sin_pf / (frac - k)
+        weight[n] = sinc * hann
     weight /= weight.sum(axis=0)
-    jac = np.divide(w[rows], w_read, out=np.ones_like(w_read), where=w_read > 0.0)
-    phase = np.exp(1j * (w[rows] * t_first_s - w_read * (t_first_s + t_mid)))
+    jac = np.divide(w_out, w_read, out=np.ones_like(w_read), where=w_read > 0.0)
+    phase = np.exp(1j * (w_out * t_first_s - w_read * (t_first_s + t_mid)))
     # extended spectrum rows: H-1 mirrored negative frequencies first (see _stolt)
     first = i0 * nxf + cols
     out = _StoltMap(ntf, nxf, np.exp(1j * w * t_mid), read, first, weight, jac * phase)
