@@ -48,7 +48,12 @@ from scipy import ndimage
 from . import processing as P
 from ._validate import check_range
 from .constants import C0_M_S
-from .processing._common import check_velocity, sample_interval_s, trace_spacing_m
+from .processing._common import (
+    check_velocity,
+    median_trace,
+    sample_interval_s,
+    trace_spacing_m,
+)
 from .radargram import Radargram, TruthMarker
 
 __all__ = [
@@ -329,7 +334,7 @@ def _detect_processed(rg: Radargram, col: _Column, fc: float, thr: float, zmin: 
     t_cut = t[a:b].reshape(-1, k).mean(axis=1) if k > 1 else t[a:b]
     # median background removal: what mean removal leaves of a wide echo (a flat copy at
     # 1/n_traces on every trace) would migrate into edge diffractions at the line ends
-    cut = cut - np.median(cut, axis=1, keepdims=True)
+    cut = cut - median_trace(cut)
     small = Radargram(cut, t_cut, rg.position_m)
     # RMS velocity at the middle of the searched depths, for Stolt's record time origin
     z_mid = 0.5 * (max(float(z_t[i_lo]), 0.0) + float(z_t[i_hi]))
@@ -340,7 +345,7 @@ def _detect_processed(rg: Radargram, col: _Column, fc: float, thr: float, zmin: 
     mig = P.migrate(small, v_mig).data
     # what is still flat after migration (the copy of a wide body's echo that mean
     # background removal leaves on every trace) goes with the median trace
-    mig = mig - np.median(mig, axis=1, keepdims=True)
+    mig = mig - median_trace(mig)
     env = P.envelope(small.with_data(mig)).data
     dtc = float(t_cut[1] - t_cut[0])
     n_sm = max(1, int(round(1.0 / fc / dtc)))  # one period, in samples

@@ -709,3 +709,13 @@ def test_a_tuned_chain_fitted_to_a_new_radar_processes_it(first, second):
     assert np.all(np.isfinite(fitted.apply(rg).data))
     assert dict(dict((s.name, s.params) for s in fitted.steps)["gain"])["power"] == 2.0
     assert tuned.fitted_to(first) == tuned  # nothing changes where everything fits
+
+
+@pytest.mark.parametrize("shape", [(40, 121), (40, 120), (7, 1), (7, 2), (30, 9)])
+def test_median_trace_equals_numpys_median(shape):
+    from snowprobe_widgets.processing._common import median_trace
+
+    rng = np.random.default_rng(shape[1])
+    data = np.round(rng.standard_normal(shape), 1)  # with ties
+    np.testing.assert_array_equal(median_trace(data),
+                                  np.median(data, axis=1, keepdims=True))

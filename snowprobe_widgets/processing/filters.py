@@ -15,6 +15,7 @@ from ._common import (
     STEPS,
     check_bool,
     check_int,
+    median_trace,
     record,
     sample_interval_s,
     shift_traces,
@@ -167,7 +168,7 @@ def background_removal(rg: Radargram, method: str = "mean",
         if method == "mean":
             bg = data.mean(axis=1, keepdims=True)
         else:
-            bg = np.median(data, axis=1, keepdims=True)
+            bg = median_trace(data)
     else:
         w = check_int("window_traces", window_traces, 3, max(nx, 3))
         if w % 2 == 0:
