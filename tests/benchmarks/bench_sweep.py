@@ -12,7 +12,9 @@ Run by hand: ``python tests/benchmarks/bench_sweep.py [--realizations N] [--map 
 2. A sweep of 2 depths x 2 wetness x N realizations (default 20) in this process, on two
    local worker processes and on a two-worker LocalCluster (processes, one thread each),
    each warmed up first (start-up printed apart); ratio to one core. Goal: >= 1.8x on
-   two workers.
+   two workers. The CPU time per realization, in this process and in the two workers,
+   shows what the ratio would be on two idle cores (the same CPU time per realization
+   on both sides: 2x, less the waits at the end of the sweep).
 3. With ``--map``: the 20 depths x 6 wetness x 50 realizations map (6,000 realizations,
    6,000 twins) on two local workers (``--map R``: R realizations a cell, and the time
    projected to 50); ``--map-preset`` adds an uncertainty preset. Goal: under 2 minutes
@@ -102,16 +104,21 @@ def executors(realizations: int) -> None:
     print(f"\nsweep of {n} realizations (+ {n} twins); workers warmed up by a 4-realization "
           "sweep first, start-up times shown apart:")
     _timed_sweep(base, vary, 1, 1)
+    c0 = time.process_time()
     ref, s1, r1 = _timed_sweep(base, vary, realizations, 1)
+    c1 = 1e3 * (time.process_time() - c0) / n
     print(f"  one core (in process)        {s1:7.1f} s  {r1:6.1f} realizations/s  1.00x   "
-          f"[{_load()}]")
+          f"CPU {c1:5.1f} ms/realization   [{_load()}]")
     t0 = time.perf_counter()
     with sweeps.local_pool(2) as pool:
         _timed_sweep(base, vary, 1, pool)
         up = time.perf_counter() - t0
+        cpu0 = _cpu_s(pool)
         ds2, s2, r2 = _timed_sweep(base, vary, realizations, pool)
+        c2 = 1e3 * (_cpu_s(pool) - cpu0) / n
     print(f"  two local worker processes   {s2:7.1f} s  {r2:6.1f} realizations/s  "
-          f"{r2 / r1:4.2f}x (goal >= {GOAL_RATIO}x; start-up {up:.1f} s)   [{_load()}]")
+          f"{r2 / r1:4.2f}x (goal >= {GOAL_RATIO}x; start-up {up:.1f} s)   workers' CPU "
+          f"{c2:5.1f} ms/realization   [{_load()}]")
     t0 = time.perf_counter()
     with LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
                       dashboard_address=None) as cluster, Client(cluster) as client:
