@@ -28,6 +28,8 @@ run gives. :func:`roc` moves the detector's level over the recorded scores.
 from __future__ import annotations
 
 import concurrent.futures as cf
+import contextlib
+import ctypes
 import functools
 import itertools
 import json
@@ -37,7 +39,7 @@ import os
 import signal
 import tempfile
 import threading
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Callable, Iterator, Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -316,9 +318,58 @@ def _check_plan(plan: _Plan) -> None:
 # --------------------------------------------------------------------------- workers
 
 
+#: glibc's mallopt parameters (malloc.h).
+_M_TRIM_THRESHOLD, _M_MMAP_THRESHOLD = -1, -3
+
+
+@functools.lru_cache(maxsize=1)
+def _glibc() -> Any:
+    try:
+        libc = ctypes.CDLL("libc.so.6")
+    except OSError:
+        return None
+    return libc if hasattr(libc, "mallopt") and hasattr(libc, "malloc_trim") else None
+
+
+@contextlib.contextmanager
+def _roomy_malloc() -> Iterator[None]:
+    """Let glibc keep freed memory for the next realization while a chunk runs.
+
+    Dask's nanny starts its workers with ``MALLOC_TRIM_THRESHOLD_=65536``, which also pins
+    glibc's mmap threshold at 128 kB: every array of a realization above that size then
+    comes from fresh pages (measured: 25-29 ms of CPU per realization without it, 50-60 ms
+    with it, a third of it system time). While a chunk runs the two thresholds are raised;
+    afterwards they are put back as that setting makes them and the freed memory is
+    returned to the system. Nothing changes where the variable is not set or the C
+    library is not glibc.
+    """
+    try:
+        trim = int(os.environ.get("MALLOC_TRIM_THRESHOLD_", ""))
+    except ValueError:
+        trim = None
+    libc = _glibc() if trim is not None else None
+    if libc is None:
+        yield
+        return
+    libc.mallopt(_M_MMAP_THRESHOLD, 16 * 2**20)
+    libc.mallopt(_M_TRIM_THRESHOLD, 256 * 2**20)
+    try:
+        yield
+    finally:
+        libc.mallopt(_M_TRIM_THRESHOLD, trim)
+        libc.mallopt(_M_MMAP_THRESHOLD, 128 * 2**10)  # glibc's fixed default
+        libc.malloc_trim(0)
+
+
 def _run_items(plan: _Plan, items: Sequence[tuple[int, int]]
                ) -> list[tuple[int, int, RealizationResult, list[Any], int]]:
     """Run realizations ``(cell, r)`` of ``plan`` (in a worker or in this process)."""
+    with _roomy_malloc():
+        return _run_chunk(plan, items)
+
+
+def _run_chunk(plan: _Plan, items: Sequence[tuple[int, int]]
+               ) -> list[tuple[int, int, RealizationResult, list[Any], int]]:
     out = []
     for cell, r in items:
         try:

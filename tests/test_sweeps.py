@@ -292,3 +292,33 @@ def test_sweeps_import_no_user_interface():
     res = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                          check=False)
     assert res.returncode == 0, res.stdout + res.stderr
+
+
+def test_dask_workers_malloc_setting_is_lifted_while_a_chunk_runs():
+    """Dask's nanny starts workers with MALLOC_TRIM_THRESHOLD_=65536 (every array above
+    128 kB then comes from fresh pages); inside a chunk glibc keeps freed memory."""
+    import os
+    import subprocess
+    import sys
+
+    if sweeps._glibc() is None:
+        pytest.skip("glibc only")
+    code = (
+        "import resource, numpy as np\n"
+        "from snowprobe_widgets import sweeps\n"
+        "def faults():\n"
+        "    f0 = resource.getrusage(resource.RUSAGE_SELF).ru_minflt\n"
+        "    for _ in range(50):\n"
+        "        a = np.ones(2**17); del a\n"
+        "    return resource.getrusage(resource.RUSAGE_SELF).ru_minflt - f0\n"
+        "plain = faults()\n"
+        "with sweeps._roomy_malloc():\n"
+        "    faults(); roomy = faults()\n"
+        "print(plain, roomy, faults())\n")
+    env = dict(os.environ, MALLOC_TRIM_THRESHOLD_="65536")
+    out = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True,
+                         text=True, check=True).stdout.split()
+    plain, roomy, after = (int(v) for v in out)
+    assert plain >= 50 * 100  # a 1 MB array on fresh pages: 256 faults each
+    assert roomy < plain / 10
+    assert after >= 50 * 100  # the worker's own setting is back afterwards
