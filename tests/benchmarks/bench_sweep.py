@@ -125,9 +125,12 @@ def executors(realizations: int) -> None:
                       dashboard_address=None) as cluster, Client(cluster) as client:
         _timed_sweep(base, vary, 1, client)
         up = time.perf_counter() - t0
+        cpu0 = sum(client.run(time.process_time).values())
         ds3, s3, r3 = _timed_sweep(base, vary, realizations, client)
+        c3 = 1e3 * (sum(client.run(time.process_time).values()) - cpu0) / n
     print(f"  two-worker LocalCluster      {s3:7.1f} s  {r3:6.1f} realizations/s  "
-          f"{r3 / r1:4.2f}x (start-up {up:.1f} s)   [{_load()}]")
+          f"{r3 / r1:4.2f}x (start-up {up:.1f} s)   workers' CPU {c3:5.1f} ms/realization   "
+          f"[{_load()}]")
     same = ds2.identical(ref) and ds3.identical(ref)
     print(f"  identical datasets: {same}")
 
