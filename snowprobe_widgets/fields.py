@@ -264,6 +264,12 @@ def _polarizations() -> tuple[str, ...]:
     return tuple(POLARIZATIONS)
 
 
+def _layer_models() -> tuple[str, ...]:
+    from .materials import layer_model_names
+
+    return layer_model_names()
+
+
 def _pulse_names() -> tuple[str, ...]:
     from .pulses import pulse_names
 
@@ -315,6 +321,9 @@ _DECLARED: list[Field] = [
             "snow slows the wave and absorbs it."),
     _f("layer", "ice_crust", "boolean", "Ice crust",
        help="A melt-freeze crust or ice lens: 700-917 kg/m³ and at most 0.3 m thick."),
+    _f("layer", "dielectric_model", "choice", "Dielectric model", choices=_layer_models,
+       help="Which published model turns density and water into permittivity: snow (the "
+            "default), a dry+wet pair, ice, or a plugin's model."),
     # ---- snowpack
     _f("snowpack", "temperature_c", "number", "Snow temperature", unit="degC",
        display_unit="°C", low=-50.0, high=0.0, step=0.5, decimals=1,

@@ -11,6 +11,13 @@ source. Where published models disagree (dry snow by about 3 %, wet snow by 15-3
 at 5 % water) the families offer several models by name through the :data:`MODELS` registry
 (keys ``"<family>:<model>"``); other packages add models through the entry-point group
 ``snowprobe_widgets.materials``.
+
+A scenario layer names its dielectric model (``Layer.dielectric_model``, default
+:data:`DEFAULT_LAYER_MODEL`, the package's snow model as it always was). The names a layer
+accepts (:func:`layer_model_names`) are the entries of :data:`LAYER_MODELS` (``"snow"``,
+``"ice"``, and plugins through the entry-point group ``snowprobe_widgets.layer_models``)
+and every pair ``"<dry model>+<wet model>"`` of :data:`MODELS` (``"kovacs+crim"``), plugin
+models included; :func:`layer_material` makes the material.
 """
 
 from __future__ import annotations
@@ -30,6 +37,7 @@ __all__ = [
     "clothing", "soil", "rock", "metal", "dry_snow_models", "wet_snow_models", "TISSUES",
     "velocity_m_ns", "attenuation_db_m", "wavelength_m", "loss_tangent", "refractive_index",
     "DEFAULT_DRY_SNOW_MODEL", "DEFAULT_WET_SNOW_MODEL", "TEMPERATURE_RANGE_C",
+    "LAYER_MODELS", "DEFAULT_LAYER_MODEL", "layer_material", "layer_model_names",
 ]
 
 #: Range of frequencies every constructor accepts, Hz (the synthesiser evaluates whole bands).
@@ -530,3 +538,58 @@ def metal() -> Material:
                     perfect_conductor=True)
 
 
+
+
+# --------------------------------------------------------------------------- layer models
+#: Dielectric models a scenario layer can name, ``model(density_kg_m3, lwc_percent,
+#: temperature_c) -> Material``; plugins add entries through the entry-point group
+#: ``snowprobe_widgets.layer_models``. Pairs ``"<dry>+<wet>"`` of :data:`MODELS` are
+#: accepted besides (see :func:`layer_model_names`).
+LAYER_MODELS = Registry("snowprobe_widgets.layer_models", "layer dielectric model")
+#: The model of a layer that names none: :func:`snow` with the default dry and wet models.
+DEFAULT_LAYER_MODEL = "snow"
+
+
+@LAYER_MODELS.register("snow")
+def _layer_snow(density_kg_m3: float, lwc_percent: float, temperature_c: float) -> Material:
+    """Snow: the default dry model, with water the default wet model's water term."""
+    return snow(density_kg_m3, lwc_percent, temperature_c=temperature_c)
+
+
+@LAYER_MODELS.register("ice")
+def _layer_ice(density_kg_m3: float, lwc_percent: float, temperature_c: float) -> Material:
+    """Solid ice (:func:`ice`) whatever the layer's density; it holds no liquid water."""
+    if lwc_percent != 0:
+        raise ValueError(f"lwc_percent = {lwc_percent:g} % is outside the allowed range "
+                         "[0, 0] % for dielectric_model = 'ice' (solid ice holds no liquid "
+                         "water)")
+    return ice(temperature_c)
+
+
+def _pairs() -> tuple[str, ...]:
+    return tuple(f"{d}+{w}" for d in dry_snow_models() for w in wet_snow_models())
+
+
+def layer_model_names() -> tuple[str, ...]:
+    """Names a layer's ``dielectric_model`` accepts: :data:`LAYER_MODELS` entries, then
+    every ``"<dry>+<wet>"`` pair of :func:`dry_snow_models` and :func:`wet_snow_models`."""
+    return LAYER_MODELS.names() + tuple(p for p in _pairs() if p not in LAYER_MODELS)
+
+
+def layer_material(model: str, density_kg_m3: float, lwc_percent: float = 0.0, *,
+                   temperature_c: float = -5.0) -> Material:
+    """The material of a layer of dielectric model ``model`` (a :func:`layer_model_names`
+    entry); ``"snow"`` is :func:`snow` with its default models.
+
+    Raises
+    ------
+    ValueError
+        If ``model`` is not a known name (the message lists the known ones).
+    """
+    if model in LAYER_MODELS:
+        return LAYER_MODELS.get(model)(density_kg_m3, lwc_percent, temperature_c)
+    dry, plus, wet = str(model).partition("+")
+    if not (plus and f"dry_snow:{dry}" in MODELS and f"wet_snow:{wet}" in MODELS):
+        check_choice("dielectric_model", model, layer_model_names())
+    return snow(density_kg_m3, lwc_percent, dry_model=dry, wet_model=wet,
+                temperature_c=temperature_c)

@@ -255,30 +255,33 @@ def _column_layers(scenario: Any, with_thin_layers: bool) -> tuple[list, list[fl
     snowpack = scenario.snowpack
     layers = list(snowpack.layers)
     bounds = [0.0] + list(snowpack.interfaces_m)
-    pieces: list[tuple[float, float, float, float]] = []  # (top, bottom, density, lwc)
+    # (top, bottom, density, lwc, the layer's dielectric model)
+    pieces: list[tuple[float, float, float, float, str]] = []
     for layer, top, bot in zip(layers, bounds[:-1], bounds[1:], strict=True):
-        pieces.append((top, bot, layer.density_kg_m3, layer.lwc_percent))
+        pieces.append((top, bot, layer.density_kg_m3, layer.lwc_percent,
+                       layer.dielectric_model))
     if with_thin_layers:
         field = scenario.clutter_field()
         for top, th, dd in zip(field.layer_depth_m, field.layer_thickness_m,
                                field.layer_density_change_kg_m3, strict=True):
             bot = top + th
-            new: list[tuple[float, float, float, float]] = []
-            for a, b, rho, w in pieces:
+            new: list[tuple[float, float, float, float, str]] = []
+            for a, b, rho, w, model in pieces:
                 if b <= top or a >= bot:
-                    new.append((a, b, rho, w))
+                    new.append((a, b, rho, w, model))
                     continue
                 if a < top:
-                    new.append((a, top, rho, w))
+                    new.append((a, top, rho, w, model))
                 lo, hi = max(a, top), min(b, bot)
                 rho2 = float(np.clip(rho + dd, 30.0, 917.0 * (1 - w / 100.0)))
-                new.append((lo, hi, rho2, w))
+                new.append((lo, hi, rho2, w, model))
                 if b > bot:
-                    new.append((bot, b, rho, w))
+                    new.append((bot, b, rho, w, model))
             pieces = new
     pieces = [p for p in pieces if p[1] - p[0] > 1e-6]
-    mats = [mat.snow(rho, w, temperature_c=snowpack.temperature_c) for _, _, rho, w in pieces]
-    thick = [b - a for a, b, _, _ in pieces]
+    mats = [mat.layer_material(model, rho, w, temperature_c=snowpack.temperature_c)
+            for _, _, rho, w, model in pieces]
+    thick = [b - a for a, b, *_ in pieces]
     return mats, thick
 
 
