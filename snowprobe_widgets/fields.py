@@ -436,11 +436,11 @@ _DECLARED: list[Field] = [
     _f("radar", "antenna_band_low_hz", "optional number", "Antenna band, low edge",
        unit="Hz", display_unit="MHz", scale=1e6, low=0.0, high=20e9, low_open=True, log=True,
        decimals=0, help="Lowest frequency the antenna radiates with its stated gain; empty: "
-                        "the pulse's own half-power band."),
+                        "the half-power band of the pulse sent and received."),
     _f("radar", "antenna_band_high_hz", "optional number", "Antenna band, high edge",
        unit="Hz", display_unit="MHz", scale=1e6, low=0.0, high=20e9, low_open=True, log=True,
        decimals=0, help="Highest frequency the antenna radiates with its stated gain; empty: "
-                        "the pulse's own half-power band."),
+                        "the half-power band of the pulse sent and received."),
     _f("radar", "dynamic_range_db", "number", "Dynamic range", unit="dB", display_unit="dB",
        low=20.0, high=200.0, step=1.0, decimals=0,
        help="How much weaker than the surface echo an echo may be and still be recorded "

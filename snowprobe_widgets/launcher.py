@@ -82,6 +82,14 @@ SESSIONS_PER_BROWSER: int = 2
 #: How long the server waits for a cell's outputs after the kernel's reply, seconds.
 IOPUB_WAIT_S: int = 300
 
+#: A warm session taken by a visitor is replaced this long afterwards, seconds: a class
+#: arriving together first gets its pages drawn (the browsers need the cores then), and
+#: the replacements start after.
+WARM_REFILL_DELAY_S: float = 20.0
+
+#: ``--warm`` without a number: size the warm pools from the session cap.
+WARM_FROM_CAP: int = -1
+
 #: Cookie naming a browser (a random id, nothing else), so a reload can free its sessions.
 VISITOR_COOKIE: str = "snowprobe_visitor"
 
@@ -173,9 +181,10 @@ class ServeOptions:
         Idle time after which a kernel with no open page is ended, in seconds.
     max_sessions : int
         Most kernels running at once; a visitor beyond that gets a "busy" page.
-    warm : bool
-        Keep one kernel per dashboard started and run in advance (faster first page,
-        one idle kernel per dashboard).
+    warm : int
+        Sessions per dashboard started and run in advance, before anyone asks (0: none).
+        A visitor gets one of them as a finished page; it is replaced
+        :data:`WARM_REFILL_DELAY_S` later. Each idle one costs a kernel's memory.
     open_browser : bool
         Open the address in this computer's web browser.
     workdir : pathlib.Path
@@ -194,7 +203,7 @@ class ServeOptions:
     port: int
     idle_s: float
     max_sessions: int
-    warm: bool
+    warm: int
     open_browser: bool
     workdir: Path
     verbose: bool
@@ -401,19 +410,33 @@ def _kernel_manager_class(options: ServeOptions) -> type:
             self._owner: dict[str, tuple[str, str]] = {}
             self._started: dict[str, float] = {}
             self._last_connected: dict[str, float] = {}
+            self._was_pooled: set[str] = set()
 
         def cwd_for_path(self, path: str, **kwargs: Any) -> str:
             return str(options.workdir)
 
         def _pooled(self) -> set[str]:
-            """Kernels Voila keeps warm for future visitors (never released here)."""
+            """Kernels Voila keeps warm for future visitors (never released here).
+
+            Voila's pools hold tasks whose result names the kernel. A kernel that left
+            the pool since the last look was just handed to a visitor: its time without
+            a page counts from now, not from when it was started in advance.
+            """
             pools = getattr(self, "_pools", {}) or {}
             ids: set[str] = set()
             for pool in pools.values():
                 for item in pool:
-                    kernel_id = item.get("kernel_id") if isinstance(item, dict) else None
+                    done = getattr(item, "done", None)
+                    if done is None or not done() or item.cancelled() or item.exception():
+                        continue
+                    kernel_id = item.result().get("kernel_id")
                     if isinstance(kernel_id, str):
                         ids.add(kernel_id)
+            now = time.time()
+            for kernel_id in self._was_pooled - ids:
+                if kernel_id in self._started:
+                    self._started[kernel_id] = now
+            self._was_pooled = ids
             return ids
 
         def _quiet_s(self, kernel_id: str, now: float) -> float | None:
@@ -490,8 +513,33 @@ def _kernel_manager_class(options: ServeOptions) -> type:
         def _start_releasing(self) -> None:
             if self._release_callback is None:
                 self._release_callback = PeriodicCallback(
-                    self.release_unattended, 1000 * RELEASE_CHECK_S)
+                    self._look_after, 1000 * RELEASE_CHECK_S)
                 self._release_callback.start()
+
+        async def _look_after(self) -> None:
+            await self.release_unattended()
+            self.refill_warm()
+
+        def refill_warm(self) -> int:
+            """Drop warm sessions that could not start (every slot was taken) and top the
+            warm pools up again as far as slots are free; return how many were started."""
+            pools = getattr(self, "_pools", None)
+            if not pools or not hasattr(self, "fill_if_needed"):
+                return 0
+            started = 0
+            for name, pool in pools.items():
+                for task in [t for t in pool
+                             if t.done() and (t.cancelled() or t.exception() is not None)]:
+                    pool.remove(task)
+                free = max_sessions - len(self._kernels) - self._starting
+                target = len(pool) + max(0, min(options.warm - len(pool), free))
+                default = self.kernel_pools_config.get("default", {})
+                self.kernel_pools_config = {**self.kernel_pools_config,
+                                            name: {**default, "pool_size": target}}
+                if target > len(pool):
+                    started += target - len(pool)
+                    self.fill_if_needed(delay=0, notebook_name=name)
+            return started
 
         async def start_kernel(self, *args: Any, **kwargs: Any) -> str:
             self._start_releasing()
@@ -590,8 +638,9 @@ def _voila_config(options: ServeOptions, boards: Sequence[Dashboard], token: str
     # sent pages without their dashboard that stayed blank for ever (measured:
     # tests/benchmarks/bench_crowd.py). The outputs do come; wait for them.
     config.VoilaExecutor.iopub_timeout = IOPUB_WAIT_S
-    config.VoilaConfiguration.preheat_kernel = options.warm
-    config.VoilaConfiguration.default_pool_size = 1
+    config.VoilaConfiguration.preheat_kernel = options.warm > 0
+    config.VoilaConfiguration.default_pool_size = max(1, options.warm)
+    config.VoilaKernelManager.fill_delay = WARM_REFILL_DELAY_S
     config.MappingKernelManager.cull_idle_timeout = idle_s
     config.MappingKernelManager.cull_interval = max(1, min(60, idle_s // 4))
     config.MappingKernelManager.cull_connected = True
@@ -892,9 +941,14 @@ def build_parser() -> argparse.ArgumentParser:
     )
     serve_parser.add_argument(
         "--warm",
-        action="store_true",
-        help="keep one session per dashboard ready in advance (faster first page, "
-        "one idle kernel per dashboard)",
+        nargs="?",
+        const=WARM_FROM_CAP,
+        default=0,
+        type=_bounded_int(1, 64, "--warm"),
+        metavar="N",
+        help="keep N sessions per dashboard started and drawn in advance, so that people "
+        "arriving together get finished pages (without N: --max-sessions shared among "
+        "the dashboards served); each waiting session holds a kernel's memory",
     )
     serve_parser.add_argument(
         "--no-browser", action="store_true", help="do not open a web browser"
@@ -919,6 +973,25 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def warm_sessions(asked: int, max_sessions: int, dashboards: int) -> int:
+    """Sessions to keep ready per dashboard for ``--warm`` (:data:`WARM_FROM_CAP`: the
+    session cap shared among the ``dashboards`` served, at least one each).
+
+    Raises
+    ------
+    LauncherError
+        When the ready sessions of all dashboards would exceed ``max_sessions``.
+    """
+    if asked == WARM_FROM_CAP:
+        return max(1, max_sessions // max(1, dashboards))
+    if asked * dashboards > max_sessions:
+        raise LauncherError(
+            f"--warm {asked} for {dashboards} dashboard(s) keeps {asked * dashboards} "
+            f"sessions ready, more than --max-sessions {max_sessions}: lower --warm or "
+            "raise --max-sessions")
+    return asked
+
+
 def _serve_options(args: argparse.Namespace) -> ServeOptions:
     boards = find_dashboards()
     board = None
@@ -937,7 +1010,7 @@ def _serve_options(args: argparse.Namespace) -> ServeOptions:
         port=args.port,
         idle_s=args.idle_minutes * 60.0,
         max_sessions=args.max_sessions,
-        warm=args.warm,
+        warm=warm_sessions(args.warm, args.max_sessions, 1 if board else len(boards)),
         open_browser=interactive and not args.no_browser,
         workdir=Path.cwd(),
         verbose=args.verbose,

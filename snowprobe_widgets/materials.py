@@ -24,6 +24,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass, field
+from functools import lru_cache
 
 import numpy as np
 
@@ -179,16 +180,23 @@ def ice_real(temperature_c: float) -> float:
     return 3.1884 + 9.1e-4 * temperature_c
 
 
-def ice_imag(f: np.ndarray, temperature_c: float) -> np.ndarray:
-    """Loss eps'' of pure ice, Mätzler (2006) 'Microwave dielectric properties of ice', §5.3."""
+@lru_cache(maxsize=64)
+def _ice_loss_terms(temperature_c: float) -> tuple[float, float]:
+    # the temperature-only parts of Matzler (2006) sec. 5.3, once per temperature
     tk = temperature_c + 273.15
     theta = 300.0 / tk - 1.0
+    alpha = (0.00504 + 0.0062 * theta) * float(np.exp(-22.1 * theta))
+    b1, b = 0.0207, 335.0
+    beta_0 = (b1 / tk) * float(np.exp(b / tk)) / (float(np.exp(b / tk)) - 1.0) ** 2
+    dbeta = float(np.exp(-9.963 + 0.0372 * (tk - 273.16)))
+    return alpha, beta_0 + dbeta
+
+
+def ice_imag(f: np.ndarray, temperature_c: float) -> np.ndarray:
+    """Loss eps'' of pure ice, Mätzler (2006) 'Microwave dielectric properties of ice', §5.3."""
+    alpha, beta = _ice_loss_terms(float(temperature_c))
     fg = f * 1e-9
-    alpha = (0.00504 + 0.0062 * theta) * np.exp(-22.1 * theta)
-    b1, b, b2 = 0.0207, 335.0, 1.16e-11
-    beta_m = (b1 / tk) * np.exp(b / tk) / (np.exp(b / tk) - 1.0) ** 2 + b2 * fg**2
-    dbeta = np.exp(-9.963 + 0.0372 * (tk - 273.16))
-    return alpha / fg + (beta_m + dbeta) * fg
+    return alpha / fg + (beta + 1.16e-11 * fg**2) * fg
 
 
 def _ice(f: np.ndarray, temperature_c: float) -> np.ndarray:
@@ -204,9 +212,9 @@ def _dry_snow(f: np.ndarray, eps_real: float, v_ice: float, temperature_c: float
     return eps_real - 1j * _dry_loss(f, v_ice, temperature_c)
 
 
-def water_debye(f: np.ndarray, temperature_c: float) -> np.ndarray:
-    """Pure water, double Debye of Meissner & Wentz (2004, IEEE TGRS 42(9), eqs. 5-6)."""
-    t = temperature_c
+@lru_cache(maxsize=64)
+def _water_terms(t: float) -> tuple[float, float, float, float, float]:
+    # the temperature-only parts of Meissner & Wentz (2004), once per temperature
     a = (5.7230, 2.2379e-2, -7.1237e-4, 5.0478, -7.0315e-2, 6.0059e-4,
          3.6143, 2.8841e-2, 1.3652e-1, 1.4825e-3, 2.4166e-4)
     eps_s = (37088.6 - 82.168 * t) / (421.854 + t)
@@ -214,6 +222,12 @@ def water_debye(f: np.ndarray, temperature_c: float) -> np.ndarray:
     nu_1 = (45.0 + t) / (a[3] + a[4] * t + a[5] * t**2)
     eps_inf = a[6] + a[7] * t
     nu_2 = (45.0 + t) / (a[8] + a[9] * t + a[10] * t**2)
+    return eps_s, eps_1, nu_1, eps_inf, nu_2
+
+
+def water_debye(f: np.ndarray, temperature_c: float) -> np.ndarray:
+    """Pure water, double Debye of Meissner & Wentz (2004, IEEE TGRS 42(9), eqs. 5-6)."""
+    eps_s, eps_1, nu_1, eps_inf, nu_2 = _water_terms(float(temperature_c))
     fg = f * 1e-9
     # their e^{-i omega t} form eps_s/(1 - i f/nu); conjugated to our e^{+j omega t}
     relax_1 = (eps_s - eps_1) / (1 + 1j * fg / nu_1)

@@ -30,6 +30,7 @@ __all__ = [
     "limits_for_memory",
     "served",
     "work_limits",
+    "work_of",
 ]
 
 #: Set to "1" by ``snowprobe serve`` for its kernels.
@@ -85,13 +86,20 @@ class WorkLimits:
                 "wider trace spacing or a shorter line) or fewer samples (a shorter time "
                 "window or a coarser sampling interval)")
         scatterers = scenario.clutter_field().n_scatterers
-        work = float(cells) * max(scatterers, 1)
+        work = work_of(scenario)
         if work > self.max_work:
             raise ValueError(
                 f"this survey asks for {traces:,} traces x {samples:,} samples x "
                 f"{scatterers:,} clutter scatterers = {work:.3g} units of work, over this "
                 f"page's limit of {self.max_work:.3g}: lower the clutter scatterer density, "
                 "use fewer traces (a wider spacing or a shorter line) or fewer samples")
+
+
+def work_of(scenario: Any) -> float:
+    """Samples x traces x clutter scatterers (at least one) of a scenario's update: what
+    :attr:`WorkLimits.max_work` bounds, about 1 ns each on one core."""
+    cells = scenario.radar.n_samples * scenario.survey.n_traces
+    return float(cells) * max(scenario.clutter_field().n_scatterers, 1)
 
 
 def limits_for_memory(memory_mb: float) -> WorkLimits:

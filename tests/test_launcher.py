@@ -365,3 +365,14 @@ def test_a_page_never_connected_is_released_and_a_reload_frees_the_old_session(
                "unconnected session released", poll_s=1.0)
     waited = time.monotonic() - start
     assert launcher.NEVER_CONNECTED_S * 0.5 < waited < launcher.NEVER_CONNECTED_S + 30
+
+
+def test_warm_sessions_come_from_the_session_cap_or_are_refused_beyond_it():
+    assert launcher.warm_sessions(0, 8, 5) == 0
+    assert launcher.warm_sessions(launcher.WARM_FROM_CAP, 20, 1) == 20
+    assert launcher.warm_sessions(launcher.WARM_FROM_CAP, 8, 5) == 1
+    assert launcher.warm_sessions(launcher.WARM_FROM_CAP, 3, 5) == 1
+    assert launcher.warm_sessions(3, 15, 5) == 3
+    with pytest.raises(launcher.LauncherError, match=r"--warm 4 .* 20 sessions .* "
+                                                     r"--max-sessions 15"):
+        launcher.warm_sessions(4, 15, 5)

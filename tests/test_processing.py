@@ -709,3 +709,33 @@ def test_a_tuned_chain_fitted_to_a_new_radar_processes_it(first, second):
     assert np.all(np.isfinite(fitted.apply(rg).data))
     assert dict(dict((s.name, s.params) for s in fitted.steps)["gain"])["power"] == 2.0
     assert tuned.fitted_to(first) == tuned  # nothing changes where everything fits
+
+
+def test_chain_reports_progress_after_each_enabled_step_and_stops_on_request():
+    rg = rg_of(np.random.default_rng(3).normal(size=(256, 12)))
+    chain = P.ProcessingChain.default(800e6).with_enabled("time_zero", False)
+    steps = [s.name for s in chain.steps if s.enabled]
+    seen: list[float] = []
+    out = chain.apply(rg, seen.append)
+    assert seen == [k / len(steps) for k in range(1, len(steps) + 1)]
+    assert [r.step for r in out.history] == steps
+    assert chain.apply(rg).data.tobytes() == out.data.tobytes()  # same result without it
+
+    class Stop(Exception):
+        pass
+
+    def stop(fraction: float) -> None:
+        raise Stop
+
+    with pytest.raises(Stop):
+        chain.apply(rg, stop)
+
+
+@pytest.mark.parametrize("shape", [(40, 121), (40, 120), (7, 1), (7, 2), (30, 9)])
+def test_median_trace_equals_numpys_median(shape):
+    from snowprobe_widgets.processing._common import median_trace
+
+    rng = np.random.default_rng(shape[1])
+    data = np.round(rng.standard_normal(shape), 1)  # with ties
+    np.testing.assert_array_equal(median_trace(data),
+                                  np.median(data, axis=1, keepdims=True))

@@ -167,3 +167,21 @@ def sample_rows(data: np.ndarray, index: np.ndarray) -> np.ndarray:
     k0 = i0 * nx + np.arange(nx)
     out = flat[k0] * (1.0 - frac) + flat[np.minimum(k0 + nx, flat.size - 1)] * frac
     return np.where(inside, out, 0.0)
+
+
+def median_trace(data: np.ndarray) -> np.ndarray:
+    """The median over the traces of every sample row, shape (n_samples, 1).
+
+    Equal to ``np.median(data, axis=1, keepdims=True)`` for finite data (a radargram
+    holds no NaN), from a single selection per row: the middle element, and for an even
+    number of traces the largest element below it, averaged as numpy averages them.
+    Several times faster than numpy's two-index selection on a sweep's sections.
+    """
+    n = data.shape[1]
+    half = n // 2
+    part = np.partition(data, half, axis=1)
+    upper = part[:, half:half + 1]
+    if n % 2:
+        return upper.copy()
+    lower = part[:, :half].max(axis=1, keepdims=True)
+    return np.mean(np.concatenate([lower, upper], axis=1), axis=1, keepdims=True)

@@ -5,7 +5,7 @@ from __future__ import annotations
 import inspect
 import json
 import math
-from collections.abc import Iterable, Mapping
+from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass
 from typing import Any
 
@@ -172,13 +172,21 @@ class ProcessingChain:
         object.__setattr__(self, "steps", steps)
 
     # ---------------------------------------------------------------- running
-    def apply(self, rg: Radargram) -> Radargram:
-        """Run the enabled steps in order; each appends its record to the history."""
+    def apply(self, rg: Radargram,
+              progress: Callable[[float], None] | None = None) -> Radargram:
+        """Run the enabled steps in order; each appends its record to the history.
+
+        ``progress``, when given, is called with the fraction of enabled steps done after
+        each one (a long chain, such as a migration of a long line, can show it; an
+        exception it raises stops the chain).
+        """
         if not isinstance(rg, Radargram):
             raise ValueError(f"radargram must be a Radargram, got {type(rg).__name__}")
-        for step in self.steps:
-            if step.enabled:
-                rg = step.apply(rg)
+        enabled = [step for step in self.steps if step.enabled]
+        for done, step in enumerate(enabled, start=1):
+            rg = step.apply(rg)
+            if progress is not None:
+                progress(done / len(enabled))
         return rg
 
     # ---------------------------------------------------------------- building

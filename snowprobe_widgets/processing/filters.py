@@ -4,6 +4,8 @@ band-pass and envelope.
 
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 from scipy import ndimage, signal
 
@@ -13,6 +15,7 @@ from ._common import (
     STEPS,
     below_nyquist,
     check_param,
+    median_trace,
     record,
     record_times,
     record_window,
@@ -208,7 +211,7 @@ def background_removal(rg: Radargram, method: str = "mean",
         if method == "mean":
             bg = data.mean(axis=1, keepdims=True)
         else:
-            bg = np.median(data, axis=1, keepdims=True)
+            bg = median_trace(data)
     else:
         w = check_param("background_removal", "window_traces", window_traces, rg)
         if w % 2 == 0:
@@ -220,6 +223,15 @@ def background_removal(rg: Radargram, method: str = "mean",
             bg = ndimage.median_filter(data, size=(1, w), mode="reflect")
     rec = record("background_removal", method=method, window_traces=window_traces)
     return rg.with_data(data - bg, rec)
+
+
+@functools.lru_cache(maxsize=16)
+def _butter_bandpass(order: int, low_hz: float, high_hz: float, fs_hz: float) -> np.ndarray:
+    """Second-order sections of a Butterworth band-pass (designed once per setting: a
+    sweep filters thousands of sections alike)."""
+    sos = signal.butter(order, [low_hz, high_hz], btype="bandpass", fs=fs_hz, output="sos")
+    sos.setflags(write=False)  # callers filter with a copy (scipy wants a writable one)
+    return sos
 
 
 @STEPS.register("bandpass")
@@ -240,7 +252,7 @@ def bandpass(rg: Radargram, low_hz: float, high_hz: float, order: int = 4) -> Ra
     lo = check_param("bandpass", "low_hz", low_hz, rg)
     hi = check_param("bandpass", "high_hz", high_hz, rg, low=lo)
     n = check_param("bandpass", "order", order)
-    sos = signal.butter(n, [lo, hi], btype="bandpass", fs=1.0 / dt, output="sos")
+    sos = _butter_bandpass(n, lo, hi, 1.0 / dt).copy()
     nt = rg.time_s.size
     padlen = min(3 * (2 * len(sos) + 1), nt - 1)
     out = signal.sosfiltfilt(sos, rg.data.T, axis=-1, padlen=padlen).T

@@ -21,7 +21,9 @@ phase-shift-plus-interpolation).
 
 from __future__ import annotations
 
+import functools
 import math
+from dataclasses import dataclass
 
 import numpy as np
 from scipy import fft as sfft
@@ -83,6 +85,9 @@ declare(
 _SINC_HALF = 4
 #: Ratio of neighbouring reference velocities of the f-k migration through an air gap.
 _REF_STEP = 1.02
+#: Largest section (samples x traces) whose Stolt map is kept for the next call of the
+#: same geometry (the map takes about 200 bytes per sample).
+_CACHED_MAP_SAMPLES = 100_000
 
 
 def rms_velocity_m_s(time_from_antenna_s: np.ndarray, velocity_m_s: float,
@@ -100,6 +105,76 @@ def rms_velocity_m_s(time_from_antenna_s: np.ndarray, velocity_m_s: float,
     return np.where(t > t_air, np.sqrt(v2), C0_M_S)
 
 
+@dataclass(frozen=True, eq=False)
+class _StoltMap:
+    """Where and with which weights Stolt's mapping reads the input spectrum (it depends
+    on the section's shape, sampling and velocity only, not on its data)."""
+
+    ntf: int
+    nxf: int
+    shift: np.ndarray  # (nf,) exp(j w t_mid): the spectrum referred to the record middle
+    read: np.ndarray  # (nf, nxf) bool: output bins read below Nyquist
+    first: np.ndarray  # (n_read,) flat index of the first tap in the extended spectrum
+    weight: np.ndarray  # (2 _SINC_HALF, n_read) tap weights, normalised to sum 1
+    factor: np.ndarray  # (n_read,) Jacobian times the time-origin phase
+
+
+def _build_stolt_map(nt: int, nx: int, dt: float, dx: float, v_half: float,
+                     t_first_s: float) -> _StoltMap:
+    ntf = sfft.next_fast_len(2 * nt, real=True)
+    nxf = sfft.next_fast_len(2 * nx)
+    w = 2.0 * np.pi * sfft.rfftfreq(ntf, dt)
+    nf = w.size
+    dw = w[1]
+    kx = 2.0 * np.pi * sfft.fftfreq(nxf, dx)
+    t_mid = 0.5 * (nt - 1) * dt  # record middle, from the first sample
+    half = _SINC_HALF
+    w_in = np.sqrt(w[:, None] ** 2 + (v_half * kx[None, :]) ** 2)
+    read = w_in < (nf - 1) * dw  # read below Nyquist only
+    w_out = np.broadcast_to(w[:, None], read.shape)[read]
+    cols = np.broadcast_to(np.arange(nxf), read.shape)[read]
+    w_read = w_in[read]
+    idx = w_read / dw
+    i0 = np.floor(idx).astype(np.intp)
+    frac = idx - i0
+    sin_pf = np.sin(np.pi * frac)
+    # Hann window cos(pi u / H) at u = frac - k, by the difference formula from one cosine
+    # and one sine of pi frac / H
+    cos_a, sin_a = np.cos(np.pi * frac / half), np.sin(np.pi * frac / half)
+    at_node = frac == 0.0  # u = 0 happens for k = 0 only (frac is in [0, 1))
+    weight = np.empty((2 * half, w_read.size))
+    for n, k in enumerate(range(-half + 1, half + 1)):
+        hann = 0.5 + 0.5 * (cos_a * math.cos(math.pi * k / half)
+                            + sin_a * math.sin(math.pi * k / half))
+        # sinc(u) = (-1)**k sin(pi frac) / (pi u), and 1 at u = 0
+        if k == 0:
+            sinc = np.where(at_node, 1.0, sin_pf / (np.pi * np.where(at_node, 1.0, frac)))
+        else:
+            sinc = (-1.0) ** k / np.pi * sin_pf / (frac - k)
+        weight[n] = sinc * hann
+    weight /= weight.sum(axis=0)
+    jac = np.divide(w_out, w_read, out=np.ones_like(w_read), where=w_read > 0.0)
+    phase = np.exp(1j * (w_out * t_first_s - w_read * (t_first_s + t_mid)))
+    # extended spectrum rows: H-1 mirrored negative frequencies first (see _stolt)
+    first = i0 * nxf + cols
+    out = _StoltMap(ntf, nxf, np.exp(1j * w * t_mid), read, first, weight, jac * phase)
+    for arr in (out.shift, out.read, out.first, out.weight, out.factor):
+        arr.setflags(write=False)
+    return out
+
+
+_cached_stolt_map = functools.lru_cache(maxsize=2)(_build_stolt_map)
+
+
+def _stolt_map(nt: int, nx: int, dt: float, dx: float, v_half: float,
+               t_first_s: float) -> _StoltMap:
+    """The map of a section, kept for the next sections of the same geometry when it
+    is small (a detector migrates a scene and its twin alike)."""
+    if nt * nx <= _CACHED_MAP_SAMPLES:
+        return _cached_stolt_map(nt, nx, dt, dx, v_half, t_first_s)
+    return _build_stolt_map(nt, nx, dt, dx, v_half, t_first_s)
+
+
 def _stolt(data: np.ndarray, t_first_s: float, dt: float, dx: float,
            v_half: float) -> np.ndarray:
     """Stolt (1978) f-k migration, constant velocity, exploding reflector velocity v_half.
@@ -112,43 +187,21 @@ def _stolt(data: np.ndarray, t_first_s: float, dt: float, dx: float,
     the true time origin is put back exactly afterwards.
     """
     nt, nx = data.shape
-    ntf = sfft.next_fast_len(2 * nt, real=True)
-    nxf = sfft.next_fast_len(2 * nx)
-    spec = sfft.fft(sfft.rfft(data, n=ntf, axis=0), n=nxf, axis=1)
-    nf = spec.shape[0]
-    w = 2.0 * np.pi * sfft.rfftfreq(ntf, dt)
-    dw = w[1]
-    kx = 2.0 * np.pi * sfft.fftfreq(nxf, dx)
-    t_mid = 0.5 * (nt - 1) * dt  # record middle, from the first sample
-    spec *= np.exp(1j * w * t_mid)[:, None]
+    m = _stolt_map(nt, nx, float(dt), float(dx), float(v_half), float(t_first_s))
+    nxf = m.nxf
+    spec = sfft.fft(sfft.rfft(data, n=m.ntf, axis=0), n=nxf, axis=1)
+    spec *= m.shift[:, None]
     # rows -H+1..-1 (negative frequencies: conj at -kx) and H rows of zeros above Nyquist
     half = _SINC_HALF
     neg_kx = (-np.arange(nxf)) % nxf
     below = np.conj(spec[half - 1:0:-1][:, neg_kx])
-    ext = np.concatenate([below, spec, np.zeros((half, nxf), dtype=spec.dtype)])
-    w_in = np.sqrt(w[:, None] ** 2 + (v_half * kx[None, :]) ** 2)
-    rows, cols = np.nonzero(w_in < (nf - 1) * dw)  # read below Nyquist only
-    w_read = w_in[rows, cols]
-    idx = w_read / dw
-    i0 = np.floor(idx).astype(np.intp)
-    frac = idx - i0
-    flat = ext.ravel()
-    sin_pf = np.sin(np.pi * frac)
-    acc = np.zeros(w_read.shape, dtype=complex)
-    wsum = np.zeros(w_read.shape)
-    for k in range(-half + 1, half + 1):
-        u = frac - k
-        # sinc(u) = (-1)**k sin(pi frac) / (pi u), and 1 at u = 0
-        safe = np.where(u == 0.0, 1.0, u)
-        sinc = np.where(u == 0.0, 1.0, (-1.0) ** k * sin_pf / (np.pi * safe))
-        wk = sinc * (0.5 + 0.5 * np.cos(np.pi * u / half))
-        acc += wk * flat[(i0 + (k + half - 1)) * nxf + cols]
-        wsum += wk
-    jac = np.divide(w[rows], w_read, out=np.ones_like(w_read), where=w_read > 0.0)
-    phase = np.exp(1j * (w[rows] * t_first_s - w_read * (t_first_s + t_mid)))
-    out = np.zeros(w_in.shape, dtype=complex)
-    out[rows, cols] = acc / wsum * jac * phase
-    out = sfft.irfft(sfft.ifft(out, axis=1)[:, :nx], n=ntf, axis=0)[:nt]
+    flat = np.concatenate([below, spec, np.zeros((half, nxf), dtype=spec.dtype)]).ravel()
+    acc = np.zeros(m.first.size, dtype=complex)
+    for n in range(2 * half):
+        acc += m.weight[n] * flat.take(m.first + n * nxf)
+    out = np.zeros(m.read.shape, dtype=complex)
+    out[m.read] = acc * m.factor
+    out = sfft.irfft(sfft.ifft(out, axis=1)[:, :nx], n=m.ntf, axis=0)[:nt]
     return np.ascontiguousarray(out)
 
 

@@ -12,27 +12,49 @@ importable too.
 
 from __future__ import annotations
 
-from snowprobe_widgets.widgets.detectability import DetectabilityView
-from snowprobe_widgets.widgets.explorer import CachedSimulation, ScenarioExplorer
-from snowprobe_widgets.widgets.materials_lab import MaterialsExplorer
-from snowprobe_widgets.widgets.palette_png import (
-    COLOUR_MAP_KINDS,
-    COLOUR_MAPS,
-    colour_map,
-    encode_palette_png,
-    scale_to_index,
-)
-from snowprobe_widgets.widgets.panels import (
-    DebrisPanel,
-    PersonPanel,
-    RadarPanel,
-    SnowpackEditor,
-)
-from snowprobe_widgets.widgets.plan import SearchPlanBoard
-from snowprobe_widgets.widgets.processing_panel import ProcessingPanel
-from snowprobe_widgets.widgets.radargram_view import RadargramView
-from snowprobe_widgets.widgets.training import TrainingSession
-from snowprobe_widgets.widgets.views import BudgetView, CrossSectionView, SpectrumView, TraceView
+import importlib
+from typing import Any
+
+#: Where each public name lives. The names are imported on first use (PEP 562), so a
+#: dashboard kernel loads only the app it shows: every kernel of a served page pays for
+#: its imports in start-up time and memory (tests/benchmarks/bench_crowd.py).
+_HOME: dict[str, str] = {
+    "DetectabilityView": "detectability",
+    "CachedSimulation": "explorer",
+    "ScenarioExplorer": "explorer",
+    "MaterialsExplorer": "materials_lab",
+    "COLOUR_MAP_KINDS": "palette_png",
+    "COLOUR_MAPS": "palette_png",
+    "colour_map": "palette_png",
+    "encode_palette_png": "palette_png",
+    "scale_to_index": "palette_png",
+    "DebrisPanel": "panels",
+    "PersonPanel": "panels",
+    "RadarPanel": "panels",
+    "SnowpackEditor": "panels",
+    "SearchPlanBoard": "plan",
+    "ProcessingPanel": "processing_panel",
+    "RadargramView": "radargram_view",
+    "TrainingSession": "training",
+    "BudgetView": "views",
+    "CrossSectionView": "views",
+    "SpectrumView": "views",
+    "TraceView": "views",
+}
+
+
+def __getattr__(name: str) -> Any:
+    """Import a public name's module on first use."""
+    if name not in _HOME:
+        raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+    value = getattr(importlib.import_module(f"{__name__}.{_HOME[name]}"), name)
+    globals()[name] = value
+    return value
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(_HOME))
+
 
 __all__ = [
     "COLOUR_MAPS",

@@ -5,6 +5,7 @@ Nothing here computes physics; these helpers only build ipywidgets and format te
 
 from __future__ import annotations
 
+import base64
 import html
 import logging
 import math
@@ -348,3 +349,37 @@ def set_visible(w: widgets.Widget, visible: bool) -> None:
         w.layout = widgets.Layout(**{k: v for k, v in w.layout.get_state().items()
                                      if not k.startswith("_") and v is not None})
     w.layout.display = None if visible else "none"
+
+
+def download_link(payload: str | bytes, filename: str, media_type: str, text: str, *,
+                  css_class: str = "sp-download", style: str = "") -> str:
+    """An HTML link that saves ``payload`` on the visitor's computer.
+
+    The bytes travel inside the page as a ``data:`` URL: no file is written on the server
+    and the page names no server path (what a served dashboard must keep to).
+
+    Parameters
+    ----------
+    payload : str or bytes
+        The file's content; text is encoded as UTF-8.
+    filename : str
+        The name the browser offers to save under.
+    media_type : str
+        The data URL's media type, parameters included (``"text/html;charset=utf-8"``).
+    text : str
+        The link's visible text (escaped here).
+    css_class : str
+        CSS class of the link.
+    style : str
+        Inline CSS of the link (empty: none).
+
+    Returns
+    -------
+    str
+        ``<a download=... href=data:... class=...>text</a>``.
+    """
+    data = payload.encode("utf-8") if isinstance(payload, str) else payload
+    href = f"data:{media_type};base64,{base64.b64encode(data).decode('ascii')}"
+    styled = f" style='{html.escape(style, quote=True)}'" if style else ""
+    return (f"<a download='{html.escape(filename, quote=True)}' href='{href}' "
+            f"class='{html.escape(css_class, quote=True)}'{styled}>{html.escape(text)}</a>")

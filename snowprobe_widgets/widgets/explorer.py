@@ -21,6 +21,7 @@ from __future__ import annotations
 import html
 import math
 import pathlib
+from collections.abc import Callable
 from typing import Any
 
 import ipywidgets as widgets
@@ -35,7 +36,7 @@ from snowprobe_widgets.fields import screen_message
 from snowprobe_widgets.processing import ProcessingChain
 from snowprobe_widgets.radargram import Radargram
 from snowprobe_widgets.scene import Scenario
-from snowprobe_widgets.serving import work_limits
+from snowprobe_widgets.serving import served, work_limits, work_of
 from snowprobe_widgets.synthesis import column_optics, simulate
 from snowprobe_widgets.trace import echo_times, synthesize_trace
 from snowprobe_widgets.validity import scenario_warnings
@@ -83,6 +84,14 @@ from snowprobe_widgets.widgets.views import (
 APP_CLASS, CONTROLS_CLASS, VIEWS_CLASS = "sp-app", "sp-controls", "sp-views"
 #: How many accepted scenarios "undo" can step back through.
 UNDO_DEPTH = 50
+
+#: An update of more work than this (samples x traces x clutter scatterers, about 1 ns
+#: each: some 2 s) runs beside the page on a served dashboard, with progress and a stop.
+LONG_UPDATE_WORK: float = 2e9
+
+#: A processing chain with an enabled migration runs beside the page (progress, stop) on
+#: a served dashboard from this many samples x traces on (a chosen size, not measured).
+LONG_MIGRATION_CELLS: int = 1_000_000
 
 #: Layout rules of the app, scoped to it: the control column wraps long labels instead of
 #: cutting them, tabs wrap instead of truncating, rows of buttons wrap.
@@ -142,19 +151,26 @@ class CachedSimulation:
         self._last: dict[str, tuple[tuple, Radargram]] = {}
         self.runs = {name: 0 for name in self.PARTS}
 
-    def __call__(self, scenario: Scenario) -> Radargram:
-        """The radargram of ``scenario`` (raises ValueError as ``simulate`` does)."""
+    def __call__(self, scenario: Scenario,
+                 progress: Callable[[float], None] | None = None) -> Radargram:
+        """The radargram of ``scenario`` (raises ValueError as ``simulate`` does).
+
+        ``progress``, when given, is called with the fraction of parts done after each
+        part; an exception it raises stops the simulation (finished parts stay cached).
+        """
         parts = {}
-        for name, (components, key_of) in self.PARTS.items():
+        for done, (name, (components, key_of)) in enumerate(self.PARTS.items(), start=1):
             key = key_of(scenario)
             hit = self._last.get(name)
             if hit is not None and hit[0] == key:
                 parts[name] = hit[1]
-                continue
-            rg = simulate(scenario, components=components)
-            self._last[name] = (key, rg)
-            self.runs[name] += 1
-            parts[name] = rg
+            else:
+                rg = simulate(scenario, components=components)
+                self._last[name] = (key, rg)
+                self.runs[name] += 1
+                parts[name] = rg
+            if progress is not None:
+                progress(done / len(self.PARTS))
         data = parts["column"].data + parts["objects"].data + parts["noise"].data
         o = parts["objects"]
         return Radargram(data, o.time_s, o.position_m, scenario=scenario, truth=o.truth)
@@ -198,6 +214,14 @@ class ScenarioExplorer(widgets.VBox):
         self._stale = {"budget": True, "materials": True, "compare": True}
         self.simulation = CachedSimulation()
         self.updates = 0
+        #: long updates (:data:`LONG_UPDATE_WORK`, :data:`LONG_MIGRATION_CELLS`) run
+        #: beside the page with progress and a stop button; on by default when served
+        self.background_updates = served()
+        self.long_update_work = LONG_UPDATE_WORK
+        self.long_migration_cells = LONG_MIGRATION_CELLS
+        #: a big survey or a long migration: progress bar and stop button (hidden idle)
+        self.update_work = LongWork("stop this update")
+        self._precomputed: tuple[Radargram, ProcessingChain, Radargram] | None = None
 
         # controls
         self.person = PersonPanel()
@@ -323,6 +347,7 @@ class ScenarioExplorer(widgets.VBox):
         left.add_class(CONTROLS_CLASS)
         right = widgets.VBox([
             self.section, self.radargram_view,
+            self.update_work.box,
             widgets.HBox([self.show_processed, self.mark_detections, self.detection_threshold],
                          layout=wrap),
             self.detection_list, self.lower], layout=widgets.Layout(flex="1 1 0%", min_width="0"))
@@ -444,16 +469,84 @@ class ScenarioExplorer(widgets.VBox):
             self._restore_controls()
 
     def _on_processing(self) -> None:
-        if self._raw is not None:
+        raw = self._raw
+        if raw is None:
+            return
+        if not guarded(self.message, self._refuse_while_busy, self._restore_controls):
+            return
+        chain = self.processing.chain()
+        if self.background_updates and self._long_chain(chain, raw.data.size):
+            self.update_work.run(lambda: self._in_background(
+                lambda: self._long_process(raw, chain)), background=True)
+        else:
             self._process()
+
+    def _in_background(self, job: Callable[[], None]) -> None:
+        """Run a long update's ``job``, then put every control back to what the page shows
+        (the new state, or the old one after a stop or a refusal)."""
+        try:
+            job()
+        finally:
+            self._precomputed = None
+            guarded(widgets.HTML(), self._restore_controls)
+
+    def _refuse_while_busy(self) -> None:
+        if self.update_work.running:
+            raise ValueError("the page is still working on the last change: wait for it "
+                             "or press 'stop this update'")
+
+    def _long_chain(self, chain: ProcessingChain, cells: int) -> bool:
+        """True when ``chain`` migrates a section of ``cells`` samples x traces that is
+        long enough to run beside the page."""
+        migrates = "migrate" in [s.name for s in chain.steps if s.enabled]
+        return migrates and cells >= self.long_migration_cells
+
+    def _long_process(self, raw: Radargram, chain: ProcessingChain) -> None:
+        """Background job: a long chain with progress, then the usual display."""
+        progress = self.update_work.progress()
+
+        def run() -> None:
+            progress(0.0)
+            self._precomputed = (raw, chain, chain.apply(raw, progress))
+
+        if guarded(self.message, run, self._restore_controls):
+            guarded(self.message, self._process, self._restore_controls)
 
     def _accept(self, scenario: Scenario, pick_m: float | None = None,
                 keep_limits: bool = False, record: bool = True) -> None:
+        def check() -> None:
+            self._refuse_while_busy()
+            work_limits().check(scenario)
+
+        if not guarded(self.message, check, self._restore_controls):
+            return
+        cells = scenario.radar.n_samples * scenario.survey.n_traces
+        if self.background_updates and (work_of(scenario) >= self.long_update_work
+                                        or self._long_chain(self.processing.chain(), cells)):
+            self.update_work.run(lambda: self._in_background(lambda: self._accept_now(
+                scenario, pick_m, keep_limits, record, self.update_work.progress())),
+                background=True)
+        else:
+            self._accept_now(scenario, pick_m, keep_limits, record, None)
+
+    def _accept_now(self, scenario: Scenario, pick_m: float | None, keep_limits: bool,
+                    record: bool, progress: Any) -> None:
+        """Simulate (and, in the background, process) ``scenario``, then show it.
+
+        With ``progress`` (a :meth:`LongWork.progress` callback) the heavy parts report
+        their fraction done and a stop ends them before anything on screen changed.
+        """
         raw: list[Radargram] = []
 
         def run() -> None:
-            work_limits().check(scenario)
-            raw.append(self.simulation(scenario))
+            if progress is None:
+                raw.append(self.simulation(scenario))
+                return
+            progress(0.0)
+            raw.append(self.simulation(scenario, progress=lambda f: progress(0.7 * f)))
+            chain = self.processing.chain().fitted_to(scenario.radar)
+            self._precomputed = (raw[0], chain, chain.apply(
+                raw[0], lambda f: progress(0.7 + 0.3 * f)))
 
         if not guarded(self.message, run, self._restore_controls):
             return
@@ -612,7 +705,11 @@ class ScenarioExplorer(widgets.VBox):
 
         def run() -> None:
             c = self.processing.chain()
-            done.append(c.apply(raw))
+            ready, self._precomputed = self._precomputed, None
+            if ready is not None and ready[0] is raw and ready[1] == c:
+                done.append(ready[2])  # computed beside the page, with progress
+            else:
+                done.append(c.apply(raw))
             chain.append(c)
 
         if not guarded(self.message, run, self._restore_controls):

@@ -16,7 +16,6 @@ Two modes, chosen by :func:`snowprobe_widgets.serving.served` unless given:
 
 from __future__ import annotations
 
-import base64
 import html
 import pathlib
 from collections.abc import Callable
@@ -29,7 +28,12 @@ from snowprobe_widgets import scenario_files
 from snowprobe_widgets.atomic_files import write_atomically
 from snowprobe_widgets.scene import Scenario
 from snowprobe_widgets.serving import served as _served_by_launcher
-from snowprobe_widgets.widgets._common import guarded, message_line, show_message
+from snowprobe_widgets.widgets._common import (
+    download_link,
+    guarded,
+    message_line,
+    show_message,
+)
 
 #: CSS classes of the file controls (browser tests rely on them).
 SAVE_CLASS, OPEN_CLASS, PATH_CLASS = "sp-save", "sp-open", "sp-file-path"
@@ -189,11 +193,9 @@ class FilePanel(widgets.VBox):
             return None
         data = payload[0]
         name = stem + ending
-        uri = f"data:{media};base64,{base64.b64encode(data).decode('ascii')}"
-        self.download_link.value = (
-            f"<a download='{html.escape(name, quote=True)}' href='{uri}' "
-            f"class='sp-download-link'>Save {html.escape(name)} ({_size_text(len(data))}) to "
-            "your computer</a>")
+        self.download_link.value = download_link(
+            data, name, media, f"Save {name} ({_size_text(len(data))}) to your computer",
+            css_class="sp-download-link")
         self.status.value = f"{html.escape(name)} is ready to download"
         return name
 

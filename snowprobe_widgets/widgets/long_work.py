@@ -32,6 +32,12 @@ class LongWork:
     ----------
     stop_button : ipywidgets.Button
         Enabled while a calculation runs.
+    bar : ipywidgets.FloatProgress
+        The fraction done of a calculation reporting through ``progress()`` with no
+        display of its own.
+    box : ipywidgets.HBox
+        The bar and the stop button, shown only while a calculation runs (for pages
+        that show them only then).
     thread : threading.Thread or None
         The worker of the last calculation started in the background.
     """
@@ -39,6 +45,10 @@ class LongWork:
     def __init__(self, label: str = "stop the calculation") -> None:
         self.stop_button = widgets.Button(description=label, disabled=True)
         self.stop_button.on_click(lambda _: self.stop())
+        self.bar = widgets.FloatProgress(value=0.0, min=0.0, max=1.0,
+                                         layout=widgets.Layout(width="240px"))
+        self.box = widgets.HBox([self.bar, self.stop_button],
+                                layout=widgets.Layout(display="none"))
         self._stop = threading.Event()
         self.thread: threading.Thread | None = None
 
@@ -51,13 +61,20 @@ class LongWork:
         """Ask the running calculation to stop at its next progress report."""
         self._stop.set()
 
-    def progress(self, show: Callable[[float], None]) -> Callable[[float], None]:
-        """A progress callback that shows the fraction done, or stops the work."""
+    def progress(self, show: Callable[[float], None] | None = None
+                 ) -> Callable[[float], None]:
+        """A progress callback that shows the fraction done (on ``show``, else on
+        :attr:`bar`), or stops the work by raising :class:`WorkStopped`."""
+        def on_bar(fraction: float) -> None:
+            self.bar.value = fraction
+
+        shown = on_bar if show is None else show
+
         def report(fraction: float) -> None:
             if self._stop.is_set():
                 raise WorkStopped("Stopped: the calculation was cancelled; the page keeps "
                                   "what it showed before.")
-            show(float(min(max(fraction, 0.0), 1.0)))
+            shown(float(min(max(fraction, 0.0), 1.0)))
 
         return report
 
@@ -73,12 +90,15 @@ class LongWork:
             raise ValueError("a calculation is already running: wait for it or stop it")
         self._stop.clear()
         self.stop_button.disabled = False
+        self.bar.value = 0.0
+        self.box.layout.display = "flex"
 
         def work() -> Any:
             try:
                 return job()
             finally:
                 self.stop_button.disabled = True
+                self.box.layout.display = "none"
 
         if not background:
             return work()

@@ -8,7 +8,6 @@ board never names a path on the server.
 
 from __future__ import annotations
 
-import base64
 import html
 import tempfile
 from typing import Any
@@ -43,6 +42,7 @@ from snowprobe_widgets.scene import Scenario
 from snowprobe_widgets.widgets._common import (
     as_f32,
     caution_box,
+    download_link,
     dropdown,
     float_slider,
     guarded,
@@ -345,11 +345,9 @@ class SearchPlanBoard(widgets.VBox):
             return ""
         text = plan_html(self._plan, scenario_name=self.design.value,
                          comparison=comparison_rows(self._others, self._plan))
-        data = base64.b64encode(text.encode("utf-8")).decode("ascii")
-        self.download.value = (
-            f"<a class='{DOWNLOAD_CLASS}' download='search-plan.html' "
-            f"href='data:text/html;charset=utf-8;base64,{data}'>download the printable "
-            "plan (search-plan.html)</a>")
+        self.download.value = download_link(
+            text, "search-plan.html", "text/html;charset=utf-8",
+            "download the printable plan (search-plan.html)", css_class=DOWNLOAD_CLASS)
         return text
 
     # ------------------------------------------------------------------ internals

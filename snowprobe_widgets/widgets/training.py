@@ -28,6 +28,7 @@ from snowprobe_widgets.widgets import exports
 from snowprobe_widgets.widgets._common import (
     as_f32,
     caution_box,
+    download_link,
     message_line,
     set_visible,
     share_plain_styles,
@@ -53,15 +54,10 @@ _NEAR_FRACTION = (0.025, 0.05)
 _S_TO_NS = 1e9
 
 
-def download_link(payload: str | bytes, filename: str, mime: str, text: str) -> str:
-    """An HTML link that downloads ``payload`` in the browser (a data URL; no server file)."""
-    data = payload.encode("utf-8") if isinstance(payload, str) else payload
-    href = f"data:{mime};base64,{base64.b64encode(data).decode('ascii')}"
-    return (f"<a download='{html.escape(filename)}' href='{href}' class='sp-download' "
-            f"style='display:inline-block;min-height:{TOUCH_PX}px;line-height:{TOUCH_PX}px;"
-            "padding:0 16px;margin:4px 8px 4px 0;background:#0b3d91;color:#fff;"
-            "border-radius:4px;text-decoration:none;font-weight:bold'>"
-            f"{html.escape(text)}</a>")
+#: Inline look of the training page's download links: a touch-sized button.
+_DOWNLOAD_STYLE = (f"display:inline-block;min-height:{TOUCH_PX}px;line-height:{TOUCH_PX}px;"
+                   "padding:0 16px;margin:4px 8px 4px 0;background:#0b3d91;color:#fff;"
+                   "border-radius:4px;text-decoration:none;font-weight:bold")
 
 
 def _button(text: str, style: str = "", width: str = "auto") -> widgets.Button:
@@ -502,9 +498,10 @@ class TrainingSession(widgets.VBox):
         stem = f"training-{rec.level}-{rec.session_seed}"
         self.downloads.value = (
             "<div>Save your record (give it to your instructor):</div>"
-            + download_link(rec.to_csv(), f"{stem}.csv", "text/csv", "download record (CSV)")
+            + download_link(rec.to_csv(), f"{stem}.csv", "text/csv", "download record (CSV)",
+                            style=_DOWNLOAD_STYLE)
             + download_link(rec.to_json(), f"{stem}.json", "application/json",
-                            "download record (JSON)"))
+                            "download record (JSON)", style=_DOWNLOAD_STYLE))
         self._touch_status()
 
     # ------------------------------------------------------------------ guide
@@ -588,7 +585,8 @@ class TrainingSession(widgets.VBox):
         body = page.split("<body>", 1)[1].rsplit("</body>", 1)[0]
         self.key_output.value = (
             download_link(page, f"answer-key-{lv.name}-{self.key_seed.value}.html",
-                          "text/html", "download the answer key (printable HTML)")
+                          "text/html", "download the answer key (printable HTML)",
+                          style=_DOWNLOAD_STYLE)
             + f"<div style='border:1px solid #999;padding:8px;color:#111'>{body}</div>")
         return page
 
@@ -608,7 +606,7 @@ class TrainingSession(widgets.VBox):
         self.class_output.value = (
             f"<div>{len(recs)} record(s) loaded.</div>" + note + summary.to_html()
             + download_link(summary.to_csv(), "class-summary.csv", "text/csv",
-                            "download the class summary (CSV)"))
+                            "download the class summary (CSV)", style=_DOWNLOAD_STYLE))
         return summary
 
     def _on_records(self, change: dict[str, Any]) -> None:

@@ -5,14 +5,19 @@ Run by hand (not collected by pytest)::
     python tests/benchmarks/bench_crowd.py            # 1 (baseline), 5, 10, 20 browsers
     python tests/benchmarks/bench_crowd.py 1 10        # chosen crowd sizes
 
-For each crowd size it starts the real launcher (``snowprobe serve``) on a free
-loopback port, opens that many headless Debian Chromium pages at the same moment (one
-browser context each, as separate visitors), and waits for each page's first picture (the
-radargram status line reports a draw). It prints each page's seconds (or "never" past the
-deadline), the ratio of the slowest to the single-visitor baseline of the same run, the
-server's resident memory and each kernel's resident (RSS) and unique (USS) memory while
-all pages are open. Browsers and server share this machine, as in the browser tests:
-timings are upper bounds under whatever else runs here (the load average is printed).
+For each crowd size it starts the real launcher on a free loopback port twice: "cold"
+(``snowprobe serve``, every page starts its kernel when it arrives) and "warm"
+(``snowprobe serve design --warm --max-sessions N``: N sessions started and drawn in
+advance, the pool sized from the session cap), opens that many headless Debian Chromium
+pages at the same moment (one browser context each, as separate visitors), and waits for
+each page's first picture (the radargram status line reports a draw). It prints each
+page's seconds (or "never" past the deadline), the ratio of the slowest to the
+single-visitor baseline of the same run, the CPU seconds the browsers, the kernels and
+the server spent on the crowd, the server's resident memory and each kernel's resident
+(RSS), proportional (PSS: shared libraries divided among the kernels that map them) and
+unique (USS) memory while all pages are open. PSS is what one more visitor costs.
+Browsers and server share this machine, as in the browser tests: timings are upper
+bounds under whatever else runs here (the load average is printed).
 
 A last table shows what a kernel's memory is made of: the resident memory added by each
 import a design-dashboard kernel makes, measured in a fresh interpreter.
@@ -37,6 +42,7 @@ from harness import (  # noqa: E402
     CHROMIUM,
     CHROMIUM_ARGS,
     READY_JS,
+    STATIC_PATH,
     STATUS_SELECTOR,
     Launcher,
     dashboard_url,
@@ -86,17 +92,43 @@ async def _visitor(browser, url: str) -> tuple[float | None, str]:
         return None, f"{type(exc).__name__}; page state {state}"
 
 
-async def _crowd(server: Launcher, count: int) -> tuple[list, dict]:
+def _cpu_s(server: Launcher) -> dict[str, float]:
+    """CPU seconds used so far by the server, its kernels and every Chromium process."""
+    import psutil
+
+    def used(process: psutil.Process) -> float:
+        times = process.cpu_times()
+        return times.user + times.system
+
+    out = {"server": used(psutil.Process(server.process.pid)), "kernels": 0.0,
+           "browsers": 0.0}
+    for process in server.kernel_processes().values():
+        try:
+            out["kernels"] += used(process)
+        except psutil.Error:
+            continue
+    for process in psutil.Process().children(recursive=True):  # our browser only
+        try:
+            if process.name().startswith("chrom"):
+                out["browsers"] += used(process)
+        except psutil.Error:
+            continue
+    return out
+
+
+async def _crowd(server: Launcher, url: str, count: int) -> tuple[list, dict]:
     from playwright.async_api import async_playwright
 
     async with async_playwright() as playwright:
         browser = await playwright.chromium.launch(executable_path=str(CHROMIUM),
                                                    args=CHROMIUM_ARGS)
         try:
-            url = dashboard_url(server.base_url, "design")
+            before = _cpu_s(server)
             results = await asyncio.gather(*(_visitor(browser, url)
                                              for _ in range(count)))
+            after = _cpu_s(server)
             memory = _memory(server)
+            memory["cpu_s"] = {k: after[k] - before[k] for k in after}
         finally:
             await browser.close()
     return results, memory
@@ -112,18 +144,39 @@ def _memory(server: Launcher) -> dict:
             full = process.memory_full_info()
         except (psutil.NoSuchProcess, psutil.AccessDenied):
             continue
-        out["kernels"].append((full.rss / 2**20, full.uss / 2**20))
+        out["kernels"].append((full.rss / 2**20, full.pss / 2**20, full.uss / 2**20))
     return out
 
 
-def _run(count: int) -> tuple[list, dict]:
+def _wait_warm(server: Launcher, count: int) -> float:
+    """Wait until ``count`` kernels run and have gone quiet (the notebooks ran); seconds."""
+    start = time.perf_counter()
+    while len(server.kernel_processes()) < count:
+        if time.perf_counter() - start > DEADLINE_S:
+            raise RuntimeError(f"{count} warm sessions not started in {DEADLINE_S:.0f} s")
+        time.sleep(1.0)
+    kernels = list(server.kernel_processes().values())
+    while sum(k.cpu_percent(1.0) for k in kernels) > 5.0 * len(kernels):
+        if time.perf_counter() - start > DEADLINE_S:
+            raise RuntimeError(f"{count} warm sessions still busy after {DEADLINE_S:.0f} s")
+    return time.perf_counter() - start
+
+
+def _run(count: int, warm: bool) -> tuple[list, dict]:
     with tempfile.TemporaryDirectory() as workdir:
-        # all dashboards behind a start page: polling the start page starts no kernel
-        server = Launcher(args=["--max-sessions", str(max(count, 1) + 2)],
-                          workdir=Path(workdir))
+        if warm:
+            args = ["design", "--warm", "--max-sessions", str(count)]
+        else:
+            # all dashboards behind a start page: polling the start page starts no kernel
+            args = ["--max-sessions", str(count + 2)]
+        server = Launcher(args=args, workdir=Path(workdir))
         try:
-            server.wait_ready()
-            return asyncio.run(_crowd(server, count))
+            server.wait_ready(path=STATIC_PATH)
+            ready_s = _wait_warm(server, count) if warm else 0.0
+            url = server.base_url if warm else dashboard_url(server.base_url, "design")
+            results, memory = asyncio.run(_crowd(server, url, count))
+            memory["warm_ready_s"] = ready_s
+            return results, memory
         finally:
             server.stop()
 
@@ -141,33 +194,46 @@ def _import_costs() -> list[tuple[str, float]]:
     return [(label, float(mb)) for label, mb in rows]
 
 
+def _report(count: int, warm: bool, started: str, results: list, memory: dict,
+            baseline: float | None) -> None:
+    seconds = [s for s, _ in results if s is not None]
+    failed = [why for s, why in results if s is None]
+    shown = ", ".join("never" if s is None else f"{s:.1f}" for s, _ in results)
+    mode = "warm (--warm, sessions drawn in advance)" if warm else "cold"
+    print(f"\n{count} browser(s) together, {mode} ({started} at start)")
+    if warm:
+        print(f"  warm sessions ready {memory['warm_ready_s']:.0f} s after the server")
+    print(f"  first picture (s): {shown}")
+    print(f"  rendered {len(seconds)} of {count}; slowest "
+          f"{max(seconds) if seconds else float('nan'):.1f} s"
+          + (f" = {max(seconds) / baseline:.1f} x the single visitor" if baseline and
+             seconds else ""))
+    cpu = memory["cpu_s"]
+    print(f"  CPU seconds during the crowd: browsers {cpu['browsers']:.0f}, kernels "
+          f"{cpu['kernels']:.0f}, server {cpu['server']:.0f} "
+          f"(per page {sum(cpu.values()) / count:.1f})")
+    for why in failed:
+        print(f"  not drawn: {why}")
+    kernels = memory["kernels"]
+    if kernels:
+        columns = list(zip(*kernels, strict=True))
+        parts = [f"{name} {min(c):.0f}-{max(c):.0f} MB (mean {sum(c) / len(c):.0f})"
+                 for name, c in zip(("RSS", "PSS", "unique"), columns, strict=True)]
+        print(f"  server {memory['server_mb']:.0f} MB; {len(kernels)} kernels: "
+              + ", ".join(parts))
+
+
 def main(argv: list[str]) -> None:
     sizes = [int(a) for a in argv] or [1, 5, 10, 20]
     print(f"bench_crowd: design dashboard, {_load()}")
     baseline = None
     for count in sizes:
-        started = _load()
-        results, memory = _run(count)
-        seconds = [s for s, _ in results if s is not None]
-        failed = [why for s, why in results if s is None]
-        if count == 1 and seconds:
-            baseline = seconds[0]
-        shown = ", ".join("never" if s is None else f"{s:.1f}" for s, _ in results)
-        print(f"\n{count} browser(s) together ({started} at start)")
-        print(f"  first picture (s): {shown}")
-        print(f"  rendered {len(seconds)} of {count}; slowest "
-              f"{max(seconds) if seconds else float('nan'):.1f} s"
-              + (f" = {max(seconds) / baseline:.1f} x the single visitor" if baseline and
-                 seconds else ""))
-        for why in failed:
-            print(f"  not drawn: {why}")
-        kernels = memory["kernels"]
-        if kernels:
-            rss = [r for r, _ in kernels]
-            uss = [u for _, u in kernels]
-            print(f"  server {memory['server_mb']:.0f} MB; {len(kernels)} kernels: RSS "
-                  f"{min(rss):.0f}-{max(rss):.0f} MB (mean {sum(rss) / len(rss):.0f}), "
-                  f"unique {min(uss):.0f}-{max(uss):.0f} MB (mean {sum(uss) / len(uss):.0f})")
+        for warm in (False, True) if count > 1 else (False,):
+            started = _load()
+            results, memory = _run(count, warm)
+            if count == 1 and results[0][0] is not None:
+                baseline = results[0][0]
+            _report(count, warm, started, results, memory, baseline)
     print("\nwhat a kernel's memory is made of (resident MB added by each step):")
     total = 0.0
     for label, mb in _import_costs():

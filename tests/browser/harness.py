@@ -48,6 +48,9 @@ READY_JS = """(statusSelector) => {
     && document.querySelectorAll('.widget-slider, .widget-dropdown').length > 0;
 }"""
 
+#: A file every server answers without starting a kernel (the page's own script).
+STATIC_PATH = "voila/static/voila.js"
+
 #: The status line each dashboard updates after drawing.
 STATUS_SELECTOR = {"design": ".sp-radargram-status", "materials": ".sp-materials-status",
                    "training": ".sp-training-status",
@@ -151,14 +154,19 @@ class Launcher:
     def log(self) -> str:
         return "\n".join(self.output)
 
-    def wait_ready(self, timeout_s: float = 60.0) -> float:
-        """Poll the start page (which starts no kernel) until it answers 200; seconds taken."""
+    def wait_ready(self, timeout_s: float = 60.0, path: str = "") -> float:
+        """Poll ``path`` until it answers 200; seconds taken.
+
+        The default, the start page of a server of all dashboards, starts no kernel; a
+        server of one dashboard shows that dashboard there (a kernel per poll), so poll
+        :data:`STATIC_PATH` instead.
+        """
         start = time.monotonic()
 
         def ready() -> bool:
             if self.process.poll() is not None:
                 raise RuntimeError(f"launcher exited with {self.process.returncode}:\n{self.log()}")
-            return http_status(self.base_url, timeout_s=2.0) == 200
+            return http_status(self.base_url + path, timeout_s=2.0) == 200
 
         wait_until(ready, timeout_s, f"launcher answering on {self.base_url}", poll_s=0.2)
         return time.monotonic() - start

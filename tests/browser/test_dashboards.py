@@ -229,3 +229,28 @@ def test_a_page_that_arrives_without_its_dashboard_says_so_and_reloads(server, b
         assert page.locator("body").get_attribute("data-sp-draw") in ("retrying", None)
     finally:
         context.close()
+
+
+def test_a_waiting_page_counts_seconds_and_runs_no_animation(server, browser):
+    # an animated loading bar kept every waiting headless browser repainting 60 times a
+    # second: with a class arriving together that was most of the machine's CPU
+    from harness import dashboard_url
+
+    context = browser.new_context(viewport={"width": 1500, "height": 1100})
+    try:
+        page = context.new_page()
+        page.goto(dashboard_url(server.base_url, "plan"), wait_until="commit")
+        page.wait_for_selector("#sp-loading", state="attached", timeout=60_000)
+        running = page.evaluate(
+            "() => document.getAnimations().filter(a => a.playState === 'running').length")
+        assert running == 0
+        page.wait_for_function(
+            "() => { const c = document.getElementById('sp-loading-clock');"
+            " return !document.getElementById('sp-loading') ||"
+            " (c && /^Waiting \\d+ s\\.$/.test(c.textContent)); }", timeout=60_000)
+        page.wait_for_function("() => document.body.getAttribute('data-sp-ready') === 'true'",
+                               timeout=120_000)
+        assert page.evaluate(
+            "() => document.getAnimations().filter(a => a.playState === 'running').length") == 0
+    finally:
+        context.close()

@@ -11,7 +11,19 @@ import signal
 import time
 
 import pytest
-from harness import Launcher, kernel_id_of, open_concurrently, open_dashboard, wait_until
+from harness import (
+    READY_JS,
+    STATIC_PATH,
+    STATUS_SELECTOR,
+    Launcher,
+    http_status,
+    kernel_id_of,
+    open_concurrently,
+    open_dashboard,
+    wait_until,
+)
+
+from snowprobe_widgets.launcher import NEVER_CONNECTED_S, RELEASE_CHECK_S
 
 IDLE_MINUTES = 0.15
 #: The launcher checks for idle kernels every idle/4 seconds (at least 1 s).
@@ -132,3 +144,34 @@ def test_an_open_page_keeps_its_kernel_connection(crowd_server, browser):
         assert closed == []
     finally:
         context.close()
+
+
+def test_warm_sessions_serve_drawn_pages_and_stay_until_taken(tmp_path, browser):
+    # --warm without a number: as many sessions ready as the cap allows (2 here). They
+    # must survive beyond the never-connected grace (60 s), both visitors must get one, and
+    # a third visitor beyond the cap must get the busy page, not a dead or stale session.
+    launcher = Launcher(args=["design", "--warm", "--max-sessions", "2", "--verbose"],
+                        workdir=tmp_path)
+    try:
+        launcher.wait_ready(path=STATIC_PATH)
+        wait_until(lambda: len(launcher.kernel_processes()) == 2, 120, "two warm sessions")
+        warm_ids = set(launcher.kernel_processes())
+        time.sleep(NEVER_CONNECTED_S + 2 * RELEASE_CHECK_S)  # a grace period must pass
+        assert set(launcher.kernel_processes()) == warm_ids
+        context = browser.new_context(viewport={"width": 1500, "height": 1100})
+        try:
+            pages = []
+            for _ in range(2):
+                page = context.new_page()
+                page.goto(launcher.base_url, wait_until="commit")
+                pages.append(page)
+            for page in pages:
+                page.wait_for_function(READY_JS, arg=STATUS_SELECTOR["design"],
+                                       timeout=120_000, polling=250)
+            assert {kernel_id_of(p) for p in pages} == warm_ids
+            assert launcher.log().count("Using pre-heated kernel") == 2
+            assert http_status(launcher.base_url, timeout_s=60.0) == 503
+        finally:
+            context.close()
+    finally:
+        launcher.stop()

@@ -137,6 +137,18 @@
     window.location.reload();
   };
 
+  // While the page waits for its session, count the seconds once a second (a text
+  // change costs nothing; an animated bar kept a crowd of browsers busy repainting).
+  var loadingSince = Date.now();
+  var loadingClock = window.setInterval(function () {
+    var clock = document.getElementById("sp-loading-clock");
+    if (!document.getElementById("sp-loading")) {
+      window.clearInterval(loadingClock);
+    } else if (clock) {
+      clock.textContent = "Waiting " + Math.round((Date.now() - loadingSince) / 1000) + " s.";
+    }
+  }, 1000);
+
   // Voila calls these while it runs the notebook and when the outputs are complete.
   window.voila_heartbeat = function () {};
   window.voila_process = function (cellIndex, cellCount) {
