@@ -345,7 +345,14 @@ def spectrum_pulse(name: str, center_frequency_hz: float, bandwidth_hz: float | 
         if not isinstance(value, (int, float, str, bool)):
             raise ValueError(f"pulse {name!r}: parameter {key} = {value!r} must be a number, "
                              "string or bool")
-    options = tuple(sorted(params.items()))
+    return _spectrum_pulse(name, func, fc, bw, tuple(sorted(params.items())))
+
+
+@lru_cache(maxsize=64)
+def _spectrum_pulse(name: str, func: Callable[..., Any], fc: float, bw: float | None,
+                    options: tuple[tuple[str, Any], ...]) -> Pulse:
+    # one Pulse per setting, so that its waveform table is computed once (a radar asks
+    # for its pulse on every update)
     if bw is not None:
         return Pulse(name, fc, bw, spectrum_function=func, options=options)
     probe = Pulse(name, fc, fc, spectrum_function=func, options=options,

@@ -113,10 +113,13 @@ class CrossSectionView(widgets.VBox):
                    self.antenna, self.labels], axes=axes, padding_x=0.0, padding_y=0.0,
             fig_margin={"top": 10, "bottom": 45, "left": 70, "right": 20},
             layout=widgets.Layout(width="100%", height=f"{int(height_px)}px"))
+        # width "auto": a checkbox's default width cuts its description at 1280 px
         self.show_rays = widgets.Checkbox(value=False, indent=False,
-                                          description="ray paths from the antenna to each person")
+                                          description="ray paths to each person",
+                                          layout=widgets.Layout(width="auto"))
         self.true_shape = widgets.Checkbox(value=False, indent=False,
-                                           description="same scale across and down")
+                                           description="same scale across and down",
+                                           layout=widgets.Layout(width="auto"))
         self.show_rays.observe(lambda _: self._draw_rays(), names="value")
         self.true_shape.observe(lambda _: self._aspect(), names="value")
         self.legend = widgets.HTML(value=self._legend_html())

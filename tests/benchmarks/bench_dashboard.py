@@ -13,7 +13,10 @@ Starts the real ``snowprobe`` launcher on a free loopback port and Debian's head
   ``ScenarioExplorer`` in this process (model + PNG, no browser, no kernel messages).
 * First render: navigation start until the page shows the outputs with a drawn radargram;
   each visit starts a fresh kernel. Also with ``--warm`` (a session made ready in advance).
+* Split of a move: when the picture's websocket message (the move's largest) arrives,
+  when the picture is set in the page, and the two frames until it is painted.
 * Memory: resident set of the design kernel after the moves, and of the server.
+* Load: the machine's load average before and after (timings are upper bounds under load).
 
 Goals: median latency < 100 ms, 95th percentile < 200 ms, first render < 5 s, kernel < 300 MB.
 """
@@ -21,6 +24,7 @@ Goals: median latency < 100 ms, 95th percentile < 200 ms, first render < 5 s, ke
 from __future__ import annotations
 
 import argparse
+import os
 import statistics
 import sys
 import tempfile
@@ -40,6 +44,24 @@ from harness import (  # noqa: E402
     open_dashboard,
     wait_until,
 )
+
+#: Page script recording the arrival time and size of every websocket message, so that a
+#: move's time splits into the kernel's part (until the picture's message arrives, the
+#: largest of the move) and the browser's (from there to the painted picture).
+WS_SPY_JS = """(() => {
+  const Orig = window.WebSocket;
+  window.__spArrivals = [];
+  window.WebSocket = class extends Orig {
+    constructor(...args) {
+      super(...args);
+      this.addEventListener('message', e => {
+        const d = e.data;
+        const n = typeof d === 'string' ? d.length : (d.byteLength || d.size || 0);
+        window.__spArrivals.push([performance.now(), n]);
+      });
+    }
+  };
+})();"""
 
 MOVES_JS = """async (moves) => {
   const status = document.querySelector('.sp-radargram-status');
@@ -61,12 +83,17 @@ MOVES_JS = """async (moves) => {
                                 characterData: true});
       check();
     });
+    const seen = (window.__spArrivals || []).length;
     const t0 = performance.now();
     handle.dispatchEvent(new KeyboardEvent('keydown', {
       key: i % 2 === 0 ? 'ArrowRight' : 'ArrowLeft', bubbles: true}));
     await done;
+    const tSet = performance.now() - t0;
     await frame(); await frame();
-    out.push(performance.now() - t0);
+    const total = performance.now() - t0;
+    const msgs = (window.__spArrivals || []).slice(seen).filter(([t]) => t - t0 <= tSet);
+    const picture = msgs.length ? msgs.reduce((a, b) => (b[1] > a[1] ? b : a))[0] - t0 : NaN;
+    out.push([total, picture, tSet]);
   }
   return out;
 }"""
@@ -132,6 +159,7 @@ def main() -> int:
         return 1
     from playwright.sync_api import sync_playwright
 
+    load_before = os.getloadavg()[0]
     baseline = python_baseline_ms(args.moves)
     workdir = Path(tempfile.mkdtemp(prefix="bench-dashboard-"))
     with sync_playwright() as playwright:
@@ -141,9 +169,11 @@ def main() -> int:
             ready_s = cold.wait_ready()
             renders = first_renders(browser, cold, args.renders)
             context = browser.new_context(viewport={"width": 1500, "height": 1100})
+            context.add_init_script(WS_SPY_JS)
             page, record, _s = open_dashboard(context, cold.base_url, "design", 120)
             page.evaluate(MOVES_JS, 3)  # warm-up moves, not counted
-            latencies = page.evaluate(MOVES_JS, args.moves)
+            moves = page.evaluate(MOVES_JS, args.moves)
+            latencies = [m[0] for m in moves]
             kernel = cold.kernel_processes()[kernel_id_of(page)]
             kernel_mb = kernel.memory_info().rss / 2**20
             import psutil
@@ -164,9 +194,13 @@ def main() -> int:
 
     med, p95 = statistics.median(latencies), percentile(latencies, 95)
     base_med = statistics.median(baseline)
-    print(f"design dashboard, {args.moves} slider moves, one at a time")
+    print(f"design dashboard, {args.moves} slider moves, one at a time; load average "
+          f"{load_before:.1f} before, {os.getloadavg()[0]:.1f} after ({os.cpu_count()} cores)")
     print(f"  slider to painted picture: median {med:.0f} ms, p95 {p95:.0f} ms, "
           f"max {max(latencies):.0f} ms   (goal: median < 100, p95 < 200)")
+    print(f"  of which: picture message arrives {statistics.median(m[1] for m in moves):.0f} "
+          f"ms after the key (kernel and network), picture set "
+          f"{statistics.median(m[2] for m in moves):.0f} ms, then two frames to paint")
     print(f"  baseline, same move in Python (no browser): median {base_med:.1f} ms; "
           f"browser/baseline ratio {med / base_med:.1f}x")
     print(f"  server ready (start page answers) after {ready_s:.1f} s")
