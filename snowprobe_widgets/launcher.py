@@ -90,6 +90,14 @@ WARM_REFILL_DELAY_S: float = 20.0
 #: ``--warm`` without a number: size the warm pools from the session cap.
 WARM_FROM_CAP: int = -1
 
+#: A connected page that has not drawn its dashboard this long after its outputs arrived
+#: says so and loads again by itself, seconds (:data:`DRAW_DEADLINE_ENV` overrides it).
+DRAW_DEADLINE_S: float = 120.0
+
+#: Environment variable that sets :data:`DRAW_DEADLINE_S` for a server (the browser
+#: tests use a short one to watch a page recover).
+DRAW_DEADLINE_ENV: str = "SNOWPROBE_DRAW_DEADLINE_S"
+
 #: Cookie naming a browser (a random id, nothing else), so a reload can free its sessions.
 VISITOR_COOKIE: str = "snowprobe_visitor"
 
@@ -315,6 +323,16 @@ def check_port_free(host: str, port: int) -> None:
 # ----------------------------------------------------------------------------- the server
 
 
+def draw_deadline_s() -> float:
+    """:data:`DRAW_DEADLINE_S`, or the value of :data:`DRAW_DEADLINE_ENV` (1 to 3600 s)."""
+    text = os.environ.get(DRAW_DEADLINE_ENV, "")
+    try:
+        value = float(text)
+    except ValueError:
+        return DRAW_DEADLINE_S
+    return min(max(value, 1.0), 3600.0) if math.isfinite(value) else DRAW_DEADLINE_S
+
+
 def _page_config_hook(boards: Sequence[Dashboard]) -> Callable[..., dict]:
     """A Voila page-config hook adding what the template shows (cautions, dashboard list)."""
     listing = [
@@ -327,6 +345,7 @@ def _page_config_hook(boards: Sequence[Dashboard]) -> Callable[..., dict]:
             "caution": CAUTION_TEXT,
             "version": __version__,
             "dashboards": listing,
+            "drawDeadlineS": draw_deadline_s(),
         }
         return page_config
 
