@@ -657,6 +657,9 @@ def _voila_config(options: ServeOptions, boards: Sequence[Dashboard], token: str
     # sent pages without their dashboard that stayed blank for ever (measured:
     # tests/benchmarks/bench_crowd.py). The outputs do come; wait for them.
     config.VoilaExecutor.iopub_timeout = IOPUB_WAIT_S
+    # likewise the kernel's own start (60 s by default): twenty kernels starting together
+    # on two cores beside their browsers can take longer than that
+    config.VoilaExecutor.startup_timeout = IOPUB_WAIT_S
     config.VoilaConfiguration.preheat_kernel = options.warm > 0
     config.VoilaConfiguration.default_pool_size = max(1, options.warm)
     config.VoilaKernelManager.fill_delay = WARM_REFILL_DELAY_S
