@@ -137,9 +137,11 @@ who can reach the page:
   scenarios come in by upload and results leave as downloads.
 
 serving more people:
-  each session costs the server about 2.5 CPU-seconds to start and about 135 MB
-  of its own memory; visitors arriving together wait about (visitors x 2.5 s /
-  cores). For more, use more cores, several servers behind a proxy, or
+  each session costs the server about 4 CPU-seconds to start and draw (kernel
+  and server) and about 140 MB (proportional memory; 190 MB resident); each
+  visitor's browser needs about 5 CPU-seconds more. Visitors arriving together
+  wait about (visitors x those costs / cores). --warm starts sessions before
+  people arrive. For more, use more cores, several servers behind a proxy, or
   JupyterHub (see the README).
 """
 
