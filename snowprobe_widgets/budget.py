@@ -39,7 +39,7 @@ import numpy as np
 import scipy.fft
 
 from ._validate import check_range
-from .budget_checks import CLUTTER_MARGIN_DB, overruling_warnings
+from .budget_checks import CLUTTER_MARGIN_DB, beam_edge_m, overruling_warnings
 from .budget_checks import two_way_time_s as _two_way_time_s
 from .constants import C0_M_S
 from .detection import DEFAULT_THRESHOLD_DB
@@ -267,22 +267,30 @@ def _above(optics: ColumnOptics, depth_m: float) -> np.ndarray:
     return layers_above_m(optics.thickness_m, depth_m)
 
 
-def _layer_of(optics: ColumnOptics, depth_m: float) -> int:
+def _above_many(optics: ColumnOptics, depths_m: np.ndarray) -> np.ndarray:
+    """:func:`layers_above_m` for many depths at once, shape (n_depths, n_layers)."""
+    thick = optics.thickness_m
+    tops = np.concatenate([[0.0], np.cumsum(thick)[:-1]])
+    return np.clip(np.asarray(depths_m, float)[:, None] - tops[None, :], 0.0, thick[None, :])
+
+
+def _layer_of(optics: ColumnOptics, depth_m: np.ndarray | float) -> np.ndarray | int:
     bottoms = np.cumsum(optics.thickness_m)
-    return int(min(np.searchsorted(bottoms, depth_m, side="left"), bottoms.size - 1))
+    j = np.minimum(np.searchsorted(bottoms, depth_m, side="left"), bottoms.size - 1)
+    return j if np.ndim(depth_m) else int(j)
 
 
-def _two_way_transmission(optics: ColumnOptics, depth_m: float) -> float:
-    D = _above(optics, depth_m)
-    n_above = 1.0
-    t2 = 1.0
-    for j, (d, n) in enumerate(zip(D, optics.index, strict=True)):
-        if j > 0 and d <= 0:
-            break
-        r = (n_above - n) / (n_above + n)
-        t2 *= 1.0 - r * r
-        n_above = n
-    return t2
+def _two_way_transmission(optics: ColumnOptics, D: np.ndarray) -> np.ndarray | float:
+    """prod (1 - r_j^2) over the interfaces crossed down to the depth whose layer parts
+    above it are ``D`` (shape (n_layers,) or (n_depths, n_layers)): the surface always,
+    a deeper interface when the layer below it is entered."""
+    n = np.asarray(optics.index, float)
+    above = np.concatenate([[1.0], n[:-1]])
+    factor = 1.0 - ((above - n) / (above + n)) ** 2
+    entered = np.asarray(D) > 0
+    entered[..., 0] = True
+    t2 = np.prod(np.where(entered, factor, 1.0), axis=-1)
+    return t2 if np.ndim(t2) else float(t2)
 
 
 def _radii_m(target: Any) -> tuple[float, float]:
@@ -340,15 +348,17 @@ class _EchoModel:
         # goes out in the antenna's band): scale the in-band spectrum to peak 1
         self.pulse_spec = self.pulse_spec / max(
             float(np.max(np.abs(self._waves(self.pulse_spec[None, :])))), 1e-300)
-        self.offsets = index_offsets(self.opt, fb)
-        self.r_f = []
-        self.r_fc = []
+        self.offsets = np.array(index_offsets(self.opt, fb)).reshape(-1, fb.size)
+        # one reflection per distinct snow around the target (equal layers share it)
+        cache: dict[complex, np.ndarray] = {}
         for m in self.opt.materials:
-            r = target_reflection_spectrum(target, complex(m.permittivity(fc)),
-                                           np.append(fb, fc),
-                                           polarization=radar.polarization)
-            self.r_f.append(r[:-1])
-            self.r_fc.append(abs(complex(r[-1])))
+            eps = complex(m.permittivity(fc))
+            if eps not in cache:
+                cache[eps] = target_reflection_spectrum(target, eps, np.append(fb, fc),
+                                                        polarization=radar.polarization)
+        r_f = [cache[complex(m.permittivity(fc))] for m in self.opt.materials]
+        self.r_f = np.array([r[:-1] for r in r_f]).reshape(-1, fb.size)
+        self.r_fc = np.array([abs(complex(r[-1])) for r in r_f])
         self.radii = _radii_m(target)
 
     def _waves(self, spectra: np.ndarray) -> np.ndarray:
@@ -356,39 +366,44 @@ class _EchoModel:
         full[:, self.band] = spectra
         return scipy.fft.irfft(full / self.dt, n=self.n_fft, axis=1)
 
-    def _terms(self, depth_m: float) -> tuple[_Echo, np.ndarray]:
-        """The centre-frequency terms at ``depth_m`` and the echo's band spectrum."""
+    def _terms(self, depths_m: np.ndarray) -> tuple[dict[str, np.ndarray], np.ndarray]:
+        """The centre-frequency terms at each depth (arrays over ``depths_m``) and the
+        echoes' band spectra, shape (n_depths, n_band)."""
         opt = self.opt
-        D = _above(opt, depth_m)
-        r_e = self.h + float(np.sum(D / opt.index))
-        t2 = _two_way_transmission(opt, depth_m)
-        att_db = tuple(float(-2 * a * d * 20 / math.log(10))
-                       for a, d in zip(opt.alpha_np_m, D, strict=True))
-        j = _layer_of(opt, depth_m)
-        n_loc = float(opt.index[j])
+        depths = np.asarray(depths_m, float)
+        D = _above_many(opt, depths)
+        r_e = self.h + D @ (1.0 / opt.index)
+        t2 = _two_way_transmission(opt, D)
+        att_db = -2.0 * D * opt.alpha_np_m[None, :] * (20.0 / math.log(10.0))
+        j = _layer_of(opt, depths)
+        n_loc = opt.index[j]
         rho1, rho2 = self.radii
-        curv = 1.0 / math.sqrt((1 + n_loc * r_e / rho1) * (1 + n_loc * r_e / rho2))
-        curv *= _plate_factor(self.target, C0_M_S / (self.fc * n_loc), r_e, n_loc)
+        curv = 1.0 / np.sqrt((1 + n_loc * r_e / rho1) * (1 + n_loc * r_e / rho2))
+        curv *= np.array([_plate_factor(self.target, C0_M_S / (self.fc * n), r, n)
+                          for n, r in zip(n_loc, r_e, strict=True)])
         # dispersion and frequency-dependent loss relative to the centre-frequency values
         disp = dispersion_factor(self.offsets, self.k0, D, opt.alpha_np_m)
-        amp_fc = self.af * t2 * 10 ** (sum(att_db) / 20) * curv / (2 * r_e)
-        echo = _Echo(amp_fc, t2, 1 / (2 * r_e), att_db, self.r_fc[j] * curv, self.af, r_e)
-        return echo, self.pulse_spec * self.r_f[j] * disp
+        amp_fc = self.af * t2 * 10 ** (att_db.sum(axis=1) / 20) * curv / (2 * r_e)
+        terms = {"peak": amp_fc, "t2": t2, "r_e": r_e, "att_db": att_db,
+                 "reflectivity": self.r_fc[j] * curv}
+        return terms, self.pulse_spec[None, :] * self.r_f[j] * disp
 
     def echo(self, depth_m: float) -> _Echo:
         """The echo's terms and its peak (received amplitude re sqrt(P_t)) at ``depth_m``."""
-        echo, spec = self._terms(depth_m)
-        peak = echo.peak * float(np.max(np.abs(self._waves(spec[None, :]))))
-        return dataclasses.replace(echo, peak=peak)
+        terms, spec = self._terms(np.array([depth_m]))
+        peak = float(terms["peak"][0]) * float(np.max(np.abs(self._waves(spec))))
+        r_e = float(terms["r_e"][0])
+        return _Echo(peak, float(terms["t2"][0]), 1 / (2 * r_e),
+                     tuple(float(a) for a in terms["att_db"][0]),
+                     float(terms["reflectivity"][0]), self.af, r_e)
 
     def peaks(self, depths_m: np.ndarray, chunk: int = 32) -> np.ndarray:
         """Echo peaks at many depths (one batched transform per ``chunk`` depths)."""
         out = np.empty(depths_m.size)
         for s in range(0, depths_m.size, chunk):
-            terms = [self._terms(float(z)) for z in depths_m[s:s + chunk]]
-            waves = self._waves(np.array([spec for _, spec in terms]))
-            amp = np.array([e.peak for e, _ in terms])
-            out[s:s + len(terms)] = amp * np.max(np.abs(waves), axis=1)
+            terms, spec = self._terms(depths_m[s:s + chunk])
+            out[s:s + spec.shape[0]] = terms["peak"] * np.max(np.abs(self._waves(spec)),
+                                                              axis=1)
         return out
 
     def surface_peak(self) -> float:
@@ -415,7 +430,8 @@ class _ClutterModel:
         fc = radar.center_frequency_hz
         self.h = radar.antenna_height_m
         self.opt = _extended(optics, max_depth_m + 0.5)
-        self.half_bw = math.radians(radar.beamwidth_deg) / 2
+        self.beamwidth_deg = radar.beamwidth_deg
+        half_bw = math.radians(radar.beamwidth_deg) / 2
         pulse = radar.make_pulse()
         self.bandwidth = pulse.bandwidth_hz
         # incoherent sum of wavelets: the mean square at one instant is (scatterers per
@@ -424,33 +440,35 @@ class _ClutterModel:
         self.energy = float(np.sum(pulse.waveform(tt) ** 2) * (tt[1] - tt[0])) * self.bandwidth
         # across the footprint the two-way beam weight falls to 1/2 at the -3 dB edge;
         # its mean square over a uniform disc, numerically
-        w = beam_weight(np.linspace(0, self.half_bw, 50), radar.beamwidth_deg)
+        w = beam_weight(np.linspace(0, half_bw, 50), radar.beamwidth_deg)
         self.w2 = float(np.mean(w * w * np.linspace(0, 1, 50)) * 2)
         self.af = antenna_factor(radar.antenna_gain_dbi, fc)
         layers = scenario.snowpack.layers
         a = 0.5 * cl.scatterer_size_m * np.linspace(0.5, 1.5, 101)
-        self.amp2 = []
+        amp2 = []
         for j, n in enumerate(self.opt.index):
             _, K, r = clutter_block_contrast(layers[min(j, len(layers) - 1)], fc)
             k = 2 * math.pi * fc * n / C0_M_S
             sigma = np.minimum(4 * math.pi * k**4 * a**6 * K**2, math.pi * a * a * r * r)
-            self.amp2.append(float(np.mean(sigma)) / (4 * math.pi) / n**2)
+            amp2.append(float(np.mean(sigma)) / (4 * math.pi) / n**2)
+        self.amp2 = np.array(amp2)
 
-    def rms(self, depth_m: float) -> float:
+    def rms(self, depths_m: np.ndarray) -> np.ndarray:
+        """RMS clutter amplitude with the echo of each depth in ``depths_m``."""
+        depths = np.asarray(depths_m, float)
         if self.density <= 0:
-            return 0.0
+            return np.zeros(depths.shape)
         opt = self.opt
-        j = _layer_of(opt, depth_m)
-        n = float(opt.index[j])
-        s_snow = math.sin(self.half_bw) / n
-        radius = self.h * math.tan(self.half_bw) + depth_m * s_snow / math.sqrt(1 - s_snow**2)
+        j = _layer_of(opt, depths)
+        n = opt.index[j]
+        radius = beam_edge_m(opt, self.h, self.beamwidth_deg, depths)
         shell = C0_M_S / (2 * self.bandwidth * n)
         count = self.density * math.pi * radius**2 * shell
-        D = _above(opt, depth_m)
-        r_e = self.h + float(np.sum(D / opt.index))
-        att = math.exp(-2 * float(np.dot(opt.alpha_np_m, D)))
-        return (self.af * _two_way_transmission(opt, depth_m) * att
-                * math.sqrt(count * self.amp2[j] * self.w2 * self.energy) / r_e**2)
+        D = _above_many(opt, depths)
+        r_e = self.h + D @ (1.0 / opt.index)
+        att = np.exp(-2 * (D @ opt.alpha_np_m))
+        return (self.af * _two_way_transmission(opt, D) * att
+                * np.sqrt(count * self.amp2[j] * self.w2 * self.energy) / r_e**2)
 
 
 def _depth_at_time_m(optics: ColumnOptics, h: float, time_s: float) -> float:
@@ -485,10 +503,10 @@ def _deepest(radar: Any, model: _EchoModel, clutter: _ClutterModel, noise: float
     dr_floor = model.surface_peak() * 10 ** (-radar.dynamic_range_db / 20)
 
     def margins(depths: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        times = np.array([_two_way_time_s(opt, h, float(z)) for z in depths])
+        times = 2.0 * (h + _above_many(opt, depths) @ opt.index) / C0_M_S
         floors = np.array([
             np.full(depths.size, noise),
-            [clutter.rms(float(z)) for z in depths],
+            clutter.rms(depths),
             np.full(depths.size, dr_floor),
             np.where(times <= radar.ringing_duration_s, 10 ** (radar.ringing_level_db / 20),
                      0.0),
@@ -607,7 +625,7 @@ def link_budget(scenario: Any, target: Any = None, *,
     rms = noise_rms(radar.transmit_power_dbm, radar.noise_floor_dbm, radar.stacking)
     enr = float(db20(echo.peak / rms))
     clutter_model = _ClutterModel(scenario, optics, SEARCH_LIMIT_M)
-    clutter = clutter_model.rms(depth)
+    clutter = float(clutter_model.rms(np.array([depth]))[0])
     ecr = NO_CLUTTER_DB if clutter <= 0 else min(float(db20(echo.peak / clutter)),
                                                   NO_CLUTTER_DB)
     lim = _deepest(radar, model, clutter_model, rms, thr)

@@ -34,8 +34,8 @@ import numpy as np
 from .constants import C0_M_S
 from .raypaths import layers_above_m
 
-__all__ = ["CLUTTER_MARGIN_DB", "footprint_radius_m", "link_budgets", "overruling_warnings",
-           "two_way_time_s", "window_needed_s"]
+__all__ = ["CLUTTER_MARGIN_DB", "beam_edge_m", "footprint_radius_m", "link_budgets",
+           "overruling_warnings", "two_way_time_s", "window_needed_s"]
 
 #: Echo-to-clutter ratio below which an echo above the noise may still hide in the debris
 #: clutter, dB (an invented working figure: about twice the clutter amplitude).
@@ -64,16 +64,28 @@ def window_needed_s(optics: Any, antenna_height_m: float, depth_m: float,
     return _WINDOW_MARGIN * t
 
 
+def beam_edge_m(optics: Any, antenna_height_m: float, beamwidth_deg: float,
+                depth_m: float | np.ndarray) -> float | np.ndarray:
+    """Horizontal distance from the antenna to the -3 dB beam's edge at ``depth_m``, m,
+    refracted at every interface (``h tan(b/2)`` in the air, then ``d_j tan(theta_j)``
+    with ``sin theta_j = sin(b/2) / n_j``; see the module notes). The footprint here and
+    the budget's clutter cell both use it; an array of depths gives an array."""
+    half = math.radians(beamwidth_deg) / 2.0
+    thick = np.asarray(optics.thickness_m, dtype=float)
+    tops = np.concatenate([[0.0], np.cumsum(thick)[:-1]])
+    d = np.clip(np.asarray(depth_m, dtype=float)[..., None] - tops, 0.0, thick)
+    s = math.sin(half) / np.asarray(optics.index, dtype=float)
+    edge = antenna_height_m * math.tan(min(half, math.radians(89.0))) + d @ (
+        s / np.sqrt(1.0 - s * s))
+    return edge if np.ndim(edge) else float(edge)
+
+
 def footprint_radius_m(optics: Any, antenna_height_m: float, beamwidth_deg: float,
                        depth_m: float, fresnel_radius_m: float) -> float:
     """How far to the side of the antenna the radar sees at ``depth_m``, m: the larger of
-    the first Fresnel zone and the refracted -3 dB beam edge (see the module notes)."""
-    half = math.radians(beamwidth_deg) / 2.0
-    d = layers_above_m(optics.thickness_m, depth_m)
-    s = math.sin(half) / np.asarray(optics.index, dtype=float)
-    beam = antenna_height_m * math.tan(min(half, math.radians(89.0))) + float(
-        np.sum(d * s / np.sqrt(1.0 - s * s)))
-    return max(beam, fresnel_radius_m)
+    the first Fresnel zone and the refracted -3 dB beam edge (:func:`beam_edge_m`)."""
+    return max(beam_edge_m(optics, antenna_height_m, beamwidth_deg, depth_m),
+               fresnel_radius_m)
 
 
 def _m(x: float) -> str:

@@ -48,7 +48,12 @@ from scipy import ndimage
 from . import processing as P
 from ._validate import check_range
 from .constants import C0_M_S
-from .processing._common import check_velocity, sample_interval_s, trace_spacing_m
+from .processing._common import (
+    check_velocity,
+    median_trace,
+    sample_interval_s,
+    trace_spacing_m,
+)
 from .radargram import Radargram, TruthMarker
 
 __all__ = [
@@ -280,8 +285,18 @@ def _background(e2: np.ndarray, step: int, half: int) -> np.ndarray:
     traces, evaluated every ``step`` rows and interpolated."""
     rows = e2.shape[0]
     centres = np.arange(0, rows, step)
-    vals = [np.percentile(e2[max(0, c - half):c + half + 1], BACKGROUND_PERCENTILE)
-            for c in centres]
+    vals = np.empty(centres.size)
+    inner = (centres >= half) & (centres + half < rows)  # bands of full height
+    bands = np.lib.stride_tricks.sliding_window_view(e2, min(2 * half + 1, rows), axis=0)
+    todo = np.flatnonzero(inner)
+    per_block = max(1, 2**16 // bands[0].size)  # bands copied at once (cache-sized)
+    for k in range(0, todo.size, per_block):
+        i = todo[k:k + per_block]
+        vals[i] = np.percentile(bands[centres[i] - half].reshape(i.size, -1),
+                                BACKGROUND_PERCENTILE, axis=1)
+    for i in np.flatnonzero(~inner):
+        c = centres[i]
+        vals[i] = np.percentile(e2[max(0, c - half):c + half + 1], BACKGROUND_PERCENTILE)
     return np.interp(np.arange(rows), centres, vals)
 
 
@@ -319,7 +334,7 @@ def _detect_processed(rg: Radargram, col: _Column, fc: float, thr: float, zmin: 
     t_cut = t[a:b].reshape(-1, k).mean(axis=1) if k > 1 else t[a:b]
     # median background removal: what mean removal leaves of a wide echo (a flat copy at
     # 1/n_traces on every trace) would migrate into edge diffractions at the line ends
-    cut = cut - np.median(cut, axis=1, keepdims=True)
+    cut = cut - median_trace(cut)
     small = Radargram(cut, t_cut, rg.position_m)
     # RMS velocity at the middle of the searched depths, for Stolt's record time origin
     z_mid = 0.5 * (max(float(z_t[i_lo]), 0.0) + float(z_t[i_hi]))
@@ -330,7 +345,7 @@ def _detect_processed(rg: Radargram, col: _Column, fc: float, thr: float, zmin: 
     mig = P.migrate(small, v_mig).data
     # what is still flat after migration (the copy of a wide body's echo that mean
     # background removal leaves on every trace) goes with the median trace
-    mig = mig - np.median(mig, axis=1, keepdims=True)
+    mig = mig - median_trace(mig)
     env = P.envelope(small.with_data(mig)).data
     dtc = float(t_cut[1] - t_cut[0])
     n_sm = max(1, int(round(1.0 / fc / dtc)))  # one period, in samples

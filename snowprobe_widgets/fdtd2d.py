@@ -650,39 +650,23 @@ def scenario_cylinder(scenario: object) -> tuple[BuriedCylinder, str]:
 
     The computed plane is the vertical plane of the survey line; the stand-in is an
     infinitely long circular cylinder across the line, as wide as the object is high and
-    with its top at the object's top. A boulder keeps its rock and a branch its wood; a
-    person becomes a perfect conductor (body tissues reflect about 70 % of the field, and
-    their permittivity near 50 would need a seven times finer grid); a flat metal plate
-    has no circular stand-in and is refused.
+    with its top at the object's top, as its kind gives it (``cylinder_stand_in``): a
+    boulder keeps its rock and a branch its wood; a person becomes a perfect conductor; a
+    flat metal plate has no circular stand-in and is refused.
     """
     targets = getattr(scenario, "targets", ())
     if not targets:
         raise ValueError("the 2-D check needs a buried person or object: the scenario has "
                          "none")
+    from .targets import kind_of
+
     obj = targets[0]
-    kind = obj.kind
-    if kind == "person":
-        d = obj.body_thickness_m
-        from .materials import metal
-
-        material = metal()
-        what = (f"the first person as a perfectly conducting cylinder {d:.2f} m across "
-                "(the body's thickness)")
-    elif kind == "boulder":
-        d = obj.diameter_m
-        material = obj.material()
-        what = (f"the boulder as a rock cylinder {d:.2f} m across (a cylinder focuses in "
-                "one plane only: its back-face echo differs from a sphere's in phase and "
-                "strength)")
-    elif kind == "branch":
-        from .materials import rock
-
-        d = obj.diameter_m
-        material = rock(obj.permittivity, 0.0)
-        what = f"the branch as a wood cylinder {d:.2f} m across, lying across the line"
-    else:
-        raise ValueError(f"the 2-D check has no cylinder stand-in for a {kind} (a flat "
-                         "plate); put a person, boulder or branch first")
+    stand_in = getattr(kind_of(obj), "cylinder_stand_in", None)
+    found = stand_in(obj) if stand_in is not None else None
+    if found is None:
+        raise ValueError(f"the 2-D check has no cylinder stand-in for a {obj.kind} (no round "
+                         "cross-section); put a person, boulder or branch first")
+    d, material, what = found
     cyl = BuriedCylinder(obj.position_m, obj.depth_m + d / 2, d / 2, material)
     pol = _scenario_polarization(scenario)
     field = "E along the axis" if pol == "TE" else "E along the line, H along the axis"
@@ -695,8 +679,10 @@ def scenario_cylinder(scenario: object) -> tuple[BuriedCylinder, str]:
 def _scenario_polarization(scenario: object) -> str:
     """TE when the radar's field lies across the line (along the stand-in's axis), TM when
     it lies along the line."""
-    radar = getattr(scenario, "radar", None)
-    return "TM" if getattr(radar, "polarization", "across_line") == "along_line" else "TE"
+    from .raypaths import ray_polarization
+
+    return ray_polarization(getattr(getattr(scenario, "radar", None), "polarization",
+                                    "across_line"))
 
 
 def scenario_check(scenario: object, position_m: float, *,
@@ -741,9 +727,12 @@ def scenario_check(scenario: object, position_m: float, *,
                         antenna_height_m=radar.antenna_height_m, pulse=pulse,
                         dt_s=radar.dt_s, n_samples=radar.n_samples,
                         polarization=_scenario_polarization(scenario), progress=progress)
+    from .targets import kind_of
+
     obj = scenario.targets[0]
-    one = dc.replace(scenario, persons=(obj,) if obj.kind == "person" else (),
-                     objects=() if obj.kind == "person" else (obj,),
+    person = kind_of(obj).placement == "persons"
+    one = dc.replace(scenario, persons=(obj,) if person else (),
+                     objects=() if person else (obj,),
                      survey=Survey(x, x + 0.01, 0.01),
                      clutter=Clutter(scatterer_density_per_m3=0.0))
     model = simulate(one, components=("objects",)).data[:, 0]

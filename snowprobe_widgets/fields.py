@@ -264,6 +264,12 @@ def _polarizations() -> tuple[str, ...]:
     return tuple(POLARIZATIONS)
 
 
+def _layer_models() -> tuple[str, ...]:
+    from .materials import layer_model_names
+
+    return layer_model_names()
+
+
 def _pulse_names() -> tuple[str, ...]:
     from .pulses import pulse_names
 
@@ -315,6 +321,9 @@ _DECLARED: list[Field] = [
             "snow slows the wave and absorbs it."),
     _f("layer", "ice_crust", "boolean", "Ice crust",
        help="A melt-freeze crust or ice lens: 700-917 kg/m³ and at most 0.3 m thick."),
+    _f("layer", "dielectric_model", "choice", "Dielectric model", choices=_layer_models,
+       help="Which published model turns density and water into permittivity: snow (the "
+            "default), a dry+wet pair, ice, or a plugin's model."),
     # ---- snowpack
     _f("snowpack", "temperature_c", "number", "Snow temperature", unit="degC",
        display_unit="°C", low=-50.0, high=0.0, step=0.5, decimals=1,
@@ -427,11 +436,11 @@ _DECLARED: list[Field] = [
     _f("radar", "antenna_band_low_hz", "optional number", "Antenna band, low edge",
        unit="Hz", display_unit="MHz", scale=1e6, low=0.0, high=20e9, low_open=True, log=True,
        decimals=0, help="Lowest frequency the antenna radiates with its stated gain; empty: "
-                        "the pulse's own half-power band."),
+                        "the half-power band of the pulse sent and received."),
     _f("radar", "antenna_band_high_hz", "optional number", "Antenna band, high edge",
        unit="Hz", display_unit="MHz", scale=1e6, low=0.0, high=20e9, low_open=True, log=True,
        decimals=0, help="Highest frequency the antenna radiates with its stated gain; empty: "
-                        "the pulse's own half-power band."),
+                        "the half-power band of the pulse sent and received."),
     _f("radar", "dynamic_range_db", "number", "Dynamic range", unit="dB", display_unit="dB",
        low=20.0, high=200.0, step=1.0, decimals=0,
        help="How much weaker than the surface echo an echo may be and still be recorded "

@@ -11,12 +11,20 @@ source. Where published models disagree (dry snow by about 3 %, wet snow by 15-3
 at 5 % water) the families offer several models by name through the :data:`MODELS` registry
 (keys ``"<family>:<model>"``); other packages add models through the entry-point group
 ``snowprobe_widgets.materials``.
+
+A scenario layer names its dielectric model (``Layer.dielectric_model``, default
+:data:`DEFAULT_LAYER_MODEL`, the package's snow model as it always was). The names a layer
+accepts (:func:`layer_model_names`) are the entries of :data:`LAYER_MODELS` (``"snow"``,
+``"ice"``, and plugins through the entry-point group ``snowprobe_widgets.layer_models``)
+and every pair ``"<dry model>+<wet model>"`` of :data:`MODELS` (``"kovacs+crim"``), plugin
+models included; :func:`layer_material` makes the material.
 """
 
 from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass, field
+from functools import lru_cache
 
 import numpy as np
 
@@ -29,6 +37,7 @@ __all__ = [
     "clothing", "soil", "rock", "metal", "dry_snow_models", "wet_snow_models", "TISSUES",
     "velocity_m_ns", "attenuation_db_m", "wavelength_m", "loss_tangent", "refractive_index",
     "DEFAULT_DRY_SNOW_MODEL", "DEFAULT_WET_SNOW_MODEL", "TEMPERATURE_RANGE_C",
+    "LAYER_MODELS", "DEFAULT_LAYER_MODEL", "layer_material", "layer_model_names",
 ]
 
 #: Range of frequencies every constructor accepts, Hz (the synthesiser evaluates whole bands).
@@ -171,16 +180,23 @@ def ice_real(temperature_c: float) -> float:
     return 3.1884 + 9.1e-4 * temperature_c
 
 
-def ice_imag(f: np.ndarray, temperature_c: float) -> np.ndarray:
-    """Loss eps'' of pure ice, Mätzler (2006) 'Microwave dielectric properties of ice', §5.3."""
+@lru_cache(maxsize=64)
+def _ice_loss_terms(temperature_c: float) -> tuple[float, float]:
+    # the temperature-only parts of Matzler (2006) sec. 5.3, once per temperature
     tk = temperature_c + 273.15
     theta = 300.0 / tk - 1.0
+    alpha = (0.00504 + 0.0062 * theta) * float(np.exp(-22.1 * theta))
+    b1, b = 0.0207, 335.0
+    beta_0 = (b1 / tk) * float(np.exp(b / tk)) / (float(np.exp(b / tk)) - 1.0) ** 2
+    dbeta = float(np.exp(-9.963 + 0.0372 * (tk - 273.16)))
+    return alpha, beta_0 + dbeta
+
+
+def ice_imag(f: np.ndarray, temperature_c: float) -> np.ndarray:
+    """Loss eps'' of pure ice, Mätzler (2006) 'Microwave dielectric properties of ice', §5.3."""
+    alpha, beta = _ice_loss_terms(float(temperature_c))
     fg = f * 1e-9
-    alpha = (0.00504 + 0.0062 * theta) * np.exp(-22.1 * theta)
-    b1, b, b2 = 0.0207, 335.0, 1.16e-11
-    beta_m = (b1 / tk) * np.exp(b / tk) / (np.exp(b / tk) - 1.0) ** 2 + b2 * fg**2
-    dbeta = np.exp(-9.963 + 0.0372 * (tk - 273.16))
-    return alpha / fg + (beta_m + dbeta) * fg
+    return alpha / fg + (beta + 1.16e-11 * fg**2) * fg
 
 
 def _ice(f: np.ndarray, temperature_c: float) -> np.ndarray:
@@ -196,9 +212,9 @@ def _dry_snow(f: np.ndarray, eps_real: float, v_ice: float, temperature_c: float
     return eps_real - 1j * _dry_loss(f, v_ice, temperature_c)
 
 
-def water_debye(f: np.ndarray, temperature_c: float) -> np.ndarray:
-    """Pure water, double Debye of Meissner & Wentz (2004, IEEE TGRS 42(9), eqs. 5-6)."""
-    t = temperature_c
+@lru_cache(maxsize=64)
+def _water_terms(t: float) -> tuple[float, float, float, float, float]:
+    # the temperature-only parts of Meissner & Wentz (2004), once per temperature
     a = (5.7230, 2.2379e-2, -7.1237e-4, 5.0478, -7.0315e-2, 6.0059e-4,
          3.6143, 2.8841e-2, 1.3652e-1, 1.4825e-3, 2.4166e-4)
     eps_s = (37088.6 - 82.168 * t) / (421.854 + t)
@@ -206,6 +222,12 @@ def water_debye(f: np.ndarray, temperature_c: float) -> np.ndarray:
     nu_1 = (45.0 + t) / (a[3] + a[4] * t + a[5] * t**2)
     eps_inf = a[6] + a[7] * t
     nu_2 = (45.0 + t) / (a[8] + a[9] * t + a[10] * t**2)
+    return eps_s, eps_1, nu_1, eps_inf, nu_2
+
+
+def water_debye(f: np.ndarray, temperature_c: float) -> np.ndarray:
+    """Pure water, double Debye of Meissner & Wentz (2004, IEEE TGRS 42(9), eqs. 5-6)."""
+    eps_s, eps_1, nu_1, eps_inf, nu_2 = _water_terms(float(temperature_c))
     fg = f * 1e-9
     # their e^{-i omega t} form eps_s/(1 - i f/nu); conjugated to our e^{+j omega t}
     relax_1 = (eps_s - eps_1) / (1 + 1j * fg / nu_1)
@@ -516,3 +538,58 @@ def metal() -> Material:
                     perfect_conductor=True)
 
 
+
+
+# --------------------------------------------------------------------------- layer models
+#: Dielectric models a scenario layer can name, ``model(density_kg_m3, lwc_percent,
+#: temperature_c) -> Material``; plugins add entries through the entry-point group
+#: ``snowprobe_widgets.layer_models``. Pairs ``"<dry>+<wet>"`` of :data:`MODELS` are
+#: accepted besides (see :func:`layer_model_names`).
+LAYER_MODELS = Registry("snowprobe_widgets.layer_models", "layer dielectric model")
+#: The model of a layer that names none: :func:`snow` with the default dry and wet models.
+DEFAULT_LAYER_MODEL = "snow"
+
+
+@LAYER_MODELS.register("snow")
+def _layer_snow(density_kg_m3: float, lwc_percent: float, temperature_c: float) -> Material:
+    """Snow: the default dry model, with water the default wet model's water term."""
+    return snow(density_kg_m3, lwc_percent, temperature_c=temperature_c)
+
+
+@LAYER_MODELS.register("ice")
+def _layer_ice(density_kg_m3: float, lwc_percent: float, temperature_c: float) -> Material:
+    """Solid ice (:func:`ice`) whatever the layer's density; it holds no liquid water."""
+    if lwc_percent != 0:
+        raise ValueError(f"lwc_percent = {lwc_percent:g} % is outside the allowed range "
+                         "[0, 0] % for dielectric_model = 'ice' (solid ice holds no liquid "
+                         "water)")
+    return ice(temperature_c)
+
+
+def _pairs() -> tuple[str, ...]:
+    return tuple(f"{d}+{w}" for d in dry_snow_models() for w in wet_snow_models())
+
+
+def layer_model_names() -> tuple[str, ...]:
+    """Names a layer's ``dielectric_model`` accepts: :data:`LAYER_MODELS` entries, then
+    every ``"<dry>+<wet>"`` pair of :func:`dry_snow_models` and :func:`wet_snow_models`."""
+    return LAYER_MODELS.names() + tuple(p for p in _pairs() if p not in LAYER_MODELS)
+
+
+def layer_material(model: str, density_kg_m3: float, lwc_percent: float = 0.0, *,
+                   temperature_c: float = -5.0) -> Material:
+    """The material of a layer of dielectric model ``model`` (a :func:`layer_model_names`
+    entry); ``"snow"`` is :func:`snow` with its default models.
+
+    Raises
+    ------
+    ValueError
+        If ``model`` is not a known name (the message lists the known ones).
+    """
+    if model in LAYER_MODELS:
+        return LAYER_MODELS.get(model)(density_kg_m3, lwc_percent, temperature_c)
+    dry, plus, wet = str(model).partition("+")
+    if not (plus and f"dry_snow:{dry}" in MODELS and f"wet_snow:{wet}" in MODELS):
+        check_choice("dielectric_model", model, layer_model_names())
+    return snow(density_kg_m3, lwc_percent, dry_model=dry, wet_model=wet,
+                temperature_c=temperature_c)

@@ -397,7 +397,7 @@ def lateral_range_from_budget(scenario: Any, *, antenna_height_m: float | None =
     """
     from .budget import link_budget
     from .radar_equation import beam_weight
-    from .raypaths import solve_rays
+    from .raypaths import ray_polarization, solve_rays
     from .synthesis import column_optics
 
     depths = _check_depths(depths_m)
@@ -422,7 +422,8 @@ def lateral_range_from_budget(scenario: Any, *, antenna_height_m: float | None =
         for d, a0 in zip(depths, ratio, strict=True):
             rays = solve_rays(offsets, np.full(offsets.shape, float(d)), antenna_height_m=h,
                               thickness_m=optics.thickness_m, index=optics.index,
-                              alpha_np_m=optics.alpha_np_m)
+                              alpha_np_m=optics.alpha_np_m,
+                              polarization=ray_polarization(radar.polarization))
             angle = np.arcsin(np.clip(rays.sin_theta0, 0.0, 1.0))
             gain = (beam_weight(angle, radar.beamwidth_deg)
                     * rays.transmission / rays.transmission[0]

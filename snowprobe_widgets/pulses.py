@@ -2,25 +2,46 @@
 
 Spectrum convention: ``waveform(t) = integral S(f) exp(+j 2 pi f t) df`` over all f (two-sided),
 with every pulse zero-phase about t = 0 (an echo delayed by tau is
-``S(f) exp(-j 2 pi f tau)``) and waveform peak |w| = 1. Plugins add shapes through the
-entry-point group ``snowprobe_widgets.pulses``: the entry point's name is the key and its
-object a factory ``factory(center_frequency_hz, bandwidth_hz=None, **options) -> Pulse``.
+``S(f) exp(-j 2 pi f tau)``) and waveform peak |w| = 1. Plugins add shapes in two ways:
+
+* **a spectrum function** (all a new pulse needs), in the entry-point group
+  ``snowprobe_widgets.pulse_spectra`` or with :func:`register_spectrum`:
+  ``spectrum(freq_hz, center_frequency_hz, bandwidth_hz, **params) -> complex ndarray``,
+  called with an array of frequencies >= 0 (Hz), the radar's centre frequency and its
+  bandwidth (None: the shape's own), returning the pulse's spectrum there (same shape),
+  zero-phase about t = 0 (an echo's delay is added by the model). Keyword parameters with
+  defaults are the pulse's own parameters (``make_pulse(name, fc, **params)``). The package
+  takes the negative frequencies as the complex conjugate (a real waveform), scales the
+  spectrum so that the waveform's peak is 1, computes the waveform by an inverse FFT, and
+  measures the -6 dB bandwidth when none is given;
+* a factory, in the group ``snowprobe_widgets.pulses``:
+  ``factory(center_frequency_hz, bandwidth_hz=None, **options) -> Pulse``.
+
+The entry point's name is the pulse's name (what a scenario's ``radar.pulse`` holds).
 """
 
 from __future__ import annotations
 
+import inspect
 import math
-from dataclasses import dataclass
+from collections.abc import Callable
+from dataclasses import dataclass, field
 from functools import cached_property, lru_cache
+from typing import Any
 
 import numpy as np
 
 from ._validate import check_choice, check_range
 from .registry import Registry
 
-__all__ = ["Pulse", "PULSES", "make_pulse", "pulse_names"]
+__all__ = ["Pulse", "PULSES", "SPECTRA", "make_pulse", "pulse_names", "register_spectrum",
+           "spectrum_pulse"]
 
 PULSES = Registry("snowprobe_widgets.pulses", "pulse shape")
+#: Pulse spectra of plugins, ``spectrum(freq_hz, center_frequency_hz, bandwidth_hz,
+#: **params) -> complex ndarray`` (see the module notes); entry-point group
+#: ``snowprobe_widgets.pulse_spectra``.
+SPECTRA = Registry("snowprobe_widgets.pulse_spectra", "pulse spectrum")
 
 _WINDOWS = ("hann", "hamming", "rectangular")
 
@@ -42,6 +63,13 @@ class Pulse:
         Number of frequency steps (stepped-frequency sweep only; 0 otherwise).
     window : str
         Spectral window of a stepped-frequency sweep ("hann", "hamming", "rectangular").
+    spectrum_function : callable or None
+        A plugin's spectrum function (:data:`SPECTRA`); None for the built-in shapes.
+    options : tuple of (str, object)
+        The plugin spectrum's own parameters, passed to it as keywords.
+    measured_bandwidth : bool
+        Plugin pulses: the radar gave no bandwidth, so the spectrum function gets None and
+        ``bandwidth_hz`` is the measured -6 dB width of its spectrum.
     """
 
     name: str
@@ -49,6 +77,9 @@ class Pulse:
     bandwidth_hz: float
     n_steps: int = 0
     window: str = ""
+    spectrum_function: Callable[..., Any] | None = field(default=None, repr=False)
+    options: tuple[tuple[str, Any], ...] = ()
+    measured_bandwidth: bool = False
 
     # -------------------------------------------------------------- analytic forms
     @property
@@ -95,10 +126,44 @@ class Pulse:
         x = np.linspace(0.0, 1.0, 4001)
         return 2.0 * float(np.trapezoid(self._window(x), x)) * self.bandwidth_hz
 
+    # -------------------------------------------------------------- plugin spectra
+    def _plugin_raw(self, fa: np.ndarray) -> np.ndarray:
+        """The plugin function's spectrum at frequencies ``fa`` >= 0, unscaled."""
+        assert self.spectrum_function is not None
+        bandwidth = None if self.measured_bandwidth else self.bandwidth_hz
+        out = np.asarray(self.spectrum_function(fa, self.center_frequency_hz, bandwidth,
+                                                **dict(self.options)), dtype=complex)
+        if out.shape != fa.shape or not np.all(np.isfinite(out)):
+            raise ValueError(f"pulse {self.name!r}: its spectrum function must return finite "
+                             f"values of the frequencies' shape {fa.shape}, got shape "
+                             f"{out.shape}")
+        return out
+
+    @cached_property
+    def _plugin_table(self) -> tuple[np.ndarray, np.ndarray, float]:
+        """(times s, raw waveform, scale making its peak 1) by an inverse FFT of the
+        plugin spectrum up to where it has fallen below 1e-6 of its peak."""
+        f_top = _plugin_top_hz(self)
+        n = _TABLE_SAMPLES
+        dt = 1.0 / (16.0 * f_top)  # eight times the Nyquist rate: linear reading is exact
+        # to about 1e-3 of the peak
+        freq = np.fft.rfftfreq(n, dt)
+        spec = np.where(freq <= f_top, self._plugin_raw(freq), 0.0)
+        # w(t) = 2 Re sum S(f_k) exp(j 2 pi f_k t) df, with df = 1 / (n dt)
+        w = np.fft.fftshift(np.fft.irfft(spec, n)) / dt
+        t = (np.arange(n) - n // 2) * dt
+        peak = float(np.max(np.abs(w)))
+        if not peak > 0.0:
+            raise ValueError(f"pulse {self.name!r}: its spectrum is zero everywhere")
+        return t, w, 1.0 / peak
+
     def spectrum(self, freq_hz: object) -> np.ndarray:
         """Analytic two-sided spectrum S(f), complex, same shape as ``freq_hz`` (any real f)."""
         f = np.asarray(freq_hz, dtype=float)
         fa = np.abs(f)
+        if self.spectrum_function is not None:
+            s = self._plugin_raw(fa) * self._plugin_table[2]
+            return np.where(f < 0, np.conj(s), s)
         if self.name == "ricker":
             # Ricker (1953); transform of (1 - 2 pi^2 fp^2 t^2) exp(-pi^2 fp^2 t^2)
             fp = self.center_frequency_hz
@@ -130,6 +195,9 @@ class Pulse:
     def waveform(self, time_s: object) -> np.ndarray:
         """The pulse in time (peak 1, centred on t = 0), float, same shape as ``time_s``."""
         t = np.asarray(time_s, dtype=float)
+        if self.spectrum_function is not None:
+            tt, w, scale = self._plugin_table
+            return np.interp(t, tt, w * scale, left=0.0, right=0.0)
         if self.name == "ricker":
             a = (math.pi * self.center_frequency_hz * t) ** 2
             return (1 - 2 * a) * np.exp(-a)
@@ -231,12 +299,77 @@ def stepped_frequency(center_frequency_hz: float, bandwidth_hz: float | None = N
     return Pulse("stepped_frequency", fc, b, n_steps=n, window=window)
 
 
+#: Samples of the inverse FFT giving a plugin pulse's waveform (at sixteen samples per
+#: period of its top frequency the table spans 4096 periods: far longer than any pulse).
+_TABLE_SAMPLES = 65536
+
+
+@lru_cache(maxsize=256)
+def _plugin_top_hz(pulse: Pulse) -> float:
+    """Highest frequency where a plugin spectrum exceeds 1e-6 of its peak (scan to 20 fc)."""
+    f = np.linspace(0.0, 20.0 * pulse.center_frequency_hz, 20001)
+    s = np.abs(pulse._plugin_raw(f))
+    if not s.max() > 0.0:
+        raise ValueError(f"pulse {pulse.name!r}: its spectrum is zero from 0 to 20 times "
+                         "the centre frequency")
+    keep = np.nonzero(s > 1e-6 * s.max())[0]
+    return float(f[min(keep[-1] + 1, f.size - 1)])
+
+
+def register_spectrum(name: str, spectrum: Callable[..., Any] | None = None) -> Any:
+    """Register a pulse by its spectrum function (usable as a decorator); see the module
+    notes for the protocol. Plugins may instead declare an entry point in the group
+    ``snowprobe_widgets.pulse_spectra``."""
+    if name in PULSES:
+        raise ValueError(f"pulse shape {name!r} is already registered")
+    return SPECTRA.register(name, spectrum)
+
+
+def spectrum_pulse(name: str, center_frequency_hz: float, bandwidth_hz: float | None = None,
+                   **params: Any) -> Pulse:
+    """The pulse of the spectrum function registered as ``name`` (:data:`SPECTRA`).
+
+    ``params`` are the function's own keyword parameters (numbers, strings, booleans);
+    the bandwidth, when not given, is the measured -6 dB width of the spectrum.
+    """
+    func = SPECTRA.get(name)
+    fc = _check_fc(center_frequency_hz)
+    bw = None if bandwidth_hz is None else check_range(
+        "bandwidth_hz", bandwidth_hz, 0.0, 4.0 * fc, unit="Hz", low_open=True)
+    accepted = {p.name for p in list(inspect.signature(func).parameters.values())[3:]
+                if p.default is not p.empty}
+    for key, value in params.items():
+        if key not in accepted:
+            raise ValueError(f"pulse {name!r} has no parameter {key!r}; its parameters: "
+                             f"{', '.join(sorted(accepted)) or 'none'}")
+        if not isinstance(value, (int, float, str, bool)):
+            raise ValueError(f"pulse {name!r}: parameter {key} = {value!r} must be a number, "
+                             "string or bool")
+    options = tuple(sorted(params.items()))
+    if bw is not None:
+        return Pulse(name, fc, bw, spectrum_function=func, options=options)
+    probe = Pulse(name, fc, fc, spectrum_function=func, options=options,
+                  measured_bandwidth=True)
+    f = np.linspace(0.0, _plugin_top_hz(probe), 20001)
+    s = np.abs(probe._plugin_raw(f))
+    above = f[s >= 0.5 * s.max()]
+    width = float(above[-1] - above[0]) or float(f[1])
+    return Pulse(name, fc, width, spectrum_function=func, options=options,
+                 measured_bandwidth=True)
+
+
 def make_pulse(shape: str, center_frequency_hz: float, bandwidth_hz: float | None = None,
                **options: object) -> Pulse:
-    """Build the pulse registered as ``shape`` (see :func:`pulse_names`)."""
+    """Build the pulse registered as ``shape`` (see :func:`pulse_names`): a factory of
+    :data:`PULSES` or a spectrum function of :data:`SPECTRA`."""
+    if shape not in PULSES and shape in SPECTRA:
+        return spectrum_pulse(shape, center_frequency_hz, bandwidth_hz, **options)
+    if shape not in PULSES:
+        raise ValueError(f"unknown pulse shape {shape!r}; known: "
+                         f"{', '.join(repr(n) for n in pulse_names())}")
     return PULSES.get(shape)(center_frequency_hz, bandwidth_hz, **options)
 
 
 def pulse_names() -> tuple[str, ...]:
-    """Registered pulse shapes, for dropdowns."""
-    return PULSES.names()
+    """Registered pulse shapes (factories and spectrum functions), for dropdowns."""
+    return tuple(sorted(set(PULSES.names()) | set(SPECTRA.names())))

@@ -11,7 +11,10 @@ method in u = tan(theta_0) (X(u) is increasing and concave, so Newton from the p
 start converges monotonically) and returns, for the two-way path:
 
 - the travel time ``2 (h / (c cos theta_0) + sum_j D_j n_j / (c cos theta_j))``;
-- the two-way TE transmission through every interface crossed, prod (1 - r_TE^2);
+- the two-way transmission through every interface crossed, prod (1 - r^2), with the
+  Fresnel coefficient of the radar's polarisation in the ray's plane of incidence: TE
+  (E across that plane; ``Radar.polarization == "across_line"`` for a target below the
+  line) or TM (E in it; "along_line");
 - the two-way attenuation ``exp(-2 sum_j alpha_j D_j / cos theta_j)``;
 - the two-way geometrical spreading ``R_par' R_perp`` that goes with that two-way
   transmission: a scatterer at the end point returns ``T2 / (R_par' R_perp)`` times its
@@ -21,7 +24,9 @@ Spreading. One way, the field of a unit spherical wave from the antenna is
 ``t_down / sqrt(R_par R_perp)`` with ``R_perp = X / sin(theta_0) = sum_j D_j / (n_j cos
 theta_j)`` and ``R_par = cos(theta_0) dX/dtheta_0`` (air counted as a layer of index 1 and
 thickness h), from power conservation in a ray tube with the TE power transmittance (e.g.
-Cerveny, *Seismic Ray Theory*, 2001, ch. 4 for the ray-tube form; derivation ours). The way
+Cerveny, *Seismic Ray Theory*, 2001, ch. 4 for the ray-tube form; derivation ours; the TM
+power transmittance 1 - r_TM^2 enters the same way, since the power a tube carries is
+|E|^2 n cos(theta) for both polarisations). The way
 back is not the way down with the upward Fresnel coefficients: by reciprocity (the TE field
 obeys a scalar Helmholtz equation whose Green's function is symmetric in source and
 observer) the return leg equals the downward leg, so the two-way field is
@@ -48,7 +53,18 @@ import numpy as np
 
 from .constants import C0_M_S
 
-__all__ = ["RayResult", "solve_rays", "RayTable", "layers_above_m", "ray_polyline"]
+__all__ = ["RayResult", "solve_rays", "RayTable", "layers_above_m", "ray_polyline",
+           "ray_polarization"]
+
+#: Polarisation in the ray's plane of incidence for each ``Radar.polarization`` (the plane
+#: is the vertical plane along the line for a target below it).
+_IN_PLANE = {"across_line": "TE", "along_line": "TM"}
+
+
+def ray_polarization(radar_polarization: str) -> str:
+    """"TE" or "TM" in the vertical plane of the survey line for a radar polarisation
+    ("across_line": E across that plane, TE; "along_line": E in it, TM)."""
+    return _IN_PLANE[radar_polarization]
 
 
 def layers_above_m(thickness_m: np.ndarray, depth_m: float) -> np.ndarray:
@@ -67,7 +83,8 @@ class RayResult:
     time_s : ndarray
         Two-way travel time, s.
     transmission : ndarray
-        Two-way interface transmission, prod (1 - r_TE^2).
+        Two-way interface transmission, prod (1 - r^2), r the TE or TM Fresnel
+        coefficient.
     attenuation : ndarray
         Two-way amplitude attenuation factor.
     spreading_m2 : ndarray
@@ -100,6 +117,7 @@ def solve_rays(
     index: np.ndarray,
     alpha_np_m: np.ndarray,
     iterations: int = 40,
+    polarization: str = "TE",
 ) -> RayResult:
     """Trace refracted rays from the antenna to points (X, z) in the snowpack.
 
@@ -113,6 +131,9 @@ def solve_rays(
         Layer thicknesses (m), real refractive indices (>= 1) and amplitude attenuation
         coefficients (Np/m) at the centre frequency; the last layer is taken to extend
         below its bottom if z lies deeper.
+    polarization : {"TE", "TM"}
+        Polarisation in the plane of incidence for the interface transmission
+        (:func:`ray_polarization` of the radar's).
 
     Returns
     -------
@@ -153,6 +174,10 @@ def solve_rays(
     r_perp = h / c0
     r_par_sum = h / c0**3
     trans = np.ones_like(u)
+    # r = (q_above - q) / (q_above + q) with q = n cos(theta) (TE) or cos(theta) / n (TM):
+    # the Fresnel coefficients divided through by n_above n (e.g. Born & Wolf, Principles
+    # of Optics, 7th ed., sec. 1.5.2)
+    tm = polarization == "TM"
     ncos_above = c0
     s_local = s.copy()
     for j, (d, nj, aj) in enumerate(zip(D, n, alpha, strict=True)):
@@ -163,7 +188,7 @@ def solve_rays(
         att = att + aj * path
         r_perp = r_perp + d / (nj * cj)
         r_par_sum = r_par_sum + d / (nj * cj**3)
-        ncos = nj * cj
+        ncos = cj / nj if tm else nj * cj
         r = (ncos_above - ncos) / (ncos_above + ncos)
         entered = (d > 0) if j > 0 else np.ones(u.shape, bool)
         trans = np.where(entered, trans * (1.0 - r * r), trans)
@@ -209,11 +234,13 @@ class RayTable:
         beam: np.ndarray | None = None,
         dx_m: float = 0.03,
         dz_m: float = 0.015,
+        polarization: str = "TE",
     ) -> RayTable:
         """Tabulate X in [0, x_max_m] and z in ``z_range_m``.
 
         ``gain`` = transmission * attenuation / spreading (1/m^2), times the beam weight
-        when ``beam`` is given (a callable of the air angle in radians).
+        when ``beam`` is given (a callable of the air angle in radians); ``polarization``
+        as in :func:`solve_rays`.
         """
         nx = max(int(math.ceil(x_max_m / dx_m)) + 2, 2)
         z_lo, z_hi = z_range_m
@@ -221,7 +248,8 @@ class RayTable:
         x = np.arange(nx) * dx_m
         z = z_lo + np.arange(nz) * dz_m
         res = solve_rays(x[:, None], z[None, :], antenna_height_m=antenna_height_m,
-                         thickness_m=thickness_m, index=index, alpha_np_m=alpha_np_m)
+                         thickness_m=thickness_m, index=index, alpha_np_m=alpha_np_m,
+                         polarization=polarization)
         gain = res.transmission * res.attenuation / res.spreading_m2
         if beam is not None:
             gain = gain * beam(np.arcsin(np.clip(res.sin_theta0, 0.0, 1.0)))

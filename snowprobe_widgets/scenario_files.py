@@ -151,7 +151,8 @@ class _TaggedListOf:
 
 
 _LAYER = _Spec(Layer, {"thickness_m": _NUM, "density_kg_m3": _NUM, "lwc_percent": _NUM,
-                       "ice_crust": _BOOL}, group="layer")
+                       "ice_crust": _BOOL, "dielectric_model": _STR},
+               added=("dielectric_model",), group="layer")
 _SNOWPACK = _Spec(Snowpack, {"layers": _ListOf(_LAYER, 200), "temperature_c": _NUM},
                   group="snowpack")
 _GROUND = _Spec(Ground, {"kind": _STR, "water_fraction": _NUM, "permittivity": _NUM,

@@ -64,8 +64,9 @@ _THIN_LAYER_M = (0.01, 0.05)
 _DEPTH_TOL_M = 1e-9
 #: Highest centre frequency a radar may have, Hz (declared in fields.py).
 MAX_CENTER_FREQUENCY_HZ = declaration("radar", "center_frequency_hz").high
-#: Amplitude level of the half-power points, 1/sqrt(2) of the peak.
-HALF_POWER = 2.0 ** -0.5
+#: Amplitude level of the half-power points of the two-way (transmit x receive) response,
+#: read on the one-way spectrum: |S|^2 = 1/2 of its peak where |S| = 2^(-1/4) of it.
+TWO_WAY_HALF_POWER = 2.0 ** -0.25
 
 
 def _set(obj: object, name: str, value: Any) -> None:
@@ -128,10 +129,13 @@ class Radar:
         echo depends on it (a thin branch along or across the field).
     antenna_band_low_hz, antenna_band_high_hz : float or None
         Band the antenna radiates and receives with its stated gain, Hz, in (0, 20 GHz],
-        low < high. ``None`` takes the edge of the pulse's half-power band (amplitude
-        spectrum above 1/sqrt(2) of its peak; an antenna's band is quoted at its
-        half-power points, common practice): 0.62-1.44 f_c for a Ricker pulse
-        (REFERENCES 8.1). The link budget counts only echo energy inside it.
+        low < high. ``None`` takes the edge of the half-power band of the pulse sent and
+        received: an antenna's band is quoted at its half-power points (common practice),
+        and a monostatic antenna's echo passes its response twice, the pulse being its
+        one-way response (by reciprocity it receives as it radiates), so the echo's band
+        is where |S|^2 stays above half its peak, |S| above 2^(-1/4) of it: 0.72-1.31 f_c
+        for a Ricker pulse (from REFERENCES 8.1). The link budget counts only echo energy
+        inside it.
     dynamic_range_db : float
         Instantaneous dynamic range of the receiver, dB, in [20, 200]: the gain is set so
         the surface echo does not clip, and nothing more than this below it is recorded.
@@ -230,11 +234,11 @@ class Radar:
 
     @property
     def antenna_band_hz(self) -> tuple[float, float]:
-        """(low, high) edges of the antenna's band, Hz: the fields, or the pulse's
-        half-power band where they are ``None``."""
+        """(low, high) edges of the antenna's band, Hz: the fields, or the two-way
+        half-power band of the pulse where they are ``None``."""
         lo, hi = self.antenna_band_low_hz, self.antenna_band_high_hz
         if lo is None or hi is None:
-            p_lo, p_hi = self.make_pulse().band_hz(HALF_POWER)
+            p_lo, p_hi = self.make_pulse().band_hz(TWO_WAY_HALF_POWER)
             lo = p_lo if lo is None else lo
             hi = p_hi if hi is None else hi
         return float(lo), float(hi)

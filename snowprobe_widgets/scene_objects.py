@@ -81,16 +81,21 @@ class Layer:
     ice_crust : bool
         Mark the layer as a melt-freeze crust or ice lens: then its density must lie in
         [700, 917] kg/m3 and its thickness be at most 0.3 m.
+    dielectric_model : str
+        Name of the layer's dielectric model (:func:`snowprobe_widgets.materials.layer_model_names`;
+        default ``"snow"``: the package's snow model, Looyenga dry snow with Tiuri's water
+        term).
     """
 
     thickness_m: float
     density_kg_m3: float
     lwc_percent: float = 0.0
     ice_crust: bool = False
+    dielectric_model: str = "snow"
 
     def __post_init__(self) -> None:
         check_fields(self, "layer", ("thickness_m", "density_kg_m3", "lwc_percent",
-                                     "ice_crust"))
+                                     "ice_crust", "dielectric_model"))
         try:
             check_pore_water(self.density_kg_m3, self.lwc_percent, RHO_ICE_KG_M3)
         except ValueError as exc:
@@ -100,6 +105,16 @@ class Layer:
                 screen=f"Liquid water {self.lwc_percent:g} % does not fit in the pores of "
                        f"{self.density_kg_m3:.0f} kg/m³ snow: use at most "
                        f"{math.floor(1000 * room) / 10:g} %, or a lower density.") from None
+        try:  # the named model takes this layer (the ice model holds no water); the
+            # default model takes every layer the checks above accept
+            if self.dielectric_model != "snow":
+                self.material()
+        except ValueError as exc:
+            raise FieldError(
+                str(exc), field=declaration("layer", "dielectric_model"),
+                value=self.dielectric_model,
+                screen=f"Dielectric model {self.dielectric_model} does not take this layer "
+                       f"({exc}): choose another model, or change the layer.") from None
         if self.ice_crust:
             lo, hi = _CRUST_DENSITY
             if not lo <= self.density_kg_m3 <= hi:
@@ -118,12 +133,13 @@ class Layer:
                            f"use at most {_MAX_CRUST_THICKNESS_M:g} m, or untick Ice crust.")
 
     def material(self, temperature_c: float = -5.0) -> Any:
-        """The layer's dielectric model at ``temperature_c`` (degC; the snowpack's, which
-        :meth:`Snowpack.materials` passes), from :func:`snowprobe_widgets.materials.snow`."""
+        """The layer's material at ``temperature_c`` (degC; the snowpack's, which
+        :meth:`Snowpack.materials` passes), from its ``dielectric_model``
+        (:func:`snowprobe_widgets.materials.layer_material`)."""
         from . import materials
 
-        return materials.snow(self.density_kg_m3, self.lwc_percent,
-                              temperature_c=temperature_c)
+        return materials.layer_material(self.dielectric_model, self.density_kg_m3,
+                                        self.lwc_percent, temperature_c=temperature_c)
 
 
 @dataclass(frozen=True)
@@ -236,7 +252,8 @@ class Snowpack:
 
 
 def _resized(layer: Layer, thickness_m: float) -> Layer:
-    return Layer(thickness_m, layer.density_kg_m3, layer.lwc_percent, layer.ice_crust)
+    return Layer(thickness_m, layer.density_kg_m3, layer.lwc_percent, layer.ice_crust,
+                 layer.dielectric_model)
 
 
 @dataclass(frozen=True)

@@ -1,11 +1,14 @@
-"""Dotted paths into a scenario and the distributions a sweep draws from.
+"""Field paths of sweeps (on the field declarations) and the distributions they draw from.
 
-A path names one field of a :class:`~snowprobe_widgets.scene.Scenario` the way Python
-would reach it: ``"persons[0].depth_m"``, ``"radar.center_frequency_hz"``,
-``"snowpack.layers[*].lwc_percent"`` (``[*]`` means every item of the list, all set to
-the same value). Setting a value rebuilds the frozen value objects with
-``dataclasses.replace``, so every constructor re-checks its field and the error names the
-path, the value and the allowed range.
+A path names one field of a :class:`~snowprobe_widgets.scene.Scenario` the way the
+scenario file nests it: ``"persons[0].depth_m"``, ``"radar.center_frequency_hz"``,
+``"snowpack.layers[*].lwc_percent"`` (``[*]``: every item, all set to the same value).
+Paths, labels, units and bounds come from :mod:`snowprobe_widgets.fields` (one
+declaration per field, the same the design screen uses): :func:`parse_path` resolves a
+path with :func:`~snowprobe_widgets.fields.declaration_at`, :meth:`FieldPath.check`
+checks a value against the declared bounds and :meth:`FieldPath.set` sets it with
+:func:`~snowprobe_widgets.fields.with_value`, so every constructor re-checks the new
+scenario; every refusal names the path, the value and the allowed range.
 
 Distributions (:class:`Uniform`, :class:`Normal` with bounds, :class:`Choice`) are small
 frozen value objects with a JSON form; ``draw(rng)`` takes one value from a
@@ -14,9 +17,7 @@ frozen value objects with a JSON form; ``draw(rng)`` takes one value from a
 
 from __future__ import annotations
 
-import dataclasses
 import math
-import re
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
@@ -24,6 +25,7 @@ from typing import Any
 import numpy as np
 from scipy import special
 
+from . import fields
 from ._validate import check_range
 
 __all__ = [
@@ -36,126 +38,86 @@ __all__ = [
     "distribution_from_dict",
 ]
 
-_NAME = re.compile(r"[A-Za-z_][A-Za-z0-9_]*")
-_INDEX = re.compile(r"\[(\*|\d+)\]")
-
 
 @dataclass(frozen=True)
 class FieldPath:
-    """A parsed dotted path: attribute names and list indices (``None`` for ``[*]``).
+    """A field path resolved to its declaration (:class:`snowprobe_widgets.fields.Field`).
 
     Attributes
     ----------
     text : str
         The path as the user wrote it.
-    steps : tuple of (str or int or None)
-        Attribute names (str) and list indices (int, or None for every item).
+    group, name : str
+        The declaration's group and field name (``"person"``, ``"depth_m"``).
     """
 
     text: str
-    steps: tuple[str | int | None, ...]
+    group: str
+    name: str
 
-    def get(self, obj: Any) -> list[Any]:
-        """Every value the path reaches in ``obj`` (one, or one per ``[*]`` item)."""
-        return _get(obj, self.steps, self.text)
+    @property
+    def field(self) -> fields.Field:
+        """The field's declaration: label, units, hard and soft bounds, help."""
+        return fields.declaration(self.group, self.name)
 
-    def set(self, obj: Any, value: Any) -> Any:
-        """A copy of ``obj`` with the path's field(s) set to ``value``, re-validated.
+    def get(self, scenario: Any) -> list[Any]:
+        """Every value the path reaches in ``scenario`` (one, or one per ``[*]`` item)."""
+        value = fields.value_at(scenario, self.text)
+        return value if isinstance(value, list) else [value]
+
+    def check(self, value: Any) -> Any:
+        """``value`` checked against the declared bounds of the field.
 
         Raises
         ------
         ValueError
-            Naming the path, when the value is refused by the field's constructor.
+            A :class:`~snowprobe_widgets.fields.FieldError` naming the path, the value
+            and the allowed range.
         """
         try:
-            return _set(obj, self.steps, value, self.text)
+            return fields.check(self.group, self.name, value)
+        except fields.FieldError as exc:
+            raise self._refusal(value, exc) from None
+
+    def set(self, scenario: Any, value: Any) -> Any:
+        """A copy of ``scenario`` with the path's field(s) set to ``value``, re-validated.
+
+        Raises
+        ------
+        ValueError
+            Naming the path, when the declaration or a constructor refuses the value.
+        """
+        try:
+            return fields.with_value(scenario, self.text, value)
         except ValueError as exc:
-            raise ValueError(f"{self.text} = {value!r}: {exc}") from None
+            raise self._refusal(value, exc) from None
+
+    def _refusal(self, value: Any, exc: ValueError) -> fields.FieldError:
+        screen = f"{self.text}: {fields.screen_message(exc)}"
+        return fields.FieldError(f"{self.text} = {value!r}: {exc}",
+                                 field=getattr(exc, "field", None) or self.field,
+                                 value=value, screen=screen)
 
 
 def parse_path(text: str, scenario: Any) -> FieldPath:
-    """Parse ``text`` and check that it names a settable field of ``scenario``.
-
-    A settable field holds a number, a string or a bool (not a value object or a list).
+    """Resolve ``text`` to its field declaration and check that ``scenario`` has it.
 
     Raises
     ------
     ValueError
-        On bad syntax, an unknown field, an index beyond the list, or a path that ends on
-        a value object or a list; the message names the path.
+        On bad syntax, a field with no declaration, or an index beyond the scenario's
+        list; the message names the path.
     """
     if not isinstance(text, str) or not text:
         raise ValueError(f"a field path must be a non-empty string, got {text!r}")
-    steps: list[str | int | None] = []
-    pos = 0
-    while pos < len(text):
-        if steps and text[pos] == ".":
-            pos += 1
-        m = _NAME.match(text, pos)
-        if m is None:
-            raise ValueError(f"field path {text!r}: expected a field name at character "
-                             f"{pos + 1}")
-        steps.append(m.group(0))
-        pos = m.end()
-        while True:
-            m = _INDEX.match(text, pos)
-            if m is None:
-                break
-            steps.append(None if m.group(1) == "*" else int(m.group(1)))
-            pos = m.end()
-        if pos < len(text) and text[pos] != ".":
-            raise ValueError(f"field path {text!r}: unexpected {text[pos]!r} at character "
-                             f"{pos + 1}")
-    path = FieldPath(text, tuple(steps))
-    for leaf in path.get(scenario):
-        if dataclasses.is_dataclass(leaf) or isinstance(leaf, (tuple, list)):
-            raise ValueError(f"field path {text!r} names a group of fields, not one value; "
-                             "name a number field inside it")
-        if not isinstance(leaf, (int, float, str, bool, np.number)) and leaf is not None:
-            raise ValueError(f"field path {text!r} names a {type(leaf).__name__}, not a value")
-    return path
-
-
-def _fields_of(obj: Any) -> list[str]:
-    return [f.name for f in dataclasses.fields(obj)]
-
-
-def _get(obj: Any, steps: Sequence[str | int | None], text: str) -> list[Any]:
-    if not steps:
-        return [obj]
-    head, rest = steps[0], steps[1:]
-    if isinstance(head, str):
-        if not dataclasses.is_dataclass(obj) or head not in _fields_of(obj):
-            known = ", ".join(_fields_of(obj)) if dataclasses.is_dataclass(obj) else "none"
-            raise ValueError(f"field path {text!r}: {type(obj).__name__} has no field "
-                             f"{head!r}; its fields: {known}")
-        return _get(getattr(obj, head), rest, text)
-    if not isinstance(obj, tuple):
-        raise ValueError(f"field path {text!r}: {type(obj).__name__} is not a list, so it "
-                         "takes no [index]")
-    if head is None:
-        if not obj:
-            raise ValueError(f"field path {text!r}: [*] of an empty list sets nothing")
-        return [v for item in obj for v in _get(item, rest, text)]
-    if not 0 <= head < len(obj):
-        raise ValueError(f"field path {text!r}: index {head} is outside the list of "
-                         f"{len(obj)} item(s); allowed range [0, {len(obj) - 1}]")
-    return _get(obj[head], rest, text)
-
-
-def _set(obj: Any, steps: Sequence[str | int | None], value: Any, text: str) -> Any:
-    if not steps:
-        return value
-    head, rest = steps[0], steps[1:]
-    if isinstance(head, str):
-        if not dataclasses.is_dataclass(obj) or head not in _fields_of(obj):
-            raise ValueError(f"field path {text!r}: {type(obj).__name__} has no field {head!r}")
-        return dataclasses.replace(obj, **{head: _set(getattr(obj, head), rest, value, text)})
-    items = list(obj)
-    targets = range(len(items)) if head is None else (head,)
-    for i in targets:
-        items[i] = _set(items[i], rest, value, text)
-    return tuple(items)
+    field = fields.declaration_at(text, scenario)  # its errors name the path
+    try:
+        values = fields.value_at(scenario, text)
+    except ValueError as exc:
+        raise ValueError(f"field path {text!r}: {exc}") from None
+    if isinstance(values, list) and not values:
+        raise ValueError(f"field path {text!r}: [*] of an empty list sets nothing")
+    return FieldPath(text, field.group, field.name)
 
 
 # --------------------------------------------------------------------------- distributions

@@ -25,6 +25,7 @@ reduced scene is another draw of the same statistics, not a crop of the full one
 from __future__ import annotations
 
 import dataclasses
+import functools
 import math
 from dataclasses import dataclass
 from typing import Any
@@ -36,6 +37,7 @@ from .detection import DEFAULT_THRESHOLD_DB, compare_with_truth, detect
 from .processing import ProcessingChain
 from .radar_equation import noise_rms
 from .radargram import Radargram
+from .scene import Clutter
 from .synthesis import column_optics, simulate
 
 __all__ = [
@@ -62,6 +64,8 @@ WINDOW_PAST_GROUND_PERIODS = 4.0
 MAX_ALARMS = 50
 #: Traces a reduced line keeps at least (the detector needs 8).
 _MIN_TRACES = 16
+#: The clutter of the scenario the persons' echoes are computed on (it has no part in them).
+_NO_CLUTTER = Clutter()
 #: Margin around the line within which buried things must lie (scene.Scenario's rule).
 _LINE_MARGIN_M = 5.0
 
@@ -143,6 +147,15 @@ def _without_scatterers(scenario: Any) -> Any:
         scenario.clutter, scatterer_density_per_m3=0.0), objects=())
 
 
+@functools.lru_cache(maxsize=4)
+def _persons_echo(scenario: Any) -> Radargram:
+    """The persons' echoes alone. They do not depend on the clutter (no multiple
+    scattering in the model), so the realizations of a grid cell that draw nothing
+    about the persons, the snow or the radar share one (the key is the whole scenario
+    with the clutter set aside; a radargram's arrays are read-only)."""
+    return simulate(scenario, components=("objects",))
+
+
 def realization_radargrams(scenario: Any) -> tuple[Radargram, Radargram, dict[str, Radargram]]:
     """(with persons, nobody-buried twin, parts) for ``scenario`` as given.
 
@@ -156,8 +169,8 @@ def realization_radargrams(scenario: Any) -> tuple[Radargram, Radargram, dict[st
         "column": simulate(_without_scatterers(twin),
                            components=("layers", "clutter", "noise")),
         "clutter": simulate(twin, components=("clutter", "objects")),
-        "persons": simulate(dataclasses.replace(scenario, objects=()),
-                            components=("objects",)),
+        "persons": _persons_echo(dataclasses.replace(scenario, objects=(),
+                                                     clutter=_NO_CLUTTER)),
     }
     base = parts["column"]
     twin_data = parts["column"].data + parts["clutter"].data

@@ -28,6 +28,7 @@ run gives. :func:`roc` moves the detector's level over the recorded scores.
 from __future__ import annotations
 
 import concurrent.futures as cf
+import functools
 import itertools
 import json
 import math
@@ -171,13 +172,19 @@ def _apply(scenario: Scenario, settings: Sequence[tuple[FieldPath, Any]]) -> Sce
     return scenario
 
 
+@functools.lru_cache(maxsize=4)
+def _cell_scenario(plan: _Plan, cell: int) -> Scenario:
+    """The base scenario with the grid values of ``cell`` (shared by its realizations)."""
+    return _apply(plan.base, list(zip([p for p, _v in plan.vary], plan.cell_values(cell),
+                                      strict=True)))
+
+
 def _draw(plan: _Plan, cell: int, r: int) -> tuple[Scenario, list[Any], int]:
     rng = np.random.default_rng(np.random.SeedSequence(plan.seed, spawn_key=(cell, r)))
     drawn = [d.draw(rng) for _p, d in plan.uncertain]
     clutter_seed = int(rng.integers(0, 2**32))
-    settings = list(zip([p for p, _v in plan.vary], plan.cell_values(cell), strict=True))
-    settings += list(zip([p for p, _d in plan.uncertain], drawn, strict=True))
-    sc = _apply(plan.base, settings)
+    sc = _apply(_cell_scenario(plan, cell),
+                list(zip([p for p, _d in plan.uncertain], drawn, strict=True)))
     if plan.draws_clutter_seed():
         sc = _apply(sc, [(parse_path(_CLUTTER_SEED, sc), clutter_seed)])
     else:
@@ -273,14 +280,17 @@ def _make_plan(base: Any, vary: Any, uncertain: Any, realizations: Any, seed: An
 
 
 def _check_plan(plan: _Plan) -> None:
-    """Refuse, before any work, every value and distribution bound the scenario refuses."""
+    """Refuse, before any work, every value and distribution bound outside the field's
+    declared range (:mod:`snowprobe_widgets.fields`) or refused by the scenario."""
     base = plan.base
     for path, values in plan.vary:
         for v in values:
+            path.check(v)
             path.set(base, v)
     for path, dist in plan.uncertain:
         for v in dist.extremes():
             try:
+                path.check(v)
                 path.set(base, v)
             except ValueError as exc:
                 raise ValueError(f"uncertain[{path.text!r}] reaches outside the field's "

@@ -63,7 +63,7 @@ from .constants import C0_M_S
 from .facets import FacetMesh
 from .radar_equation import antenna_factor, beam_weight, noise_rms
 from .radargram import Radargram, TruthMarker
-from .raypaths import AlongX, RayTable, layers_above_m, solve_rays
+from .raypaths import AlongX, RayTable, layers_above_m, ray_polarization, solve_rays
 from .targets import kind_of
 from .targets.base import ANGLES_DEG
 from .targets.clods import clod_amplitude
@@ -166,18 +166,17 @@ def index_offsets(optics: ColumnOptics, freq_hz: np.ndarray) -> list[np.ndarray]
     return out
 
 
-def dispersion_factor(offsets: list[np.ndarray], k0: np.ndarray, above_m: np.ndarray,
-                      alpha_np_m: np.ndarray) -> np.ndarray:
+def dispersion_factor(offsets: list[np.ndarray] | np.ndarray, k0: np.ndarray,
+                      above_m: np.ndarray, alpha_np_m: np.ndarray) -> np.ndarray:
     """exp(-2 j k0 sum_j (n_j(f) - n'_j(fc)) D_j) * exp(+2 sum_j alpha_j(fc) D_j).
 
     Two-way dispersion and frequency-dependent attenuation relative to the centre-frequency
-    values that facet delays and gains already carry (D_j: ``above_m``).
+    values that facet delays and gains already carry (D_j: ``above_m``, shape (n_layers,),
+    or (n_depths, n_layers) for many depths at once, giving (n_depths, n_f)).
     """
-    phase = np.zeros(k0.size, complex)
-    for dn, d in zip(offsets, above_m, strict=True):
-        if d > 0:
-            phase += dn * d
-    return np.exp(-2j * k0 * phase) * np.exp(2 * float(np.dot(alpha_np_m, above_m)))
+    above = np.asarray(above_m, float)
+    phase = above @ np.asarray(offsets).reshape(above.shape[-1], -1)
+    return np.exp(-2j * k0 * phase) * np.exp(2 * (above @ alpha_np_m))[..., None]
 
 
 def vertical_dispersion(optics: ColumnOptics, depth_m: float, fc: float,
@@ -256,30 +255,33 @@ def _column_layers(scenario: Any, with_thin_layers: bool) -> tuple[list, list[fl
     snowpack = scenario.snowpack
     layers = list(snowpack.layers)
     bounds = [0.0] + list(snowpack.interfaces_m)
-    pieces: list[tuple[float, float, float, float]] = []  # (top, bottom, density, lwc)
+    # (top, bottom, density, lwc, the layer's dielectric model)
+    pieces: list[tuple[float, float, float, float, str]] = []
     for layer, top, bot in zip(layers, bounds[:-1], bounds[1:], strict=True):
-        pieces.append((top, bot, layer.density_kg_m3, layer.lwc_percent))
+        pieces.append((top, bot, layer.density_kg_m3, layer.lwc_percent,
+                       layer.dielectric_model))
     if with_thin_layers:
         field = scenario.clutter_field()
         for top, th, dd in zip(field.layer_depth_m, field.layer_thickness_m,
                                field.layer_density_change_kg_m3, strict=True):
             bot = top + th
-            new: list[tuple[float, float, float, float]] = []
-            for a, b, rho, w in pieces:
+            new: list[tuple[float, float, float, float, str]] = []
+            for a, b, rho, w, model in pieces:
                 if b <= top or a >= bot:
-                    new.append((a, b, rho, w))
+                    new.append((a, b, rho, w, model))
                     continue
                 if a < top:
-                    new.append((a, top, rho, w))
+                    new.append((a, top, rho, w, model))
                 lo, hi = max(a, top), min(b, bot)
                 rho2 = float(np.clip(rho + dd, 30.0, 917.0 * (1 - w / 100.0)))
-                new.append((lo, hi, rho2, w))
+                new.append((lo, hi, rho2, w, model))
                 if b > bot:
-                    new.append((bot, b, rho, w))
+                    new.append((bot, b, rho, w, model))
             pieces = new
     pieces = [p for p in pieces if p[1] - p[0] > 1e-6]
-    mats = [mat.snow(rho, w, temperature_c=snowpack.temperature_c) for _, _, rho, w in pieces]
-    thick = [b - a for a, b, _, _ in pieces]
+    mats = [mat.layer_material(model, rho, w, temperature_c=snowpack.temperature_c)
+            for _, _, rho, w, model in pieces]
+    thick = [b - a for a, b, *_ in pieces]
     return mats, thick
 
 
@@ -305,7 +307,8 @@ def _prepare_targets(scenario: Any, pulse: Any, grid: _Grid, optics: ColumnOptic
         table = RayTable.build(
             x_max, (z_lo, z_hi), antenna_height_m=h, thickness_m=optics.thickness_m,
             index=optics.index, alpha_np_m=optics.alpha_np_m,
-            beam=lambda th: beam_weight(th, radar.beamwidth_deg))
+            beam=lambda th: beam_weight(th, radar.beamwidth_deg),
+            polarization=ray_polarization(radar.polarization))
         r_angle, r_f = target_reflection(obj, complex(snow_m.permittivity(fc)), fc, fb,
                                          polarization=radar.polarization)
         disp = vertical_dispersion(optics, obj.depth_m, fc, fb)
@@ -445,7 +448,8 @@ def simulate(scenario: Any, *, components: Iterable[str] = COMPONENTS,
             Z = np.broadcast_to(cz[None, :], X.shape)
             res = solve_rays(X, Z, antenna_height_m=radar.antenna_height_m,
                              thickness_m=optics.thickness_m, index=optics.index,
-                             alpha_np_m=optics.alpha_np_m)
+                             alpha_np_m=optics.alpha_np_m,
+                             polarization=ray_polarization(radar.polarization))
             g = res.transmission * res.attenuation / res.spreading_m2
             g = g * beam_weight(np.arcsin(np.clip(res.sin_theta0, 0, 1)), radar.beamwidth_deg)
             g = np.where(res.reached, g, 0.0)

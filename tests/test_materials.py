@@ -263,3 +263,68 @@ def test_models_declare_their_calibrated_band():
     assert m.wet_snow(300, 3).validity_note(800e6) == ""
     note = m.snow(300, 3).validity_note(2.6e9)
     assert "Tiuri et al. 1984" in note and "500 MHz-1 GHz" in note and "2.6 GHz" in note
+
+
+# ------------------------------------------------------------------ a layer's named model
+@pytest.mark.parametrize("rho, lwc", [(120.0, 0.0), (350.0, 0.0), (450.0, 4.0), (520.0, 3.0)])
+def test_a_layer_without_a_model_name_is_made_as_before(rho, lwc):
+    from snowprobe_widgets.scene import Layer
+
+    layer = Layer(1.0, rho, lwc)
+    assert layer.dielectric_model == m.DEFAULT_LAYER_MODEL == "snow"
+    # the same Material value (kernel and parameters) that materials.snow made before
+    assert layer.material(-3.0) == m.snow(rho, lwc, temperature_c=-3.0)
+    # and so the published dry-snow formula the existing check uses (Looyenga 1965,
+    # eps_ice = 3.15) for the dry layers
+    if lwc == 0:
+        assert layer.material().permittivity(1e9).real == pytest.approx(
+            (1 + rho / 917.0 * (3.15 ** (1 / 3) - 1)) ** 3, rel=1e-12)
+
+
+def test_a_layer_names_a_dry_wet_pair_or_ice():
+    from snowprobe_widgets.scene import Layer
+
+    assert "kovacs+crim" in m.layer_model_names() and "ice" in m.layer_model_names()
+    g = 0.3
+    # Kovacs, Gow & Morey (1995, CRST 23): (1 + 0.845 rho)^2
+    assert Layer(1.0, 300.0, dielectric_model="kovacs+tiuri").material().permittivity(
+        1e9).real == pytest.approx((1 + 0.845 * g) ** 2, rel=1e-12)
+    # Matzler & Wegmuller 1987 eq. 10 (REFERENCES.md table 2.2): 3.1840 at -5 degC
+    assert Layer(0.1, 900.0, dielectric_model="ice").material(-5.0).permittivity(
+        1e9).real == pytest.approx(3.1840, abs=2e-4)
+
+
+def test_an_unknown_or_unfit_model_is_refused_with_the_field_named():
+    from snowprobe_widgets.fields import FieldError
+    from snowprobe_widgets.scene import Layer
+
+    with pytest.raises(FieldError) as err:
+        Layer(1.0, 300.0, dielectric_model="granite")
+    assert "dielectric_model = 'granite'" in str(err.value)
+    assert "'snow'" in str(err.value) and "'looyenga+crim'" in str(err.value)  # the known
+    assert err.value.screen.startswith("Dielectric model: choose one of")
+    with pytest.raises(FieldError) as err:
+        Layer(1.0, 300.0, 2.0, dielectric_model="ice")
+    assert "lwc_percent" in str(err.value) and err.value.field.name == "dielectric_model"
+
+
+def test_a_plugin_layer_model_through_entry_point(monkeypatch):
+    mod = types.ModuleType("mylab_layers")
+
+    def firn(density_kg_m3, lwc_percent, temperature_c):
+        return m.rock(1.0 + density_kg_m3 / 500.0)
+
+    mod.firn = firn
+    monkeypatch.setitem(sys.modules, "mylab_layers", mod)
+    from importlib.metadata import EntryPoint
+
+    ep = EntryPoint("firn_lab", "mylab_layers:firn", "snowprobe_widgets.layer_models")
+    monkeypatch.setattr(registry, "entry_points",
+                        lambda group: [ep] if group == "snowprobe_widgets.layer_models" else [])
+    monkeypatch.setattr(m.LAYER_MODELS, "_plugins_loaded", False)
+    monkeypatch.setattr(m.LAYER_MODELS, "_items", dict(m.LAYER_MODELS._items))
+    from snowprobe_widgets.scene import Layer
+
+    assert "firn_lab" in m.layer_model_names()
+    layer = Layer(1.0, 500.0, dielectric_model="firn_lab")
+    assert layer.material().permittivity(1e9).real == pytest.approx(2.0)

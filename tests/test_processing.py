@@ -729,3 +729,13 @@ def test_chain_reports_progress_after_each_enabled_step_and_stops_on_request():
 
     with pytest.raises(Stop):
         chain.apply(rg, stop)
+
+
+@pytest.mark.parametrize("shape", [(40, 121), (40, 120), (7, 1), (7, 2), (30, 9)])
+def test_median_trace_equals_numpys_median(shape):
+    from snowprobe_widgets.processing._common import median_trace
+
+    rng = np.random.default_rng(shape[1])
+    data = np.round(rng.standard_normal(shape), 1)  # with ties
+    np.testing.assert_array_equal(median_trace(data),
+                                  np.median(data, axis=1, keepdims=True))

@@ -111,3 +111,57 @@ def test_band_covers_the_spectrum() -> None:
 def test_bad_inputs_name_the_field(call, field: str) -> None:
     with pytest.raises(ValueError, match=field):
         call()
+
+
+# ------------------------------------------------------------- a pulse from a spectrum function
+def _ricker_spectrum_unscaled(freq_hz, center_frequency_hz, bandwidth_hz, gain=3.0):
+    # Ricker (1953): the spectrum of his wavelet is ~ f^2 exp(-f^2 / fp^2); any scale
+    # (here `gain`) must be removed by the package, which makes the waveform's peak 1
+    return gain * freq_hz**2 * np.exp(-(freq_hz**2) / center_frequency_hz**2)
+
+
+@pytest.fixture
+def spectra():
+    """Registers test spectra and takes them out again (other tests walk the pulse names)."""
+    before = set(pulses.SPECTRA.names())
+    yield pulses.register_spectrum
+    for name in set(pulses.SPECTRA.names()) - before:
+        pulses.SPECTRA._items.pop(name)
+
+
+def test_a_pulse_given_only_by_its_spectrum_has_the_published_waveform(spectra) -> None:
+    spectra("test_ricker_spectrum", _ricker_spectrum_unscaled)
+    assert "test_ricker_spectrum" in pulses.pulse_names()
+    fp = 400e6
+    p = pulses.make_pulse("test_ricker_spectrum", fp, gain=7.0)
+    t = np.linspace(-6e-9, 6e-9, 2401)
+    # Ricker (1953) in time: (1 - 2 pi^2 fp^2 t^2) exp(-pi^2 fp^2 t^2), peak 1 at t = 0;
+    # 2e-3: linear reading of the inverse-FFT table at 16 samples per top-frequency period
+    a = (np.pi * fp * t) ** 2
+    np.testing.assert_allclose(p.waveform(t), (1 - 2 * a) * np.exp(-a), atol=2e-3)
+    # the -6 dB width of the Ricker amplitude spectrum is 1.155 fp (closed form: the
+    # roots of x exp(1 - x) = 1/2 with x = f^2 / fp^2, solved here with scipy)
+    from scipy.optimize import brentq
+
+    lo = brentq(lambda x: x * np.exp(1 - x) - 0.5, 1e-6, 1.0)
+    hi = brentq(lambda x: x * np.exp(1 - x) - 0.5, 1.0, 10.0)
+    assert p.bandwidth_hz == pytest.approx(fp * (np.sqrt(hi) - np.sqrt(lo)), rel=2e-3)
+    # a real waveform: S(-f) = conj S(f)
+    f = np.linspace(0.1e9, 2e9, 7)
+    np.testing.assert_allclose(p.spectrum(-f), np.conj(p.spectrum(f)))
+    # the waveform is the inverse transform of the scaled spectrum, by direct quadrature
+    ff = np.linspace(0.0, 6 * fp, 20001)
+    direct = 2 * np.real(np.exp(2j * np.pi * np.outer([0.0, 1e-9], ff)) @ p.spectrum(ff)) * (
+        ff[1] - ff[0])
+    np.testing.assert_allclose(direct, p.waveform(np.array([0.0, 1e-9])), atol=2e-3)
+
+
+def test_a_spectrum_pulse_refuses_unknown_parameters_and_bad_spectra(spectra) -> None:
+    spectra("test_ricker_spectrum", _ricker_spectrum_unscaled)
+    with pytest.raises(ValueError, match="has no parameter 'loudness'; its parameters: gain"):
+        pulses.make_pulse("test_ricker_spectrum", 400e6, loudness=2.0)
+    spectra("test_wrong_shape", lambda f, fc, bw: np.ones(3))
+    with pytest.raises(ValueError, match="must return finite values"):
+        pulses.make_pulse("test_wrong_shape", 400e6)
+    with pytest.raises(ValueError, match="unknown pulse shape 'nope'; known: .*'ricker'"):
+        pulses.make_pulse("nope", 400e6)

@@ -112,3 +112,68 @@ def test_antenna_on_the_surface_beyond_critical_angle_is_not_reached() -> None:
     assert not bool(res.reached)
     assert all(np.isfinite(float(getattr(res, f))) for f in
                ("time_s", "transmission", "attenuation", "spreading_m2", "sin_theta0"))
+
+
+# ------------------------------------------------------------------ polarisation
+def _fresnel_angle_form(theta_i: float, theta_t: float) -> tuple[float, float]:
+    """(r_s, r_p) by Fresnel's equations in their angle form, -sin(i - t) / sin(i + t) and
+    tan(i - t) / tan(i + t) (Born & Wolf, Principles of Optics, 7th ed. 1999, sec. 1.5.2,
+    eqs. 21; Hecht, Optics, 4th ed., eqs. 4.42-4.43)."""
+    return (-math.sin(theta_i - theta_t) / math.sin(theta_i + theta_t),
+            math.tan(theta_i - theta_t) / math.tan(theta_i + theta_t))
+
+
+@pytest.mark.parametrize("theta0_deg", [0.0, 20.0, 40.0, 55.0, 70.0])
+def test_surface_transmission_is_te_across_and_tm_along_the_line(theta0_deg: float) -> None:
+    # every interface crossed, both ways: prod (1 - r^2) with the textbook r_s (TE) and
+    # r_p (TM) at that interface's angles (Snell from the air angle)
+    th0 = math.radians(theta0_deg)
+    s0 = math.sin(th0)
+    z = 1.0
+    tops = np.concatenate([[0.0], np.cumsum(THICK)[:-1]])
+    D = np.clip(z - tops, 0.0, THICK)
+    X = H * math.tan(th0) + sum(d * s0 / math.sqrt(n * n - s0 * s0)
+                                for d, n in zip(D, N, strict=True))
+    angles = [th0] + [math.asin(s0 / n) for n in N]
+    expected = {"TE": 1.0, "TM": 1.0}
+    for a, b in zip(angles[:-1], angles[1:], strict=True):
+        if a == b:  # normal incidence: the angle form is 0/0, r = (n1 - n2)/(n1 + n2)
+            continue
+        rs, rp = _fresnel_angle_form(a, b)
+        expected["TE"] *= 1 - rs * rs
+        expected["TM"] *= 1 - rp * rp
+    if theta0_deg == 0.0:
+        ns = [1.0, *N]
+        t2 = float(np.prod([1 - ((a - b) / (a + b)) ** 2
+                            for a, b in zip(ns[:-1], ns[1:], strict=True)]))
+        expected = {"TE": t2, "TM": t2}
+    for pol in ("TE", "TM"):
+        res = solve_rays(np.array(X), np.array(z), antenna_height_m=H, thickness_m=THICK,
+                         index=N, alpha_np_m=ALPHA, polarization=pol)
+        assert float(res.transmission) == pytest.approx(expected[pol], rel=1e-9), pol
+
+
+def test_tm_passes_the_surface_better_than_te_at_55_degrees() -> None:
+    # one surface, snow of index 1.28, 55 deg in air: the two-way field factor
+    # t_down t_up = 1 - r^2 is -0.62 dB for TE and -0.004 dB for TM (textbook Fresnel, as
+    # above; 0.31 dB each way); at Brewster's angle atan(n) r_p = 0 and the TM ray passes
+    # without loss (Born & Wolf 1.5.3)
+    from snowprobe_widgets.raypaths import ray_polarization
+
+    n = 1.28
+
+    def t2(theta0: float, pol: str) -> float:
+        X = 0.5 * math.tan(theta0) + math.sin(theta0) / math.sqrt(n * n - math.sin(theta0)**2)
+        res = solve_rays(np.array(X), np.array(1.0), antenna_height_m=0.5,
+                         thickness_m=np.array([3.0]), index=np.array([n]),
+                         alpha_np_m=np.array([0.0]), polarization=pol)
+        return float(res.transmission)
+
+    th = math.radians(55.0)
+    rs, rp = _fresnel_angle_form(th, math.asin(math.sin(th) / n))
+    te = t2(th, ray_polarization("across_line"))
+    tm = t2(th, ray_polarization("along_line"))
+    assert 20 * math.log10(tm / te) == pytest.approx(
+        20 * math.log10((1 - rp * rp) / (1 - rs * rs)), abs=1e-9)
+    assert 0.5 < 20 * math.log10(tm / te) < 0.75
+    assert t2(math.atan(n), "TM") == pytest.approx(1.0, abs=1e-12)

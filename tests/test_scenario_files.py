@@ -534,3 +534,36 @@ def test_leftovers_of_a_killed_save_are_cleaned_by_the_next_save(tmp_path):
     assert len(os.listdir(tmp_path)) == 1  # the killed save's temporary file
     save(s, tmp_path / "b.json")
     assert os.listdir(tmp_path) == ["b.json"]
+
+
+# ------------------------------------------------------------------ a layer's dielectric model
+def test_a_layer_model_is_written_read_and_old_files_keep_the_default() -> None:
+    import dataclasses
+    import json
+
+    import jsonschema
+
+    from snowprobe_widgets import scenario_files
+    from snowprobe_widgets.scene import Scenario
+
+    base = Scenario.example("crust_and_ski")
+    layers = list(base.snowpack.layers)
+    layers[0] = dataclasses.replace(layers[0], dielectric_model="kovacs+crim")
+    s = dataclasses.replace(base, snowpack=dataclasses.replace(base.snowpack,
+                                                               layers=tuple(layers)))
+    doc = json.loads(scenario_files.dumps(s))
+    assert doc["scenario"]["snowpack"]["layers"][0]["dielectric_model"] == "kovacs+crim"
+    jsonschema.Draft202012Validator(scenario_files.json_schema()).validate(doc)
+    assert scenario_files.loads(json.dumps(doc)) == s
+    # a file written before the field existed loads unchanged, with the default model
+    old = json.loads(scenario_files.dumps(base))
+    for layer in old["scenario"]["snowpack"]["layers"]:
+        del layer["dielectric_model"]
+    jsonschema.Draft202012Validator(scenario_files.json_schema()).validate(old)
+    assert scenario_files.loads(json.dumps(old)) == base
+    assert all(la.dielectric_model == "snow" for la in base.snowpack.layers)
+    # an unknown model: refused with the field's path and the known names
+    doc["scenario"]["snowpack"]["layers"][0]["dielectric_model"] = "granite"
+    with pytest.raises(scenario_files.ScenarioFileError,
+                       match=r"layers\[0\].*dielectric_model = 'granite'.*'snow'"):
+        scenario_files.loads(json.dumps(doc))

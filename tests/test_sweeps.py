@@ -79,6 +79,12 @@ def test_identical_in_process_on_a_pool_and_on_a_dask_cluster(tmp_path):
     xr.testing.assert_identical(serial, pooled)
     xr.testing.assert_identical(serial, on_dask)
     xr.testing.assert_identical(serial, sweeps.load(tmp_path / "cli.nc"))
+    # nothing uncertain but the clutter: the realizations of a cell share the persons'
+    # echo and the detector's migration map, computed once in this process and in each
+    # worker as its one-realization chunks arrive
+    plain = dict(realizations=4, seed=5, progress=False)
+    xr.testing.assert_identical(sweeps.sweep(base, vary, executor=1, **plain),
+                                sweeps.sweep(base, vary, executor=2, chunk_size=1, **plain))
 
 
 def test_probability_falls_with_depth_and_wetness():
@@ -127,16 +133,26 @@ def test_parts_add_up_to_one_simulation():
     from snowprobe_widgets.synthesis import simulate
 
     sc = Scenario.example("crust_and_ski")
-    full, _twin, _parts = realization_radargrams(sc)
-    ref = simulate(sc)
-    # simulate is linear in its parts; the sum differs from one run only by rounding
-    assert np.max(np.abs(full.data - ref.data)) <= 1e-9 * np.max(np.abs(ref.data))
+    # the second scene differs in its clutter only, so it reuses the first one's
+    # persons' echo: the sum must still be its own full simulation
+    other = dataclasses.replace(sc, clutter=dataclasses.replace(
+        sc.clutter, seed=sc.clutter.seed + 1, scatterer_density_per_m3=3.0))
+    deeper = dataclasses.replace(sc, persons=(dataclasses.replace(
+        sc.persons[0], depth_m=sc.persons[0].depth_m + 0.1),) + sc.persons[1:])
+    for scene in (sc, other, deeper):
+        full, _twin, _parts = realization_radargrams(scene)
+        ref = simulate(scene)
+        # simulate is linear in its parts; the sum differs from one run only by rounding
+        assert np.max(np.abs(full.data - ref.data)) <= 1e-9 * np.max(np.abs(ref.data))
 
 
 @pytest.mark.parametrize(("vary", "uncertain", "words"), [
-    ({"persons[0].deep_m": [1.0]}, None, ["persons[0].deep_m", "no field", "depth_m"]),
-    ({"persons[2].depth_m": [1.0]}, None, ["persons[2].depth_m", "index 2"]),
-    ({"radar": [1.0]}, None, ["radar", "group of fields"]),
+    ({"persons[0].deep_m": [1.0]}, None, ["persons[0].deep_m", "no declared field", "depth_m"]),
+    ({"persons[2].depth_m": [1.0]}, None, ["persons[2].depth_m", "only 1"]),
+    ({"radar": [1.0]}, None, ["'radar'", "no declared field"]),
+    ({"persons[0].posture": ["sitting"]}, None, ["persons[0].posture", "sitting",
+                                                 "lying_flat"]),
+    ({"clutter.seed": [1.5]}, None, ["clutter.seed", "1.5", "whole number"]),
     ({DEPTH: [0.5, 150.0]}, None, [DEPTH, "150", "[0, 100]"]),
     ({DEPTH: [0.5, 1.9]}, None, [DEPTH, "1.9", "deeper than the 2 m snowpack"]),
     ({DEPTH: [0.5]}, {WET: Uniform(0.0, 20.0)}, [WET, "20", "[0, 12] %"]),

@@ -3,7 +3,9 @@
 Every step keeps the time and position axes and appends a
 :class:`~snowprobe_widgets.radargram.ProcessingRecord` (its name and the parameters it
 used) to the history. Steps are registered by name in :data:`STEPS`, which other packages
-extend through the entry-point group ``snowprobe_widgets.processing``.
+extend through the entry-point group ``snowprobe_widgets.processing``. Each step's
+parameters are declared in :mod:`snowprobe_widgets.fields` in the group ``"step:<name>"``
+(:func:`step_parameters`); the steps, the chain and the Processing panel read them there.
 
 Steps: :func:`time_zero`, :func:`dewow`, :func:`background_removal`, :func:`gain`,
 :func:`bandpass`, :func:`migrate`, :func:`envelope`.
@@ -15,9 +17,9 @@ and the data resampled onto it, since a Radargram only carries time).
 
 from __future__ import annotations
 
-from ._common import STEPS, VELOCITY_MAX_M_S, VELOCITY_MIN_M_S
+from ._common import STEPS, VELOCITY_MAX_M_S, VELOCITY_MIN_M_S, step_group, step_parameters
 from .amplitude import GAIN_KINDS, gain, gain_curve
-from .chain import ProcessingChain, ProcessingStep
+from .chain import ProcessingChain, ProcessingStep, step_defaults
 from .depth import depth_axis_m, time_to_depth
 from .filters import (
     BACKGROUND_METHODS,
@@ -33,6 +35,9 @@ from .velocity import VelocityEstimate, semblance, velocity_analysis
 
 __all__ = [
     "STEPS",
+    "step_group",
+    "step_parameters",
+    "step_defaults",
     "VELOCITY_MIN_M_S",
     "VELOCITY_MAX_M_S",
     "BACKGROUND_METHODS",

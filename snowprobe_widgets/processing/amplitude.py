@@ -7,28 +7,76 @@ from typing import Any
 import numpy as np
 from scipy import ndimage
 
-from .._validate import check_choice, check_range
+from ..fields import Field, declare
 from ..radargram import Radargram
-from ._common import STEPS, check_velocity, record, sample_interval_s, window_samples
+from ._common import (
+    STEPS,
+    VELOCITY_MAX_M_S,
+    VELOCITY_MIN_M_S,
+    check_param,
+    record,
+    record_times,
+    record_window,
+    sample_interval_s,
+    step_group,
+    window_samples,
+)
 
 __all__ = ["gain", "gain_curve", "GAIN_KINDS"]
 
 GAIN_KINDS = ("exponential", "spreading", "agc")
 
 #: Parameters of each gain kind and their defaults.
-_KIND_PARAMS: dict[str, dict[str, Any]] = {
+KIND_PARAMS: dict[str, dict[str, Any]] = {
     "exponential": {"attenuation_db_m": 1.0, "velocity_m_s": 0.23e9, "start_s": 0.0,
                     "max_gain_db": 60.0},
     "spreading": {"power": 1.0, "start_s": 0.0, "max_gain_db": 60.0},
     "agc": {"window_s": 5e-9},
 }
 
+_G = step_group("gain")
+
+
+def _gain_start(scenario: Any, rg: Radargram | None) -> tuple[float, float]:
+    # the gain may start at 0 before a record that begins later
+    first, last = record_times(scenario, rg)
+    return min(first, 0.0), last
+
+
+declare(
+    Field(_G, "kind", "choice", "Kind", choices=GAIN_KINDS,
+          help="spreading: grows with time, undoing the spreading of the wave; exponential: "
+               "undoes a loss in dB per metre; agc: brings every part of the trace to the "
+               "same level."),
+    Field(_G, "attenuation_db_m", "optional number", "Attenuation", unit="dB/m",
+          display_unit="dB/m", low=0.0, high=100.0, step=0.5, decimals=1,
+          help="exponential: the loss per metre that the gain undoes."),
+    Field(_G, "velocity_m_s", "optional number", "Wave speed", unit="m/s",
+          display_unit="m/ns", scale=1e9, low=VELOCITY_MIN_M_S, high=VELOCITY_MAX_M_S,
+          step=0.005, decimals=3,
+          help="exponential: speed of the wave in the snow, to turn time into metres."),
+    Field(_G, "power", "optional number", "Power of time", low=0.0, high=4.0, step=0.1,
+          decimals=1, help="spreading: the gain grows as time to this power (1 undoes the "
+                           "spreading of a spherical wave)."),
+    Field(_G, "start_s", "optional number", "Start time", unit="s", display_unit="ns",
+          scale=1e-9, low=-1e-4, high=1e-4, soft=_gain_start, step=0.1, decimals=1,
+          help="exponential and spreading: where the gain starts (the surface echo)."),
+    Field(_G, "max_gain_db", "optional number", "Largest gain", unit="dB",
+          display_unit="dB", low=0.0, high=200.0, step=1.0, decimals=0,
+          help="exponential and spreading: the gain stops growing here, so noise is not "
+               "lifted without end."),
+    Field(_G, "window_s", "optional number", "AGC window", unit="s", display_unit="ns",
+          scale=1e-9, low=0.0, high=1e-4, soft=record_window, step=0.1,
+          decimals=1, help="agc: length of the window whose level each sample is "
+                           "divided by."),
+)
+
 #: Smallest running RMS AGC divides by, as a fraction of the section's largest running RMS.
 AGC_FLOOR: float = 1e-6
 
 
 def _resolve(kind: str, given: dict[str, Any]) -> dict[str, Any]:
-    allowed = _KIND_PARAMS[kind]
+    allowed = KIND_PARAMS[kind]
     for name, value in given.items():
         if value is not None and name not in allowed:
             raise ValueError(
@@ -97,14 +145,14 @@ def gain(rg: Radargram, kind: str = "exponential", *, attenuation_db_m: float | 
         The RMS is floored at ``AGC_FLOOR`` times its largest value, so silent parts stay
         silent and an all-zero section stays zero.
     """
-    kind = check_choice("kind", kind, GAIN_KINDS)
+    kind = check_param("gain", "kind", kind)
     given = dict(attenuation_db_m=attenuation_db_m, velocity_m_s=velocity_m_s, power=power,
                  start_s=start_s, max_gain_db=max_gain_db, window_s=window_s)
     p = _resolve(kind, given)
     sample_interval_s(rg)
     t = rg.time_s
     if kind == "agc":
-        n = window_samples("window_s", p["window_s"], rg)
+        n = window_samples("gain", "window_s", p["window_s"], rg)
         p["window_s"] = float(p["window_s"])
         ms = ndimage.uniform_filter1d(rg.data**2, size=n, axis=0, mode="reflect")
         rms = np.sqrt(np.maximum(ms, 0.0))
@@ -114,14 +162,9 @@ def gain(rg: Radargram, kind: str = "exponential", *, attenuation_db_m: float | 
         else:
             out = rg.data / np.maximum(rms, AGC_FLOOR * top)
         return rg.with_data(out, record("gain", kind=kind, **p))
-    if "attenuation_db_m" in p:
-        p["attenuation_db_m"] = check_range("attenuation_db_m", p["attenuation_db_m"], 0.0,
-                                            100.0, unit="dB/m")
-        p["velocity_m_s"] = check_velocity("velocity_m_s", p["velocity_m_s"])
-    if "power" in p:
-        p["power"] = check_range("power", p["power"], 0.0, 4.0)
-    p["start_s"] = check_range("start_s", p["start_s"], min(float(t[0]), 0.0), float(t[-1]),
-                               unit="s")
-    p["max_gain_db"] = check_range("max_gain_db", p["max_gain_db"], 0.0, 200.0, unit="dB")
+    for name in ("attenuation_db_m", "velocity_m_s", "power", "max_gain_db"):
+        if name in p:
+            p[name] = check_param("gain", name, p[name])
+    p["start_s"] = check_param("gain", "start_s", p["start_s"], rg)
     g = gain_curve(t, kind, **p)
     return rg.with_data(rg.data * g[:, None], record("gain", kind=kind, **p))

@@ -9,10 +9,12 @@ from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass
 from typing import Any
 
+from ..fields import check as check_field
 from ..radargram import ProcessingRecord, Radargram
-from ._common import STEPS
+from ._common import STEPS, step_parameters
 
-__all__ = ["ProcessingStep", "ProcessingChain", "CHAIN_FORMAT", "CHAIN_VERSION"]
+__all__ = ["ProcessingStep", "ProcessingChain", "CHAIN_FORMAT", "CHAIN_VERSION",
+           "step_defaults"]
 
 #: Value of the ``"format"`` field of a serialised chain.
 CHAIN_FORMAT = "snowprobe_widgets.processing_chain"
@@ -22,21 +24,29 @@ CHAIN_VERSION = 1
 _JSON_SCALARS = (str, int, float, bool, type(None))
 
 
-def _step_parameters(name: str) -> tuple[tuple[str, ...], bool]:
-    """Keyword names a registered step accepts, and whether it takes ``**kwargs``."""
+def _step_parameters(name: str) -> tuple[tuple[str, ...], bool, dict[str, Any]]:
+    """Keyword names a registered step accepts, whether it takes ``**kwargs``, and the
+    defaults it declares."""
     func = STEPS.get(name)
     try:
         sig = inspect.signature(func)
     except (TypeError, ValueError):
-        return (), True
+        return (), True, {}
     params = list(sig.parameters.values())[1:]  # the first one is the radargram
     names = tuple(p.name for p in params
                   if p.kind in (p.POSITIONAL_OR_KEYWORD, p.KEYWORD_ONLY))
-    return names, any(p.kind is p.VAR_KEYWORD for p in params)
+    defaults = {p.name: p.default for p in params if p.default is not p.empty}
+    return names, any(p.kind is p.VAR_KEYWORD for p in params), defaults
+
+
+def step_defaults(name: str) -> dict[str, Any]:
+    """The default of each parameter of step ``name`` that has one (from its signature)."""
+    return _step_parameters(name)[2]
 
 
 def _check_params(name: str, params: Iterable[tuple[str, Any]]) -> tuple[tuple[str, Any], ...]:
-    allowed, open_ended = _step_parameters(name)
+    allowed, open_ended, defaults = _step_parameters(name)
+    declared = step_parameters(name)
     out = []
     for key, value in params:
         if not isinstance(key, str):
@@ -52,6 +62,11 @@ def _check_params(name: str, params: Iterable[tuple[str, Any]]) -> tuple[tuple[s
             )
         if isinstance(value, float) and not math.isfinite(value):
             raise ValueError(f"step {name!r}: parameter {key} = {value!r} is not a finite number")
+        # the declaration's hard bounds (the step narrows them to its record when it runs);
+        # None stands for the step's own choice where its default is None
+        if key in declared and not (value is None and key in defaults
+                                    and defaults[key] is None):
+            value = check_field(declared[key].group, key, value)
         out.append((key, value))
     keys = [k for k, _ in out]
     if len(set(keys)) != len(keys):

@@ -4,18 +4,24 @@ band-pass and envelope.
 
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 from scipy import ndimage, signal
 
-from .._validate import check_choice, check_range
+from ..fields import Field, declare
 from ..radargram import Radargram
 from ._common import (
     STEPS,
-    check_bool,
-    check_int,
+    below_nyquist,
+    check_param,
+    median_trace,
     record,
+    record_times,
+    record_window,
     sample_interval_s,
     shift_traces,
+    step_group,
     window_samples,
 )
 
@@ -23,6 +29,48 @@ __all__ = ["time_zero", "dewow", "background_removal", "bandpass", "envelope",
            "pick_first_arrival_s"]
 
 BACKGROUND_METHODS = ("mean", "median")
+
+_NS = dict(unit="s", display_unit="ns", scale=1e-9, decimals=1)
+_MHZ = dict(unit="Hz", display_unit="MHz", scale=1e6, decimals=0)
+
+declare(
+    Field(step_group("time_zero"), "target_time_s", "number", "Target time", **_NS,
+          low=-1e-4, high=1e-4, soft=record_times, step=0.1,
+          help="Where the surface echo is moved to, in two-way time."),
+    Field(step_group("time_zero"), "threshold", "number", "Pick level", low=0.0, high=1.0,
+          low_open=True, soft=(0.05, 1.0), step=0.05,
+          help="Share of the strongest echo at which the surface echo is picked."),
+    Field(step_group("time_zero"), "pick_time_s", "optional number", "Surface echo time",
+          **_NS, low=-1e-4, high=1e-4, soft=record_times,
+          help="Use this time as the surface echo on every trace instead of picking it; "
+               "empty: pick it."),
+    Field(step_group("time_zero"), "per_trace", "boolean", "Pick each trace",
+          help="Pick and move every trace on its own (follows a wavy surface echo) or move "
+               "all traces by one amount."),
+    Field(step_group("dewow"), "window_s", "number", "Window", **_NS, low=0.0, high=1e-4,
+          soft=record_window, step=0.1,
+          help="Length of the running mean that is taken away; several periods of the "
+               "pulse. It must lie between two samples and the whole record."),
+    Field(step_group("background_removal"), "method", "choice", "Average",
+          choices=BACKGROUND_METHODS,
+          help="Mean or median of the traces; the median ignores a few odd traces."),
+    # an odd whole number; empty (None): one background trace for the whole line
+    Field(step_group("background_removal"), "window_traces", "integer", "Moving window",
+          display_unit="traces", low=3, high=1_000_001,
+          soft=lambda scenario, rg: (3, max(rg.position_m.size if rg is not None
+                                            else scenario.survey.n_traces, 3)),
+          help="Odd number of neighbouring traces averaged for each trace; empty: one "
+               "average over the whole line."),
+    Field(step_group("bandpass"), "low_hz", "number", "Low edge", **_MHZ, low=0.0, high=1e12,
+          low_open=True, high_open=True, soft=below_nyquist, step=10.0,
+          help="Lower edge of the band that is kept; above 0 and below the high edge."),
+    Field(step_group("bandpass"), "high_hz", "number", "High edge", **_MHZ, low=0.0,
+          high=1e12, low_open=True, high_open=True, soft=below_nyquist, step=10.0,
+          help="Upper edge of the band that is kept; below half the sampling rate (the "
+               "Nyquist frequency)."),
+    Field(step_group("bandpass"), "order", "integer", "Filter order", low=1, high=10,
+          decimals=0, help="Steepness of the filter's edges (1 to 10)."),
+)
 
 
 def _envelope(data: np.ndarray) -> np.ndarray:
@@ -58,8 +106,8 @@ def pick_first_arrival_s(rg: Radargram, threshold: float = 0.5,
     Threshold picking of the leading edge of the envelope is common practice for first
     arrivals; the pick lies before the envelope peak by about half the pulse length.
     """
-    thr = check_range("threshold", threshold, 0.0, 1.0, low_open=True)
-    per_trace = check_bool("per_trace", per_trace)
+    thr = check_param("time_zero", "threshold", threshold)
+    per_trace = check_param("time_zero", "per_trace", per_trace)
     env = _envelope(rg.data)
     if not per_trace:
         env = env.mean(axis=1, keepdims=True)
@@ -106,14 +154,13 @@ def time_zero(rg: Radargram, target_time_s: float = 0.0, threshold: float = 0.5,
         signal are left in place.
     """
     dt = sample_interval_s(rg)
-    t = rg.time_s
-    target = check_range("target_time_s", target_time_s, float(t[0]), float(t[-1]), unit="s")
-    thr = check_range("threshold", threshold, 0.0, 1.0, low_open=True)
-    per_trace = check_bool("per_trace", per_trace)
+    target = check_param("time_zero", "target_time_s", target_time_s, rg)
+    thr = check_param("time_zero", "threshold", threshold)
+    per_trace = check_param("time_zero", "per_trace", per_trace)
     if pick_time_s is None:
         picks = pick_first_arrival_s(rg, thr, per_trace)
     else:
-        p = check_range("pick_time_s", pick_time_s, float(t[0]), float(t[-1]), unit="s")
+        p = check_param("time_zero", "pick_time_s", pick_time_s, rg)
         picks = np.full(rg.position_m.size, p)
         pick_time_s = p
     shift = np.where(np.isfinite(picks), (target - picks) / dt, 0.0)
@@ -137,7 +184,7 @@ def dewow(rg: Radargram, window_s: float = 5e-9) -> Radargram:
         practice). The window is rounded to an odd number of samples (at least 3); the
         trace is mirrored at its ends.
     """
-    n = window_samples("window_s", window_s, rg)
+    n = window_samples("dewow", "window_s", window_s, rg)
     mean = ndimage.uniform_filter1d(rg.data, size=n, axis=0, mode="reflect")
     return rg.with_data(rg.data - mean, record("dewow", window_s=float(window_s)))
 
@@ -158,16 +205,15 @@ def background_removal(rg: Radargram, method: str = "mean",
         traces (3 to n_traces) of a moving window centred on each trace, which follows a
         slowly changing background (ends are mirrored).
     """
-    method = check_choice("method", method, BACKGROUND_METHODS)
+    method = check_param("background_removal", "method", method)
     data = rg.data
-    nx = data.shape[1]
     if window_traces is None:
         if method == "mean":
             bg = data.mean(axis=1, keepdims=True)
         else:
-            bg = np.median(data, axis=1, keepdims=True)
+            bg = median_trace(data)
     else:
-        w = check_int("window_traces", window_traces, 3, max(nx, 3))
+        w = check_param("background_removal", "window_traces", window_traces, rg)
         if w % 2 == 0:
             raise ValueError(f"window_traces = {w} must be odd (a window centred on the trace)")
         window_traces = w
@@ -177,6 +223,15 @@ def background_removal(rg: Radargram, method: str = "mean",
             bg = ndimage.median_filter(data, size=(1, w), mode="reflect")
     rec = record("background_removal", method=method, window_traces=window_traces)
     return rg.with_data(data - bg, rec)
+
+
+@functools.lru_cache(maxsize=16)
+def _butter_bandpass(order: int, low_hz: float, high_hz: float, fs_hz: float) -> np.ndarray:
+    """Second-order sections of a Butterworth band-pass (designed once per setting: a
+    sweep filters thousands of sections alike)."""
+    sos = signal.butter(order, [low_hz, high_hz], btype="bandpass", fs=fs_hz, output="sos")
+    sos.setflags(write=False)  # callers filter with a copy (scipy wants a writable one)
+    return sos
 
 
 @STEPS.register("bandpass")
@@ -194,11 +249,10 @@ def bandpass(rg: Radargram, low_hz: float, high_hz: float, order: int = 4) -> Ra
         Butterworth order of the one-way filter, 1 to 10.
     """
     dt = sample_interval_s(rg)
-    nyq = 0.5 / dt
-    lo = check_range("low_hz", low_hz, 0.0, nyq, unit="Hz", low_open=True, high_open=True)
-    hi = check_range("high_hz", high_hz, lo, nyq, unit="Hz", low_open=True, high_open=True)
-    n = check_int("order", order, 1, 10)
-    sos = signal.butter(n, [lo, hi], btype="bandpass", fs=1.0 / dt, output="sos")
+    lo = check_param("bandpass", "low_hz", low_hz, rg)
+    hi = check_param("bandpass", "high_hz", high_hz, rg, low=lo)
+    n = check_param("bandpass", "order", order)
+    sos = _butter_bandpass(n, lo, hi, 1.0 / dt).copy()
     nt = rg.time_s.size
     padlen = min(3 * (2 * len(sos) + 1), nt - 1)
     out = signal.sosfiltfilt(sos, rg.data.T, axis=-1, padlen=padlen).T

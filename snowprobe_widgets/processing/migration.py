@@ -21,20 +21,24 @@ phase-shift-plus-interpolation).
 
 from __future__ import annotations
 
+import functools
 import math
+from dataclasses import dataclass
 
 import numpy as np
 from scipy import fft as sfft
 
-from .._validate import check_choice, check_range
 from ..constants import C0_M_S
+from ..fields import Field, declare
 from ..radargram import Radargram
 from ._common import (
     STEPS,
     VELOCITY_MAX_M_S,
-    check_velocity,
+    VELOCITY_MIN_M_S,
+    check_param,
     record,
     sample_interval_s,
+    step_group,
     trace_spacing_m,
 )
 
@@ -43,10 +47,47 @@ __all__ = ["migrate", "MIGRATION_METHODS", "rms_velocity_m_s"]
 MIGRATION_METHODS = ("fk", "kirchhoff")
 
 
+def _aperture(scenario: object, rg: Radargram | None) -> tuple[float, float]:
+    # one trace spacing to the whole line
+    if rg is not None:
+        dx = rg.dx_m if rg.position_m.size > 1 else 0.0
+        length = float(rg.position_m[-1] - rg.position_m[0])
+    else:
+        survey = scenario.survey  # type: ignore[attr-defined]
+        dx, length = survey.trace_spacing_m, survey.end_m - survey.start_m
+    return dx, max(length, dx)
+
+
+_M = step_group("migrate")
+declare(
+    Field(_M, "velocity_m_s", "number", "Wave speed", unit="m/s", display_unit="m/ns",
+          scale=1e9, low=VELOCITY_MIN_M_S, high=VELOCITY_MAX_M_S, step=0.005, decimals=3,
+          help="Speed of the wave in the snow (dry snow about 0.23 m/ns, wet snow less); "
+               "the right speed collapses a hyperbola to a point."),
+    Field(_M, "method", "choice", "Method", choices=MIGRATION_METHODS,
+          help="fk: fast, for one speed; kirchhoff: sums along each hyperbola, slower."),
+    Field(_M, "aperture_m", "optional number", "Aperture", unit="m", display_unit="m",
+          low=0.0, high=1e4, soft=_aperture, step=0.1,
+          help="kirchhoff only: how far along the line each point sums; empty: the whole "
+               "line."),
+    Field(_M, "antenna_height_m", "number", "Antenna height", unit="m", display_unit="m",
+          low=0.0, high=100.0, soft=(0.0, 50.0), step=0.05,
+          help="Height of the antenna above the snow; the wave crosses this air gap first. "
+               "It follows the radar's antenna height."),
+    Field(_M, "surface_time_s", "optional number", "Surface echo time", unit="s",
+          display_unit="ns", scale=1e-9, low=0.0, high=1e-6, decimals=1,
+          help="Where the surface echo lies on the record (after time-zero); empty: where "
+               "the antenna height puts it."),
+)
+
+
 #: Half-length (taps on each side) of the windowed-sinc interpolator of the Stolt mapping.
 _SINC_HALF = 4
 #: Ratio of neighbouring reference velocities of the f-k migration through an air gap.
 _REF_STEP = 1.02
+#: Largest section (samples x traces) whose Stolt map is kept for the next call of the
+#: same geometry (the map takes about 200 bytes per sample).
+_CACHED_MAP_SAMPLES = 100_000
 
 
 def rms_velocity_m_s(time_from_antenna_s: np.ndarray, velocity_m_s: float,
@@ -64,6 +105,76 @@ def rms_velocity_m_s(time_from_antenna_s: np.ndarray, velocity_m_s: float,
     return np.where(t > t_air, np.sqrt(v2), C0_M_S)
 
 
+@dataclass(frozen=True, eq=False)
+class _StoltMap:
+    """Where and with which weights Stolt's mapping reads the input spectrum (it depends
+    on the section's shape, sampling and velocity only, not on its data)."""
+
+    ntf: int
+    nxf: int
+    shift: np.ndarray  # (nf,) exp(j w t_mid): the spectrum referred to the record middle
+    read: np.ndarray  # (nf, nxf) bool: output bins read below Nyquist
+    first: np.ndarray  # (n_read,) flat index of the first tap in the extended spectrum
+    weight: np.ndarray  # (2 _SINC_HALF, n_read) tap weights, normalised to sum 1
+    factor: np.ndarray  # (n_read,) Jacobian times the time-origin phase
+
+
+def _build_stolt_map(nt: int, nx: int, dt: float, dx: float, v_half: float,
+                     t_first_s: float) -> _StoltMap:
+    ntf = sfft.next_fast_len(2 * nt, real=True)
+    nxf = sfft.next_fast_len(2 * nx)
+    w = 2.0 * np.pi * sfft.rfftfreq(ntf, dt)
+    nf = w.size
+    dw = w[1]
+    kx = 2.0 * np.pi * sfft.fftfreq(nxf, dx)
+    t_mid = 0.5 * (nt - 1) * dt  # record middle, from the first sample
+    half = _SINC_HALF
+    w_in = np.sqrt(w[:, None] ** 2 + (v_half * kx[None, :]) ** 2)
+    read = w_in < (nf - 1) * dw  # read below Nyquist only
+    w_out = np.broadcast_to(w[:, None], read.shape)[read]
+    cols = np.broadcast_to(np.arange(nxf), read.shape)[read]
+    w_read = w_in[read]
+    idx = w_read / dw
+    i0 = np.floor(idx).astype(np.intp)
+    frac = idx - i0
+    sin_pf = np.sin(np.pi * frac)
+    # Hann window cos(pi u / H) at u = frac - k, by the difference formula from one cosine
+    # and one sine of pi frac / H
+    cos_a, sin_a = np.cos(np.pi * frac / half), np.sin(np.pi * frac / half)
+    at_node = frac == 0.0  # u = 0 happens for k = 0 only (frac is in [0, 1))
+    weight = np.empty((2 * half, w_read.size))
+    for n, k in enumerate(range(-half + 1, half + 1)):
+        hann = 0.5 + 0.5 * (cos_a * math.cos(math.pi * k / half)
+                            + sin_a * math.sin(math.pi * k / half))
+        # sinc(u) = (-1)**k sin(pi frac) / (pi u), and 1 at u = 0
+        if k == 0:
+            sinc = np.where(at_node, 1.0, sin_pf / (np.pi * np.where(at_node, 1.0, frac)))
+        else:
+            sinc = (-1.0) ** k / np.pi * sin_pf / (frac - k)
+        weight[n] = sinc * hann
+    weight /= weight.sum(axis=0)
+    jac = np.divide(w_out, w_read, out=np.ones_like(w_read), where=w_read > 0.0)
+    phase = np.exp(1j * (w_out * t_first_s - w_read * (t_first_s + t_mid)))
+    # extended spectrum rows: H-1 mirrored negative frequencies first (see _stolt)
+    first = i0 * nxf + cols
+    out = _StoltMap(ntf, nxf, np.exp(1j * w * t_mid), read, first, weight, jac * phase)
+    for arr in (out.shift, out.read, out.first, out.weight, out.factor):
+        arr.setflags(write=False)
+    return out
+
+
+_cached_stolt_map = functools.lru_cache(maxsize=2)(_build_stolt_map)
+
+
+def _stolt_map(nt: int, nx: int, dt: float, dx: float, v_half: float,
+               t_first_s: float) -> _StoltMap:
+    """The map of a section, kept for the next sections of the same geometry when it
+    is small (a detector migrates a scene and its twin alike)."""
+    if nt * nx <= _CACHED_MAP_SAMPLES:
+        return _cached_stolt_map(nt, nx, dt, dx, v_half, t_first_s)
+    return _build_stolt_map(nt, nx, dt, dx, v_half, t_first_s)
+
+
 def _stolt(data: np.ndarray, t_first_s: float, dt: float, dx: float,
            v_half: float) -> np.ndarray:
     """Stolt (1978) f-k migration, constant velocity, exploding reflector velocity v_half.
@@ -76,43 +187,21 @@ def _stolt(data: np.ndarray, t_first_s: float, dt: float, dx: float,
     the true time origin is put back exactly afterwards.
     """
     nt, nx = data.shape
-    ntf = sfft.next_fast_len(2 * nt, real=True)
-    nxf = sfft.next_fast_len(2 * nx)
-    spec = sfft.fft(sfft.rfft(data, n=ntf, axis=0), n=nxf, axis=1)
-    nf = spec.shape[0]
-    w = 2.0 * np.pi * sfft.rfftfreq(ntf, dt)
-    dw = w[1]
-    kx = 2.0 * np.pi * sfft.fftfreq(nxf, dx)
-    t_mid = 0.5 * (nt - 1) * dt  # record middle, from the first sample
-    spec *= np.exp(1j * w * t_mid)[:, None]
+    m = _stolt_map(nt, nx, float(dt), float(dx), float(v_half), float(t_first_s))
+    nxf = m.nxf
+    spec = sfft.fft(sfft.rfft(data, n=m.ntf, axis=0), n=nxf, axis=1)
+    spec *= m.shift[:, None]
     # rows -H+1..-1 (negative frequencies: conj at -kx) and H rows of zeros above Nyquist
     half = _SINC_HALF
     neg_kx = (-np.arange(nxf)) % nxf
     below = np.conj(spec[half - 1:0:-1][:, neg_kx])
-    ext = np.concatenate([below, spec, np.zeros((half, nxf), dtype=spec.dtype)])
-    w_in = np.sqrt(w[:, None] ** 2 + (v_half * kx[None, :]) ** 2)
-    rows, cols = np.nonzero(w_in < (nf - 1) * dw)  # read below Nyquist only
-    w_read = w_in[rows, cols]
-    idx = w_read / dw
-    i0 = np.floor(idx).astype(np.intp)
-    frac = idx - i0
-    flat = ext.ravel()
-    sin_pf = np.sin(np.pi * frac)
-    acc = np.zeros(w_read.shape, dtype=complex)
-    wsum = np.zeros(w_read.shape)
-    for k in range(-half + 1, half + 1):
-        u = frac - k
-        # sinc(u) = (-1)**k sin(pi frac) / (pi u), and 1 at u = 0
-        safe = np.where(u == 0.0, 1.0, u)
-        sinc = np.where(u == 0.0, 1.0, (-1.0) ** k * sin_pf / (np.pi * safe))
-        wk = sinc * (0.5 + 0.5 * np.cos(np.pi * u / half))
-        acc += wk * flat[(i0 + (k + half - 1)) * nxf + cols]
-        wsum += wk
-    jac = np.divide(w[rows], w_read, out=np.ones_like(w_read), where=w_read > 0.0)
-    phase = np.exp(1j * (w[rows] * t_first_s - w_read * (t_first_s + t_mid)))
-    out = np.zeros(w_in.shape, dtype=complex)
-    out[rows, cols] = acc / wsum * jac * phase
-    out = sfft.irfft(sfft.ifft(out, axis=1)[:, :nx], n=ntf, axis=0)[:nt]
+    flat = np.concatenate([below, spec, np.zeros((half, nxf), dtype=spec.dtype)]).ravel()
+    acc = np.zeros(m.first.size, dtype=complex)
+    for n in range(2 * half):
+        acc += m.weight[n] * flat.take(m.first + n * nxf)
+    out = np.zeros(m.read.shape, dtype=complex)
+    out[m.read] = acc * m.factor
+    out = sfft.irfft(sfft.ifft(out, axis=1)[:, :nx], n=m.ntf, axis=0)[:nt]
     return np.ascontiguousarray(out)
 
 
@@ -218,12 +307,12 @@ def migrate(rg: Radargram, velocity_m_s: float, method: str = "fk",
     Radargram
         Same axes; time is vertical two-way time below the antenna line.
     """
-    method = check_choice("method", method, MIGRATION_METHODS)
-    v = check_velocity("velocity_m_s", velocity_m_s)
-    h = check_range("antenna_height_m", antenna_height_m, 0.0, 100.0, unit="m")
+    method = check_param("migrate", "method", method)
+    v = check_param("migrate", "velocity_m_s", velocity_m_s)
+    h = check_param("migrate", "antenna_height_m", antenna_height_m)
     t_air = 2.0 * h / C0_M_S
-    t_s = t_air if surface_time_s is None else check_range(
-        "surface_time_s", surface_time_s, 0.0, 1e-6, unit="s")
+    t_s = t_air if surface_time_s is None else check_param(
+        "migrate", "surface_time_s", surface_time_s)
     # times from the antenna: the record's own axis moved so the surface lies at 2 h / c0
     t_ant = rg.time_s - t_s + t_air
     dt = sample_interval_s(rg)
@@ -239,7 +328,7 @@ def migrate(rg: Radargram, velocity_m_s: float, method: str = "fk",
         length = float(rg.position_m[-1] - rg.position_m[0])
         if aperture_m is None:
             aperture_m = length
-        aperture_m = check_range("aperture_m", aperture_m, dx, max(length, dx), unit="m")
+        aperture_m = check_param("migrate", "aperture_m", aperture_m, rg)
         v_half = 0.5 * (rms_velocity_m_s(t_ant, v, h) if h > 0.0 else v)
         out = _kirchhoff(rg.data, t_ant, dt, dx, v_half, aperture_m)
     rec = record("migrate", velocity_m_s=v, method=method, aperture_m=aperture_m,

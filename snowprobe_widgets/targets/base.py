@@ -10,7 +10,12 @@ value-object class (``Person``, ``Boulder``, ...) and everything the model needs
 * ``outline(obj)``: its outline in the vertical plane of the survey line, for drawing;
 * ``principal_radii_m(obj)`` and ``budget_factor(...)``: the link budget's terms;
 * ``validity(obj, snow_index, freq_hz)``: plain-language warnings where its scattering
-  method is outside its domain (empty when inside).
+  method is outside its domain (empty when inside);
+* ``cylinder_stand_in(obj)``: (diameter, material, description) of the circular cylinder
+  that stands in for it in the 2-D full-wave check (:mod:`snowprobe_widgets.fdtd2d`), or
+  ``None`` when it has no round cross-section;
+* ``appearance(obj)``: one plain sentence on how it shows in a radargram (the training
+  debrief).
 
 Geometry convention shared by every buried thing (see :mod:`snowprobe_widgets.scene_objects`):
 ``position_m`` along the line, ``offset_m`` across it, ``depth_m`` to the shallowest point,
@@ -30,8 +35,8 @@ from ..facets import FacetMesh
 from ..layered import reflection, stack_coefficients
 
 __all__ = ["ANGLES_DEG", "POLARIZATIONS", "MAX_DEPTH_M", "Reflection", "TargetKind",
-           "ka_in_snow", "layered_reflection", "fresnel_angle_ratio", "ellipse", "set_field",
-           "check_geometry", "check_fields", "check_label", "check_bool"]
+           "ka_in_snow", "series_terms", "layered_reflection", "fresnel_angle_ratio",
+           "ellipse", "set_field", "check_geometry", "check_fields", "check_label", "check_bool"]
 
 #: Local incidence angles on which a kind gives its reflection's angle dependence, deg.
 ANGLES_DEG = np.linspace(0.0, 89.0, 90)
@@ -99,10 +104,25 @@ class TargetKind(Protocol):
 
     def validity(self, obj: Any, snow_index: float, freq_hz: float) -> tuple[str, ...]: ...
 
+    def cylinder_stand_in(self, obj: Any) -> tuple[float, Any, str] | None: ...
+
+    def appearance(self, obj: Any) -> str: ...
+
 
 def ka_in_snow(radius_m: float, snow_index: float, freq_hz: float) -> float:
     """Size parameter k a with the wavenumber in the snow around the object."""
     return 2 * math.pi * freq_hz * snow_index / C0_M_S * radius_m
+
+
+def series_terms(snow_eps: complex, object_eps_fc: complex, fc: float, freq_hz: np.ndarray,
+                 radius_m: float) -> tuple[np.ndarray, np.ndarray]:
+    """What an exact-series kind (sphere, cylinder) needs besides its series: the facets'
+    angle weighting (:func:`fresnel_angle_ratio` at ``fc``) and the size parameter
+    x = k a in the snow over ``freq_hz``."""
+    eps_s = snow_eps.real
+    ratio = fresnel_angle_ratio(eps_s, complex(object_eps_fc), fc)
+    x = ka_in_snow(radius_m, math.sqrt(eps_s), np.asarray(freq_hz, float))
+    return ratio, x
 
 
 def layered_reflection(stack_fc: list[complex], stack_f: list[np.ndarray],

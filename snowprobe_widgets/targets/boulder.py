@@ -27,7 +27,7 @@ from .base import (
     check_fields,
     check_geometry,
     ellipse,
-    fresnel_angle_ratio,
+    series_terms,
 )
 from .series import sphere_echo, sphere_po_shape
 
@@ -102,12 +102,11 @@ class BoulderKind:
 
     def reflection(self, obj: Boulder, snow_eps: complex, fc: float, freq_hz: np.ndarray,
                    polarization: str) -> Reflection:
-        eps_s = snow_eps.real
         rock = obj.material()
-        ratio = fresnel_angle_ratio(eps_s, complex(rock.permittivity(fc)), fc)
         f = np.asarray(freq_hz, float)
-        x = 2 * math.pi * f * math.sqrt(eps_s) / C0_M_S * (obj.diameter_m / 2)
-        n_rel = np.sqrt(np.asarray(rock.permittivity(f), complex) / eps_s)
+        ratio, x = series_terms(snow_eps, complex(rock.permittivity(fc)), fc, f,
+                                obj.diameter_m / 2)
+        n_rel = np.sqrt(np.asarray(rock.permittivity(f), complex) / snow_eps.real)
         m = np.where(n_rel.imag > 0, np.conj(n_rel), n_rel)  # decaying branch, n - j kappa
         return Reflection(ratio, sphere_echo(x, m), sphere_po_shape(x, ratio, ANGLES_DEG))
 
@@ -121,6 +120,18 @@ class BoulderKind:
     def budget_factor(self, obj: Boulder, wavelength_m: float, r_e_m: float, n: float
                       ) -> float:
         return 1.0
+
+    def cylinder_stand_in(self, obj: Boulder) -> tuple[float, Any, str]:
+        d = obj.diameter_m
+        return d, obj.material(), (
+            f"the boulder as a rock cylinder {d:.2f} m across (a cylinder focuses in one "
+            "plane only: its back-face echo differs from a sphere's in phase and strength)")
+
+    def appearance(self, obj: Boulder) -> str:
+        dt = 2.0 * obj.diameter_m * math.sqrt(obj.permittivity) / C0_M_S * 1e9
+        return (f"Rock gives a hyperbola like a body's, but often a double echo, from its "
+                f"top and its bottom, {dt:.1f} ns apart (its {obj.diameter_m:.1f} m crossed "
+                f"twice at permittivity {obj.permittivity:.0f}).")
 
     def validity(self, obj: Boulder, snow_index: float, freq_hz: float) -> tuple[str, ...]:
         return ()

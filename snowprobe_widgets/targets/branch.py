@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import ClassVar
+from typing import Any, ClassVar
 
 import numpy as np
 
@@ -29,7 +29,7 @@ from .base import (
     check_fields,
     check_geometry,
     ellipse,
-    fresnel_angle_ratio,
+    series_terms,
 )
 from .series import cylinder_echoes, cylinder_po_shape
 
@@ -138,11 +138,9 @@ class BranchKind:
 
     def reflection(self, obj: Branch, snow_eps: complex, fc: float, freq_hz: np.ndarray,
                    polarization: str) -> Reflection:
-        eps_s = snow_eps.real
-        ratio = fresnel_angle_ratio(eps_s, complex(obj.permittivity), fc)
-        f = np.asarray(freq_hz, float)
-        x = 2 * math.pi * f * math.sqrt(eps_s) / C0_M_S * (obj.diameter_m / 2)
-        m = math.sqrt(obj.permittivity / eps_s)
+        ratio, x = series_terms(snow_eps, complex(obj.permittivity), fc, freq_hz,
+                                obj.diameter_m / 2)
+        m = math.sqrt(obj.permittivity / snow_eps.real)
         beta = math.radians(field_axis_angle_deg(obj.heading_deg, polarization))
         along, across = cylinder_echoes(x, m)
         echo = along * math.cos(beta) ** 2 + across * math.sin(beta) ** 2
@@ -160,6 +158,18 @@ class BranchKind:
     def budget_factor(self, obj: Branch, wavelength_m: float, r_e_m: float, n: float
                       ) -> float:
         return 1.0
+
+    def cylinder_stand_in(self, obj: Branch) -> tuple[float, Any, str]:
+        from ..materials import rock
+
+        d = obj.diameter_m
+        return d, rock(obj.permittivity, 0.0), (
+            f"the branch as a wood cylinder {d:.2f} m across, lying across the line")
+
+    def appearance(self, obj: Branch) -> str:
+        return (f"Wood with water in it (permittivity about {obj.permittivity:.0f}) reflects "
+                "like a thin body: a hyperbola across the branch, a short flat line along "
+                "it.")
 
     def validity(self, obj: Branch, snow_index: float, freq_hz: float) -> tuple[str, ...]:
         lam = C0_M_S / (freq_hz * snow_index)

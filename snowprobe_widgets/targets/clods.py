@@ -44,8 +44,10 @@ def clod_contrast(layer: Any, fc: float) -> tuple[float, float, float]:
     """
     rho_b = min(layer.density_kg_m3 + CLUTTER_BLOCK_EXTRA_DENSITY_KG_M3,
                 RHO_ICE_KG_M3 * (1 - layer.lwc_percent / 100.0))
-    e_s = complex(mat.snow(layer.density_kg_m3, layer.lwc_percent).permittivity(fc)).real
-    e_b = complex(mat.snow(rho_b, layer.lwc_percent).permittivity(fc)).real
+    model = layer.dielectric_model
+    e_s = complex(mat.layer_material(model, layer.density_kg_m3, layer.lwc_percent)
+                  .permittivity(fc)).real
+    e_b = complex(mat.layer_material(model, rho_b, layer.lwc_percent).permittivity(fc)).real
     n_s, n_b = math.sqrt(e_s), math.sqrt(e_b)
     return n_s, (e_b - e_s) / (e_b + 2 * e_s), (n_s - n_b) / (n_s + n_b)
 

@@ -143,6 +143,13 @@ class MetalPlateKind:
         length = obj.length_m * math.cos(math.radians(obj.tilt_deg))
         return strip_factor(length, lam0, r_e_m) * strip_factor(obj.width_m, lam0, r_e_m)
 
+    def cylinder_stand_in(self, obj: MetalPlate) -> None:
+        return None  # a flat plate has no round cross-section
+
+    def appearance(self, obj: MetalPlate) -> str:
+        return ("Metal reflects all of the wave: a bright, flat echo over its length, often "
+                "ringing (repeated stripes below it).")
+
     def validity(self, obj: MetalPlate, snow_index: float, freq_hz: float
                  ) -> tuple[str, ...]:
         lam = C0_M_S / (freq_hz * snow_index)

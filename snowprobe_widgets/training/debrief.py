@@ -15,7 +15,6 @@ from typing import Any
 
 import numpy as np
 
-from ..constants import C0_M_S
 from .exercise import Exercise
 from .scoring import Score, Tolerance
 
@@ -122,29 +121,20 @@ def _false_target_sentence(exercise: Exercise, ft: Any) -> str:
         return (f"An {ft.description}: a continuous bright line across the whole section at "
                 f"about {t:.1f} ns. A layer, not a body: a body's echo is a hyperbola a few "
                 "metres wide at most.")
-    if ft.kind == "boulder" and obj is not None:
-        dt = 2.0 * obj.diameter_m * math.sqrt(obj.permittivity) / C0_M_S * 1e9
-        return (f"A {ft.description}. Rock gives a hyperbola like a body's, but often a "
-                f"double echo, from its top and its bottom, {dt:.1f} ns apart (its "
-                f"{obj.diameter_m:.1f} m crossed twice at permittivity "
-                f"{obj.permittivity:.0f}).")
-    if ft.kind == "branch" and obj is not None:
-        return (f"A {ft.description}. Wood with water in it (permittivity about "
-                f"{obj.permittivity:.0f}) reflects like a thin body: a hyperbola across the "
-                "branch, a short flat line along it.")
-    strength = ""
-    if obj is not None:
-        from ..budget import link_budget
+    if obj is None:
+        return f"A {ft.description}."
+    from ..budget import link_budget
+    from ..targets import kind_of
 
-        b = link_budget(sc, obj)
-        strength = f" Here it stood {b.echo_to_noise_db:.0f} dB above the noise."
-        if sc.persons:
-            bp = link_budget(sc, sc.persons[0])
-            diff = b.echo_to_noise_db - bp.echo_to_noise_db
-            strength += (f" That is {abs(diff):.0f} dB {'stronger' if diff >= 0 else 'weaker'}"
-                         f" than {sc.persons[0].label or 'the person'}'s echo.")
-    return (f"A {ft.description}. Metal reflects all of the wave: a bright, flat echo "
-            "over its length, often ringing (repeated stripes below it)." + strength)
+    # how the object looks (its kind says) and how its echo compares with the person's
+    b = link_budget(sc, obj)
+    strength = f" Here it stood {b.echo_to_noise_db:.0f} dB above the noise."
+    if sc.persons:
+        bp = link_budget(sc, sc.persons[0])
+        diff = b.echo_to_noise_db - bp.echo_to_noise_db
+        strength += (f" That is {abs(diff):.0f} dB {'stronger' if diff >= 0 else 'weaker'}"
+                     f" than {sc.persons[0].label or 'the person'}'s echo.")
+    return f"A {ft.description}. {kind_of(obj).appearance(obj)}{strength}"
 
 
 def debrief(exercise: Exercise, result: Score) -> Debrief:

@@ -30,6 +30,7 @@ import numpy as np
 
 from snowprobe_widgets import sweeps
 from snowprobe_widgets.detection import DEFAULT_THRESHOLD_DB
+from snowprobe_widgets.fields import FieldError, check, declaration_at
 from snowprobe_widgets.scene import Scenario
 from snowprobe_widgets.widgets._common import (
     as_f32,
@@ -56,21 +57,30 @@ MAX_SWEEPS_AT_ONCE = 2
 #: Most grid cells x realizations one dashboard sweep may ask for.
 MAX_DASHBOARD_REALIZATIONS = 20_000
 
-#: Sweepable fields: label -> (path, display scale (SI per display unit), default range,
-#: allowed display range, decimals). Ranges lie inside the fields' own ranges; the
-#: sweep's checks still refuse a value the base scenario cannot take.
-SWEEP_FIELDS: dict[str, tuple[str, float, tuple[float, float], tuple[float, float], int]] = {
-    "burial depth (m)": ("persons[0].depth_m", 1.0, (0.3, 1.5), (0.05, 100.0), 2),
-    "liquid water, every layer (%)": ("snowpack.layers[*].lwc_percent", 1.0, (0.0, 6.0),
-                                      (0.0, 12.0), 1),
-    "density, every layer (kg/m3)": ("snowpack.layers[*].density_kg_m3", 1.0,
-                                     (150.0, 550.0), (30.0, 917.0), 0),
-    "offset from the line (m)": ("persons[0].offset_m", 1.0, (0.0, 1.5), (0.0, 5.0), 2),
-    "centre frequency (MHz)": ("radar.center_frequency_hz", 1e6, (300.0, 900.0),
-                               (50.0, 3000.0), 0),
-    "antenna height (m)": ("radar.antenna_height_m", 1.0, (0.2, 3.0), (0.05, 30.0), 2),
-    "trace spacing (m)": ("survey.trace_spacing_m", 1.0, (0.02, 0.1), (0.001, 100.0), 3),
+#: Sweepable fields and the range each starts with, in display units. Labels, units,
+#: scales, decimals and the allowed ranges come from the field declarations
+#: (:mod:`snowprobe_widgets.fields`, the same the design screen uses); the sweep's own
+#: checks still refuse a value the base scenario cannot take.
+_SWEEP_DEFAULTS: dict[str, tuple[float, float]] = {
+    "persons[0].depth_m": (0.3, 1.5),
+    "snowpack.layers[*].lwc_percent": (0.0, 6.0),
+    "snowpack.layers[*].density_kg_m3": (150.0, 550.0),
+    "persons[0].offset_m": (0.0, 1.5),
+    "radar.center_frequency_hz": (300.0, 900.0),
+    "radar.antenna_height_m": (0.2, 3.0),
+    "survey.trace_spacing_m": (2.0, 10.0),
 }
+
+
+def _sweep_label(path: str) -> str:
+    f = declaration_at(path)
+    every = (", every layer" if path.startswith("snowpack.layers[*]") else
+             " of person 1" if path.startswith("persons[0]") else "")
+    return f"{f.label}{every} ({f.display_unit})" if f.display_unit else f.label + every
+
+
+#: Sweepable fields: label on screen -> field path.
+SWEEP_FIELDS: dict[str, str] = {_sweep_label(p): p for p in _SWEEP_DEFAULTS}
 _NONE = "(none)"
 _PRESET_NONE = "none: clutter and noise only"
 _NAN_INDEX = 0  # palette entry for a cell with no finished realization (grey)
@@ -162,8 +172,7 @@ class _FieldRow(widgets.HBox):
         for w in (self.low, self.high, self.steps):
             w.disabled = not on
         if on:
-            _path, _scale, (lo, hi), _allowed, _dec = SWEEP_FIELDS[self.field.value]
-            self.low.value, self.high.value = lo, hi
+            self.low.value, self.high.value = _SWEEP_DEFAULTS[SWEEP_FIELDS[self.field.value]]
 
     def grid(self) -> tuple[str, list[float], list[float]] | None:
         """(path, SI values, display values), or None when no field is chosen.
@@ -176,19 +185,22 @@ class _FieldRow(widgets.HBox):
         if self.field.value == _NONE:
             return None
         label = self.field.value
-        path, scale, _default, (amin, amax), dec = SWEEP_FIELDS[label]
+        path = SWEEP_FIELDS[label]
+        f = declaration_at(path)
         lo, hi = float(self.low.value), float(self.high.value)
         for name, v in (("from", lo), ("to", hi)):
-            if not (math.isfinite(v) and amin <= v <= amax):
-                raise ValueError(f"{label} {name} = {v:g} is outside the allowed range "
-                                 f"[{amin:g}, {amax:g}]")
+            try:
+                check(f.group, f.name, f.to_si(v))
+            except FieldError as exc:
+                raise ValueError(f"{label} {name}: {exc.screen}") from None
         if not lo < hi:
             raise ValueError(f"{label}: from = {lo:g} must be below to = {hi:g}")
+        dec = f.decimals
         shown = [round(v, dec) for v in np.linspace(lo, hi, int(self.steps.value))]
         if len(set(shown)) != len(shown):
             raise ValueError(f"{label}: {len(shown)} values between {lo:g} and {hi:g} do not "
                              f"differ at {dec} decimals; fewer values or a wider range")
-        return path, [v * scale for v in shown], shown
+        return path, [f.to_si(v) for v in shown], shown
 
 
 class DetectabilityView(widgets.VBox):
@@ -227,8 +239,10 @@ class DetectabilityView(widgets.VBox):
         self.base_choice = dropdown("base scene", list(Scenario.examples()),
                                     self.base.name if self.base.name in Scenario.examples()
                                     else Scenario.examples()[0])
-        self.field_x = _FieldRow("field across", False, "burial depth (m)", "sp-field-x")
-        self.field_y = _FieldRow("field up", True, "liquid water, every layer (%)",
+        self.field_x = _FieldRow("field across", False, _sweep_label("persons[0].depth_m"),
+                                 "sp-field-x")
+        self.field_y = _FieldRow("field up", True,
+                                 _sweep_label("snowpack.layers[*].lwc_percent"),
                                  "sp-field-y")
         self.preset = dropdown("uncertain", [_PRESET_NONE, *sweeps.UNCERTAINTY_PRESETS],
                                "typical dry debris")
@@ -239,6 +253,10 @@ class DetectabilityView(widgets.VBox):
         self.run_button.add_class("sp-sweep-run")
         self.cancel_button = widgets.Button(description="cancel", disabled=True)
         self.cancel_button.add_class("sp-sweep-cancel")
+        self.resume_button = widgets.Button(description="resume", disabled=True,
+                                            tooltip="run the realizations a cancelled "
+                                                    "sweep did not finish")
+        self.resume_button.add_class("sp-sweep-resume")
         self.progress = widgets.IntProgress(value=0, min=0, max=1, description="progress",
                                             layout=widgets.Layout(width="380px"))
         self.progress_text = widgets.HTML()
@@ -265,6 +283,7 @@ class DetectabilityView(widgets.VBox):
         self.base_choice.observe(self._on_base_choice, names="value")
         self.run_button.on_click(lambda _: self.run())
         self.cancel_button.on_click(lambda _: self.cancel())
+        self.resume_button.on_click(lambda _: self.resume())
         self.level.observe(lambda _: self._resummarise(), names="value")
         self.contour.observe(lambda _: self._draw(), names="value")
 
@@ -276,7 +295,7 @@ class DetectabilityView(widgets.VBox):
         controls = widgets.VBox([
             section_title("Scene and grid"), self.base_choice, self.field_x, self.field_y,
             section_title("What nobody knows exactly"), self.preset, self.realizations,
-            widgets.HBox([self.run_button, self.cancel_button]),
+            widgets.HBox([self.run_button, self.cancel_button, self.resume_button]),
             widgets.HBox([self.progress, self.progress_text]), self.download, self.message,
         ])
         views = widgets.VBox([
@@ -411,35 +430,65 @@ class DetectabilityView(widgets.VBox):
         except ValueError as exc:
             show_message(self.message, str(exc))
             return False
+        realizations = int(self.realizations.value)
+        base = self.base
+
+        def job(pool: Any, on_progress: Callable[[int, int], Any]) -> Any:
+            return sweeps.sweep(base, vary, uncertain=uncertain,
+                                realizations=realizations, executor=pool, progress=False,
+                                on_progress=on_progress, cancel=self._cancel, chunk_size=2)
+
+        total = int(np.prod([len(v) for v in vary.values()])) * realizations
+        return self._start(job, total, 0, wait, axes=shown)
+
+    def resume(self, wait: bool = False) -> bool:
+        """Run the realizations the shown (cancelled) sweep did not finish, in a worker
+        process; the result equals an uninterrupted run's. Returns False, with the
+        reason in the message line, when there is nothing to resume or a sweep runs."""
+        if self.running:
+            show_message(self.message, "a sweep is already running; cancel it first")
+            return False
+        ds = self.dataset
+        if ds is None or ds.attrs["complete"]:
+            show_message(self.message, "there is no cancelled sweep to resume")
+            return False
+
+        def job(pool: Any, on_progress: Callable[[int, int], Any]) -> Any:
+            return sweeps.resume(ds, executor=pool, progress=False, on_progress=on_progress,
+                                 cancel=self._cancel, chunk_size=2)
+
+        return self._start(job, int(ds["done"].size), int(ds["done"].sum()), wait)
+
+    def _start(self, job: Callable[[Any, Callable[[int, int], Any]], Any], total: int,
+               done_before: int, wait: bool, axes: list[list[float]] | None = None) -> bool:
+        """Run ``job(pool, on_progress)`` on a one-worker process pool from a thread
+        (``axes``: the display values of a new grid)."""
         if not self._slots.acquire():
             show_message(self.message, f"{self._slots.slots} sweeps are already running on "
                          "this server; try again when one has finished")
             return False
         show_message(self.message, "")
-        self._axes_values = shown
+        if axes is not None:
+            self._axes_values = axes
         self._cancel.clear()
         self.run_button.disabled = True
+        self.resume_button.disabled = True
         self.cancel_button.disabled = False
-        total = int(np.prod([len(v) for v in vary.values()])) * int(self.realizations.value)
-        self.progress.max, self.progress.value = total, 0
+        self.progress.max, self.progress.value = total, done_before
         self.progress_text.value = "starting a worker process"
         started = time.monotonic()
 
-        def on_progress(done: int, total: int) -> None:
-            self.progress.value = done
+        def on_progress(done: int, todo: int) -> None:
+            self.progress.value = done_before + done
             elapsed = time.monotonic() - started
-            left = elapsed / done * (total - done) if done else float("nan")
-            self.progress_text.value = (f"{done} of {total} realizations, about "
-                                        f"{left:.0f} s left" if done else "")
+            left = elapsed / done * (todo - done) if done else float("nan")
+            self.progress_text.value = (f"{done_before + done} of {total} realizations, "
+                                        f"about {left:.0f} s left" if done else "")
 
         def work() -> None:
             try:
                 with sweeps.local_pool(1) as pool:
-                    ds = sweeps.sweep(self.base, vary, uncertain=uncertain,
-                                      realizations=int(self.realizations.value),
-                                      executor=pool, progress=False,
-                                      on_progress=on_progress, cancel=self._cancel,
-                                      chunk_size=2)
+                    ds = job(pool, on_progress)
                 self._show_result(ds)
             except Exception as exc:  # shown, never raised into the page
                 show_message(self.message, f"the sweep failed: {exc}")
@@ -447,6 +496,8 @@ class DetectabilityView(widgets.VBox):
                 self._slots.release()
                 self.run_button.disabled = False
                 self.cancel_button.disabled = True
+                self.resume_button.disabled = not (self.dataset is not None and
+                                                   not self.dataset.attrs["complete"])
 
         self._thread = threading.Thread(target=work, daemon=True)
         self._thread.start()

@@ -228,7 +228,8 @@ class ScenarioExplorer(widgets.VBox):
         self.snowpack = SnowpackEditor()
         self.debris = DebrisPanel()
         self.radar = RadarPanel()
-        self.processing = ProcessingPanel(scenario.radar.center_frequency_hz)
+        self.processing = ProcessingPanel(scenario.radar.center_frequency_hz,
+                                          scenario=scenario)
         self._panels = [self.snowpack, self.person, self.debris, self.radar]
         for p in self._panels:
             p.on_change(self._on_controls)
@@ -580,6 +581,8 @@ class ScenarioExplorer(widgets.VBox):
         if pick_m is not None:
             self.radargram_view.picked_position_m = None
         self.processing.follow_antenna_height(scenario.radar.antenna_height_m)
+        if old is None or old.radar != scenario.radar or old.survey != scenario.survey:
+            self.processing.follow(scenario)
         self._process(pick_m)
         self._stale = {"budget": True, "materials": True, "compare": True}
         self._update_verdicts()
@@ -710,6 +713,8 @@ class ScenarioExplorer(widgets.VBox):
             chain.append(c)
 
         if not guarded(self.message, run, self._restore_controls):
+            if self._chain is not None:  # a refused setting goes back to the chain on screen
+                self.processing.show(self._chain)
             return
         self._chain = chain[0]
         self._processed = done[0]

@@ -182,6 +182,8 @@ class SnowpackEditor(Panel):
         self.lwc = self._control("lwc", "layer", "lwc_percent", 0.0)
         self.crust = self._control("crust", "layer", "ice_crust", False)
         self.crust.description = "Ice crust (700-917 kg/m³, at most 0.3 m)"
+        self.dielectric_model = self._control("dielectric_model", "layer", "dielectric_model",
+                                              "snow")
         self.add_layer = _button("add layer below", "copy the chosen layer below it")
         self.remove_layer = _button("remove layer")
         self.move_up = _button("move up")
@@ -202,11 +204,13 @@ class SnowpackEditor(Panel):
             section_title("Snow layers, surface first"), self.layer_choice,
             widgets.HBox([self.add_layer, self.remove_layer, self.move_up, self.move_down,
                           self.add_crust], layout=_WRAP),
-            self.thickness, self.density, self.lwc, self.all_layers, self.crust, self.summary,
+            self.thickness, self.density, self.lwc, self.all_layers, self.crust,
+            self.dielectric_model, self.summary,
             section_title("Snow and ground"), self.temperature, self.ground_kind,
             self.soil_water, self.rock_permittivity, self.rock_conductivity])
         self.layer_choice.observe(self._on_pick, names="value")
-        self._watch(self.thickness, self.density, self.lwc, self.crust, self.temperature,
+        self._watch(self.thickness, self.density, self.lwc, self.crust,
+                    self.dielectric_model, self.temperature,
                     self.ground_kind, self.soil_water, self.rock_permittivity,
                     self.rock_conductivity)
         self.ground_kind.observe(lambda _: self._sync_ground(), names="value")
@@ -240,7 +244,7 @@ class SnowpackEditor(Panel):
         layers = list(self._layers)
         i = int(self.layer_choice.value)
         layers[i] = Layer(self._si("thickness"), self._si("density"), self._si("lwc"),
-                          bool(self.crust.value))
+                          bool(self.crust.value), self.dielectric_model.value)
         snow = Snowpack(tuple(layers), temperature_c=self._si("temperature"))
         self._staged = (layers, i)
         return {"snowpack": snow, "ground": ground}
@@ -272,9 +276,10 @@ class SnowpackEditor(Panel):
         options = []
         for i, layer in enumerate(self._layers):
             tag = "ice crust, " if layer.ice_crust else ""
+            model = "" if layer.dielectric_model == "snow" else f", {layer.dielectric_model}"
             options.append((f"{i + 1}: {tag}{layer.thickness_m:.2f} m, "
-                            f"{layer.density_kg_m3:.0f} kg/m3, {layer.lwc_percent:.1f} % water",
-                            i))
+                            f"{layer.density_kg_m3:.0f} kg/m3, {layer.lwc_percent:.1f} % water"
+                            f"{model}", i))
         self._quiet += 1
         try:
             self.layer_choice.options = options
@@ -293,6 +298,7 @@ class SnowpackEditor(Panel):
         self._put("lwc", layer.lwc_percent,
                   self._field("lwc").soft_bounds(item=layer))
         self._set(self.crust, bool(layer.ice_crust))
+        self._set(self.dielectric_model, layer.dielectric_model)
 
     def _on_pick(self, change: Any) -> None:
         if self._quiet or change["new"] is None:

@@ -13,6 +13,7 @@ import math
 
 import numpy as np
 import pytest
+from facet_reference import EPS_SNOW, facet_sum
 from mie_reference import miepython_echo
 from scipy.signal import hilbert
 
@@ -28,31 +29,18 @@ from snowprobe_widgets.scene import (
     Survey,
 )
 from snowprobe_widgets.targets import kind_of
-from snowprobe_widgets.targets.base import ANGLES_DEG
 
 C = 299_792_458.0  # m/s, exact
-EPS_SNOW = 1.6  # dry snow of about 300 kg/m3 (REFERENCES 1.2)
 R_M = 90.0  # range to the sphere's top: far field (2 D^2 / lambda < 5 m here)
 FREQ_HZ = np.linspace(400e6, 1500e6, 23)
 
 
 def _facet_sum(obj: Boulder, freq_hz: np.ndarray) -> np.ndarray:
     """The synthesis' path in a homogeneous medium, as a front-face normalised echo."""
-    kind = kind_of(obj)
-    k = 2 * math.pi * freq_hz * math.sqrt(EPS_SNOW) / C
     facet = C / (math.sqrt(EPS_SNOW) * freq_hz.max()) / 10
-    mesh = kind.mesh(obj, min(facet, obj.diameter_m / 10))
-    refl = kind.reflection(obj, complex(EPS_SNOW), 800e6, freq_hz, "across_line")
-    d = mesh.centre_m
-    r = np.linalg.norm(d, axis=1)
-    cos_t = -np.einsum("ij,ij->i", d / r[:, None], mesh.normal)
-    lit = cos_t > 0
-    weight = np.interp(np.degrees(np.arccos(np.minimum(cos_t[lit], 1.0))), ANGLES_DEG,
-                       refl.angle_ratio)
-    w = weight * cos_t[lit] * mesh.area_m2[lit] / r[lit] ** 2
-    # physical-optics kernel of facets.po_backscatter (Knott et al. 1993 ch. 5)
-    e = 1j * k / (2 * math.pi) * (np.exp(-2j * np.outer(k, r[lit])) @ w)
+    e, refl = facet_sum(obj, freq_hz, min(facet, obj.diameter_m / 10), "across_line")
     # front-face normalisation: a / 2 at range^2, phase of the top
+    k = 2 * math.pi * freq_hz * math.sqrt(EPS_SNOW) / C
     a = obj.diameter_m / 2
     rc = R_M + a
     return e * refl.facet_spectrum * rc**2 / (a / 2) * np.exp(2j * k * R_M)

@@ -15,6 +15,7 @@ import math
 
 import numpy as np
 import pytest
+from facet_reference import EPS_SNOW, facet_sum
 
 from snowprobe_widgets import simulate
 from snowprobe_widgets.scene import (
@@ -28,11 +29,9 @@ from snowprobe_widgets.scene import (
     Survey,
 )
 from snowprobe_widgets.targets import kind_of
-from snowprobe_widgets.targets.base import ANGLES_DEG
 from snowprobe_widgets.targets.series import cylinder_echo
 
 C = 299_792_458.0  # m/s, exact
-EPS_SNOW = 1.6  # dry snow of about 300 kg/m3 (REFERENCES 1.2)
 R_M = 90.0  # far field of a 1.5 m branch up to 1.5 GHz (2 L^2 / lambda < 30 m)
 FREQ_HZ = np.linspace(400e6, 1500e6, 12)
 #: (radar polarisation, series case) for a branch along the survey line (heading 0)
@@ -42,19 +41,9 @@ POLS = [("along_line", "along"), ("across_line", "across")]
 def _echo_width(obj: Branch, freq_hz: np.ndarray, polarization: str,
                 series: bool = True) -> np.ndarray:
     """sigma_2d of the synthesis' path (facet sum x facet spectrum), m."""
-    kind = kind_of(obj)
     k = 2 * math.pi * freq_hz * math.sqrt(EPS_SNOW) / C
-    mesh = kind.mesh(obj, min(C / (math.sqrt(EPS_SNOW) * freq_hz.max()) / 10, 0.05))
-    refl = kind.reflection(obj, complex(EPS_SNOW), 800e6, freq_hz, polarization)
-    d = mesh.centre_m
-    r = np.linalg.norm(d, axis=1)
-    cos_t = -np.einsum("ij,ij->i", d / r[:, None], mesh.normal)
-    lit = cos_t > 0
-    weight = np.interp(np.degrees(np.arccos(np.minimum(cos_t[lit], 1.0))), ANGLES_DEG,
-                       refl.angle_ratio)
-    w = weight * cos_t[lit] * mesh.area_m2[lit] / r[lit] ** 2
-    # physical-optics kernel of facets.po_backscatter (Knott et al. 1993 ch. 5)
-    e = 1j * k / (2 * math.pi) * (np.exp(-2j * np.outer(k, r[lit])) @ w)
+    e, refl = facet_sum(obj, freq_hz, min(C / (math.sqrt(EPS_SNOW) * freq_hz.max()) / 10,
+                                          0.05), polarization)
     if series:
         e = e * refl.facet_spectrum
     else:  # plain physical optics: the front face's Fresnel coefficient

@@ -69,6 +69,12 @@ def test_every_kind_follows_the_protocol(name: str) -> None:
     assert all(r > 0 for r in kind.principal_radii_m(obj))
     assert 0 < kind.budget_factor(obj, 0.3, 1.5, 1.3) <= 1.5
     assert all(isinstance(w, str) for w in kind.validity(obj, 1.3, 800e6))
+    assert isinstance(kind.appearance(obj), str) and kind.appearance(obj).endswith(".")
+    stand_in = kind.cylinder_stand_in(obj)
+    if stand_in is not None:
+        d, material, what = stand_in
+        assert d > 0 and isinstance(what, str)
+        assert np.isfinite(complex(material.permittivity(800e6))) or material.perfect_conductor
 
 
 @dataclass(frozen=True)
@@ -149,6 +155,12 @@ class DiscKind:
     def validity(self, obj, snow_index, freq_hz):
         return ("disc warning",)
 
+    def cylinder_stand_in(self, obj):
+        return None
+
+    def appearance(self, obj):
+        return "A disc shows as a short flat echo."
+
 
 def test_a_plugin_kind_works_end_to_end(monkeypatch) -> None:
     # what an entry point in "snowprobe_widgets.targets" does: one more registry entry
@@ -161,6 +173,11 @@ def test_a_plugin_kind_works_end_to_end(monkeypatch) -> None:
     assert back == sc
     assert link_budget(sc, sc.objects[0]).echo_to_noise_db > 0
     assert validity_warnings(sc) == ("disc warning",)
+    # the 2-D check asks the kind for its stand-in: a disc has none and is refused by name
+    from snowprobe_widgets.fdtd2d import scenario_cylinder
+
+    with pytest.raises(ValueError, match="no cylinder stand-in for a disc"):
+        scenario_cylinder(sc)
     # and a file with a misspelt field of the plugin's object names it
     d = dataclasses.asdict(sc.objects[0])
     bad = {"type": "disc", **d, "radius_m": 0.1}

@@ -13,7 +13,7 @@ from snowprobe_widgets.widgets.detectability import _NONE, _SweepSlots, contour_
 
 
 def _small(view: DetectabilityView, realizations: int = 2) -> None:
-    view.field_x.field.value = "burial depth (m)"
+    view.field_x.field.value = "Depth to top of person 1 (m)"
     view.field_x.low.value, view.field_x.high.value = 0.4, 1.0
     view.field_x.steps.value = 2
     view.field_y.field.value = _NONE
@@ -71,10 +71,11 @@ def test_clicking_a_cell_opens_its_scene_in_the_explorer(ran):
 
 def test_bad_range_is_refused_with_the_field_named():
     view = DetectabilityView()
-    view.field_x.field.value = "burial depth (m)"
+    view.field_x.field.value = "Depth to top of person 1 (m)"
     view.field_x.low.value, view.field_x.high.value = 0.5, 150.0
     assert not view.run()
-    assert "burial depth (m) to = 150" in message_text(view.message)
+    assert "Depth to top of person 1 (m) to: Depth to top 150 m is out of range: use 0 to 100 m" \
+        in message_text(view.message)
     view.field_x.high.value = 1.9  # inside the field's range, but too deep for this snow
     assert not view.run()
     assert "deeper than the 2 m snowpack" in message_text(view.message)
@@ -102,6 +103,17 @@ def test_cancel_keeps_what_finished():
     assert view.dataset is not None and view.dataset.attrs["complete"] == 0
     assert int(view.dataset["done"].sum()) < 80
     assert "cancelled" in view.progress_text.value
+    assert not view.resume_button.disabled
+    partial = view.dataset
+    assert view.resume(wait=True)
+    ds = view.dataset
+    assert ds.attrs["complete"] == 1 and int(ds["done"].sum()) == 80
+    assert view.resume_button.disabled and "done: 80" in view.progress_text.value
+    # what the cancelled run kept is kept as it was
+    kept = partial["done"].values
+    np.testing.assert_array_equal(ds["found"].values[kept], partial["found"].values[kept])
+    assert not view.resume()
+    assert "no cancelled sweep" in message_text(view.message)
 
 
 def test_contour_of_a_ramp_crosses_where_it_should():
@@ -127,7 +139,7 @@ def test_the_design_app_has_the_view_in_a_tab_on_its_own_scene():
     app.scenario = dataclasses.replace(app.scenario, persons=(dataclasses.replace(
         app.scenario.persons[0], depth_m=deeper),))
     _small(view)
-    view.field_x.field.value = "liquid water, every layer (%)"
+    view.field_x.field.value = "Liquid water, every layer (%)"
     view.field_x.low.value, view.field_x.high.value = 0.0, 2.0
     assert view.run(wait=True)
     assert view.base == app.scenario and view.dataset is not None

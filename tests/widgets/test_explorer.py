@@ -136,9 +136,9 @@ def test_material_band_warnings_and_air_gap_migration_follow_the_scenario(
     # and the migration step migrates through the radar's air gap
     app.scenario = Scenario.example("deep_wet_spring")  # Tiuri wet snow at 400 MHz
     assert "Tiuri et al. 1984" in app.validity.value
-    assert app.processing.mig_height.value == pytest.approx(0.3)
+    assert app.processing.control("migrate", "antenna_height_m").value == pytest.approx(0.3)
     app.radar.height.value = 2.0
-    assert app.processing.mig_height.value == pytest.approx(2.0)
+    assert app.processing.control("migrate", "antenna_height_m").value == pytest.approx(2.0)
     params = dict(next(st for st in app.processing.chain().steps if st.name == "migrate").params)
     assert params["antenna_height_m"] == pytest.approx(2.0)
     app.scenario = Scenario.default()
@@ -230,7 +230,7 @@ def test_processing_change_does_not_resimulate_and_colour_does_not_reprocess(
     processed = app.radargram
     app.radargram_view.clip_slider.value = 90.0
     assert app.radargram is processed  # same object: no reprocessing
-    app.processing.dewow_window.value = 10.0
+    app.processing.control("dewow", "window_s").value = 10.0
     assert dict(app.chain.steps[1].params)["window_s"] == pytest.approx(10e-9)
     app.show_processed.value = "raw"
     assert app.radargram is app.raw_radargram
