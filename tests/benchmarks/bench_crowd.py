@@ -51,6 +51,9 @@ from harness import (  # noqa: E402
 
 DEADLINE_S = 180.0
 
+#: CPU seconds a design kernel has spent once it ran its notebook (about 3 measured).
+WARM_KERNEL_CPU_S = 2.0
+
 IMPORT_STEPS = [
     ("python + psutil", ""),
     ("ipykernel + ipywidgets (every kernel)", "import ipykernel.ipkernel, ipywidgets"),
@@ -161,10 +164,13 @@ def _wait_warm(server: Launcher, count: int) -> float:
     while True:
         kernels = list(server.kernel_processes().values())
         try:
+            # a kernel that ran its notebook has spent seconds of CPU (imports, first
+            # picture) and then goes quiet; a starved one is quiet too, but has not spent
+            spent = min((sum(k.cpu_times()[:2]) for k in kernels), default=0.0)
             busy = sum(k.cpu_percent(1.0) for k in kernels)
         except psutil.NoSuchProcess:  # a session was replaced meanwhile: look again
             continue
-        if len(kernels) >= count and busy <= 5.0 * len(kernels):
+        if len(kernels) >= count and spent >= WARM_KERNEL_CPU_S and busy <= 5.0 * len(kernels):
             return time.perf_counter() - start
         if time.perf_counter() - start > 2 * DEADLINE_S:
             raise RuntimeError(f"{count} warm sessions not ready after {2 * DEADLINE_S:.0f} s")
