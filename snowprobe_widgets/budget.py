@@ -293,17 +293,6 @@ def _two_way_transmission(optics: ColumnOptics, D: np.ndarray) -> np.ndarray | f
     return t2 if np.ndim(t2) else float(t2)
 
 
-def _radii_m(target: Any) -> tuple[float, float]:
-    """Principal radii of curvature of the target's top, m (inf: flat direction)."""
-    return kind_of(target).principal_radii_m(target)
-
-
-def _plate_factor(target: Any, wavelength_m: float, r_e_m: float, n: float) -> float:
-    """The kind's extra echo factor (a metal plate narrower than the first Fresnel zone
-    returns less than a flat interface; 1 for the other built-in kinds)."""
-    return kind_of(target).budget_factor(target, wavelength_m, r_e_m, n)
-
-
 @dataclass(frozen=True)
 class _Echo:
     peak: float  # received amplitude re sqrt(P_t)
@@ -359,7 +348,11 @@ class _EchoModel:
         r_f = [cache[complex(m.permittivity(fc))] for m in self.opt.materials]
         self.r_f = np.array([r[:-1] for r in r_f]).reshape(-1, fb.size)
         self.r_fc = np.array([abs(complex(r[-1])) for r in r_f])
-        self.radii = _radii_m(target)
+        # the kind's budget terms: principal radii of the target's top (inf: flat), and
+        # its extra factor (a metal plate narrower than the first Fresnel zone returns
+        # less than a flat interface; 1 for the other built-in kinds)
+        self.kind = kind_of(target)
+        self.radii = self.kind.principal_radii_m(target)
 
     def _waves(self, spectra: np.ndarray) -> np.ndarray:
         full = np.zeros((spectra.shape[0], self.n_f), complex)
@@ -379,7 +372,7 @@ class _EchoModel:
         n_loc = opt.index[j]
         rho1, rho2 = self.radii
         curv = 1.0 / np.sqrt((1 + n_loc * r_e / rho1) * (1 + n_loc * r_e / rho2))
-        curv *= np.array([_plate_factor(self.target, C0_M_S / (self.fc * n), r, n)
+        curv *= np.array([self.kind.budget_factor(self.target, C0_M_S / (self.fc * n), r, n)
                           for n, r in zip(n_loc, r_e, strict=True)])
         # dispersion and frequency-dependent loss relative to the centre-frequency values
         disp = dispersion_factor(self.offsets, self.k0, D, opt.alpha_np_m)
