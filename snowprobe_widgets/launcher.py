@@ -90,6 +90,14 @@ WARM_REFILL_DELAY_S: float = 20.0
 #: ``--warm`` without a number: size the warm pools from the session cap.
 WARM_FROM_CAP: int = -1
 
+#: A connected page that has not drawn its dashboard this long after its outputs arrived
+#: says so and loads again by itself, seconds (:data:`DRAW_DEADLINE_ENV` overrides it).
+DRAW_DEADLINE_S: float = 120.0
+
+#: Environment variable that sets :data:`DRAW_DEADLINE_S` for a server (the browser
+#: tests use a short one to watch a page recover).
+DRAW_DEADLINE_ENV: str = "SNOWPROBE_DRAW_DEADLINE_S"
+
 #: Cookie naming a browser (a random id, nothing else), so a reload can free its sessions.
 VISITOR_COOKIE: str = "snowprobe_visitor"
 
@@ -129,9 +137,11 @@ who can reach the page:
   scenarios come in by upload and results leave as downloads.
 
 serving more people:
-  each session costs the server about 2.5 CPU-seconds to start and about 135 MB
-  of its own memory; visitors arriving together wait about (visitors x 2.5 s /
-  cores). For more, use more cores, several servers behind a proxy, or
+  each session costs the server about 4 CPU-seconds to start and draw (kernel
+  and server) and about 140 MB (proportional memory; 190 MB resident); each
+  visitor's browser needs about 5 CPU-seconds more. Visitors arriving together
+  wait about (visitors x those costs / cores). --warm starts sessions before
+  people arrive. For more, use more cores, several servers behind a proxy, or
   JupyterHub (see the README).
 """
 
@@ -315,6 +325,16 @@ def check_port_free(host: str, port: int) -> None:
 # ----------------------------------------------------------------------------- the server
 
 
+def draw_deadline_s() -> float:
+    """:data:`DRAW_DEADLINE_S`, or the value of :data:`DRAW_DEADLINE_ENV` (1 to 3600 s)."""
+    text = os.environ.get(DRAW_DEADLINE_ENV, "")
+    try:
+        value = float(text)
+    except ValueError:
+        return DRAW_DEADLINE_S
+    return min(max(value, 1.0), 3600.0) if math.isfinite(value) else DRAW_DEADLINE_S
+
+
 def _page_config_hook(boards: Sequence[Dashboard]) -> Callable[..., dict]:
     """A Voila page-config hook adding what the template shows (cautions, dashboard list)."""
     listing = [
@@ -327,6 +347,7 @@ def _page_config_hook(boards: Sequence[Dashboard]) -> Callable[..., dict]:
             "caution": CAUTION_TEXT,
             "version": __version__,
             "dashboards": listing,
+            "drawDeadlineS": draw_deadline_s(),
         }
         return page_config
 
@@ -638,6 +659,9 @@ def _voila_config(options: ServeOptions, boards: Sequence[Dashboard], token: str
     # sent pages without their dashboard that stayed blank for ever (measured:
     # tests/benchmarks/bench_crowd.py). The outputs do come; wait for them.
     config.VoilaExecutor.iopub_timeout = IOPUB_WAIT_S
+    # likewise the kernel's own start (60 s by default): twenty kernels starting together
+    # on two cores beside their browsers can take longer than that
+    config.VoilaExecutor.startup_timeout = IOPUB_WAIT_S
     config.VoilaConfiguration.preheat_kernel = options.warm > 0
     config.VoilaConfiguration.default_pool_size = max(1, options.warm)
     config.VoilaKernelManager.fill_delay = WARM_REFILL_DELAY_S

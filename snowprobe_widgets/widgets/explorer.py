@@ -19,6 +19,7 @@ Heavy sliders send their value when released, so the last position always wins.
 from __future__ import annotations
 
 import html
+import logging
 import math
 import pathlib
 from collections.abc import Callable
@@ -488,7 +489,10 @@ class ScenarioExplorer(widgets.VBox):
             job()
         finally:
             self._precomputed = None
-            guarded(widgets.HTML(), self._restore_controls)
+            try:
+                self._restore_controls()
+            except Exception:  # in a worker thread: to the log, the page keeps its message
+                logging.getLogger("snowprobe_widgets").exception("restoring controls failed")
 
     def _refuse_while_busy(self) -> None:
         if self.update_work.running:

@@ -125,17 +125,20 @@ class Launcher:
         Extra arguments after ``serve`` (a dashboard name, ``--idle-minutes``, ...).
     workdir : pathlib.Path
         Working directory of the server (and so of its kernels).
+    env : dict of str to str
+        Extra environment variables of the server.
     """
 
     args: Sequence[str]
     workdir: Path
     port: int = field(default_factory=free_port)
+    env: dict[str, str] = field(default_factory=dict)
     output: list[str] = field(default_factory=list)
 
     def __post_init__(self) -> None:
         command = [*launcher_command(), "serve", *self.args, "--port", str(self.port),
                    "--no-browser"]
-        env = dict(os.environ, PYTHONUNBUFFERED="1")
+        env = dict(os.environ, PYTHONUNBUFFERED="1", **self.env)
         self.process = subprocess.Popen(
             command, cwd=self.workdir, env=env, stdout=subprocess.PIPE,
             stderr=subprocess.STDOUT, text=True)

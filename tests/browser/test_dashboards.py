@@ -254,3 +254,48 @@ def test_a_waiting_page_counts_seconds_and_runs_no_animation(server, browser):
             "() => document.getAnimations().filter(a => a.playState === 'running').length") == 0
     finally:
         context.close()
+
+
+#: In the page before its own scripts: kernel messages never reach the page (its socket
+#: opens, so it counts as connected), as when a crowded server never delivered them.
+_SILENT_KERNEL_JS = """
+(() => {
+  const Native = window.WebSocket;
+  function Silent(url, protocols) {
+    const socket = protocols === undefined ? new Native(url) : new Native(url, protocols);
+    if (/\\/api\\/kernels\\/[^/]+\\/channels/.test(String(url))) {
+      socket.addEventListener("message", (e) => e.stopImmediatePropagation());
+    }
+    return socket;
+  }
+  Silent.prototype = Native.prototype;
+  for (const k of ["CONNECTING", "OPEN", "CLOSING", "CLOSED"]) {
+    Object.defineProperty(Silent, k, {value: Native[k]});
+  }
+  window.WebSocket = Silent;
+})();
+"""
+
+
+def test_a_connected_page_that_never_draws_says_so_and_reloads(tmp_path, browser):
+    from harness import dashboard_url
+
+    from snowprobe_widgets.launcher import DRAW_DEADLINE_ENV
+
+    launcher = Launcher(args=[], workdir=tmp_path, env={DRAW_DEADLINE_ENV: "4"})
+    context = browser.new_context(viewport={"width": 1500, "height": 1100})
+    try:
+        launcher.wait_ready()
+        context.add_init_script(_SILENT_KERNEL_JS)
+        page = context.new_page()
+        page.goto(dashboard_url(launcher.base_url, "materials"), wait_until="commit")
+        said = page.wait_for_function(
+            "() => { const n = document.querySelector('#sp-notice .sp-notice-text');"
+            " return n && n.textContent.includes('has not drawn') && n.textContent; }",
+            timeout=180_000, polling=100).json_value()
+        assert "has not drawn its dashboard within 4 s" in said
+        assert "Loading it again by itself (attempt 2 of 4)" in said
+        assert page.locator("body").get_attribute("data-sp-kernel") == "connected"
+    finally:
+        context.close()
+        launcher.stop()

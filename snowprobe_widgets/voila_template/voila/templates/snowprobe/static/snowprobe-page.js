@@ -178,7 +178,7 @@
   // the kernel's output while many sessions started at once) or whose widgets never draw
   // would stay blank for ever; instead it says so and loads again by itself (the
   // launcher frees the old session of this browser), a few times at most.
-  var DRAW_DEADLINE_MS = 120000;
+  var DRAW_DEADLINE_MS = 120000; // the server's drawDeadlineS replaces it (watchFirstDraw)
   var EMPTY_PAGE_MS = 3000;
   var MAX_RETRIES = 3;
   var RETRY_KEY = "snowprobe-retries:" + window.location.pathname;
@@ -237,6 +237,15 @@
 
   function watchFirstDraw() {
     var started = Date.now();
+    try {
+      var config = JSON.parse(document.getElementById("jupyter-config-data").textContent);
+      var deadline = Number((config.snowprobe || {}).drawDeadlineS);
+      if (deadline > 0) {
+        DRAW_DEADLINE_MS = 1000 * deadline;
+      }
+    } catch (err) {
+      // no configuration: keep the built-in deadline
+    }
     var timer = window.setInterval(function () {
       if (stopped) {
         window.clearInterval(timer);
