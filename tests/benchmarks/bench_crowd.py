@@ -173,7 +173,9 @@ def _wait_warm(server: Launcher, count: int) -> float:
         if len(kernels) >= count and spent >= WARM_KERNEL_CPU_S and busy <= 5.0 * len(kernels):
             return time.perf_counter() - start
         if time.perf_counter() - start > 2 * DEADLINE_S:
-            raise RuntimeError(f"{count} warm sessions not ready after {2 * DEADLINE_S:.0f} s")
+            raise RuntimeError(f"{count} warm sessions not ready after {2 * DEADLINE_S:.0f} s: "
+                               f"{len(kernels)} kernels, least CPU spent {spent:.1f} s "
+                               f"(ready at {WARM_KERNEL_CPU_S:g}), busy {busy:.0f} %")
 
 
 def _run(count: int, warm: bool) -> tuple[list, dict]:
