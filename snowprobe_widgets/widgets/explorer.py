@@ -11,13 +11,19 @@ change:
   simulation to rounding (tests/widgets/test_explorer.py checks it);
 * a processing change re-runs the chain on the cached raw section, never the simulation;
 * colour changes stay inside the radargram view (no reprocessing);
-* the link budget and the materials lab recompute only when their tab is shown.
+* the link budget and the materials lab recompute only when their tab is shown;
+* the picture goes first: a move sends the new radargram before any other view changes.
+  On a served page (:attr:`ScenarioExplorer.views_follow_s`) the other views (scene,
+  trace, spectrum, detections, verdict cards, status) follow from the kernel's event loop
+  once the picture's message has left, one update for a burst of moves; anything that
+  reads them (``budgets``, ``design``, exports) brings them up to date first.
 
 Heavy sliders send their value when released, so the last position always wins.
 """
 
 from __future__ import annotations
 
+import asyncio
 import html
 import logging
 import math
@@ -89,6 +95,11 @@ UNDO_DEPTH = 50
 #: An update of more work than this (samples x traces x clutter scatterers, about 1 ns
 #: each: some 2 s) runs beside the page on a served dashboard, with progress and a stop.
 LONG_UPDATE_WORK: float = 2e9
+
+#: On a served page the views other than the picture follow a move this many seconds
+#: later (timer restarted by every move), so the picture's message leaves the kernel and
+#: is drawn first (measured in tests/benchmarks/bench_dashboard.py).
+VIEWS_FOLLOW_S: float = 0.03
 
 #: A processing chain with an enabled migration runs beside the page (progress, stop) on
 #: a served dashboard from this many samples x traces on (a chosen size, not measured).
@@ -223,6 +234,11 @@ class ScenarioExplorer(widgets.VBox):
         #: a big survey or a long migration: progress bar and stop button (hidden idle)
         self.update_work = LongWork("stop this update")
         self._precomputed: tuple[Radargram, ProcessingChain, Radargram] | None = None
+        #: seconds after a move's picture that the other views follow (None: at once);
+        #: on by default when served, and only where an event loop runs
+        self.views_follow_s: float | None = VIEWS_FOLLOW_S if served() else None
+        self._pending: list[Callable[[], None]] = []
+        self._pending_timer: asyncio.TimerHandle | None = None
 
         # controls
         self.person = PersonPanel()
@@ -408,6 +424,7 @@ class ScenarioExplorer(widgets.VBox):
     def budgets(self) -> tuple[Any, ...]:
         """The link budget of each buried person on screen, in order (None where refused),
         at the detection level set on screen."""
+        self.flush_views()
         return tuple(self._current_budgets)
 
     @property
@@ -581,24 +598,79 @@ class ScenarioExplorer(widgets.VBox):
                 self._check2d_at is not None and old != scenario):
             self.trace_view.clear_reference()
             self._check2d_at = None
-        self.section.update(scenario)
         if pick_m is not None:
             self.radargram_view.picked_position_m = None
         self.processing.follow_antenna_height(scenario.radar.antenna_height_m)
         if old is None or old.radar != scenario.radar or old.survey != scenario.survey:
             self.processing.follow(scenario)
-        self._process(pick_m)
         self._stale = {"budget": True, "materials": True, "compare": True}
-        self._update_verdicts()
-        self._sync_demo()
-        self._refresh_lazy()
         self.updates += 1
+        self._process(pick_m)  # the picture first
+        self._after_picture(self._update_scene, self._update_verdicts, self._sync_demo,
+                            self._refresh_lazy, self._update_status)
+
+    def _update_scene(self) -> None:
+        self.section.update(self.scenario)
+
+    def _update_status(self) -> None:
         runs = self.simulation.runs
         self.status.value = (f"<small>updates={self.updates} | simulated: column "
                              f"{runs['column']}x, objects {runs['objects']}x, noise "
                              f"{runs['noise']}x</small>")
         self.validity.value = "".join(f"<small>&#9888; {html.escape(w)}</small><br>"
-                                      for w in scenario_warnings(scenario))
+                                      for w in scenario_warnings(self.scenario))
+
+    def _after_picture(self, *jobs: Callable[[], None]) -> None:
+        """Run ``jobs`` (view updates) now, or :attr:`views_follow_s` after the last
+        picture when an event loop runs (each job once, in the order first asked)."""
+        for job in jobs:
+            if job not in self._pending:
+                self._pending.append(job)
+        loop = None
+        if self.views_follow_s is not None:
+            try:
+                loop = asyncio.get_running_loop()
+            except RuntimeError:  # a script, or a long update's worker thread
+                loop = None
+        if loop is None:
+            self._cancel_timer()
+            self._run_pending()
+            return
+        self._cancel_timer()
+        self._pending_timer = loop.call_later(self.views_follow_s, self._views_follow)
+
+    def _cancel_timer(self) -> None:
+        if self._pending_timer is not None:
+            self._pending_timer.cancel()
+            self._pending_timer = None
+
+    def _run_pending(self) -> None:
+        while self._pending:
+            self._pending.pop(0)()
+
+    def _views_follow(self) -> None:
+        """The timer's call: the views follow the picture; a fault shows a message."""
+        self._pending_timer = None
+        failed: list[Exception] = []
+
+        def run() -> None:
+            while self._pending:
+                try:
+                    self._pending.pop(0)()
+                except Exception as exc:  # the other views still follow
+                    failed.append(exc)
+
+        def report() -> None:
+            raise failed[0]
+
+        run()
+        if failed:  # a plain message, as for any callback (a success clears nothing)
+            guarded(self.message, report, self._restore_controls)
+
+    def flush_views(self) -> None:
+        """Bring the views that follow the picture up to date now (see the module notes)."""
+        self._cancel_timer()
+        self._run_pending()
 
     def _update_verdicts(self) -> None:
         """One verdict card per buried person, from the model's budgets (cached per person
@@ -624,6 +696,7 @@ class ScenarioExplorer(widgets.VBox):
 
     def design(self) -> Design:
         """The design on screen: scenario, section on screen and budgets."""
+        self.flush_views()
         return Design(self.scenario, self._shown, tuple(self._current_budgets),
                       tuple(self._problems))
 
@@ -723,7 +796,7 @@ class ScenarioExplorer(widgets.VBox):
         self._chain = chain[0]
         self._processed = done[0]
         self._show_section(pick_m)
-        self._update_detections()
+        self._after_picture(self._update_detections)
 
     def _show_section(self, pick_m: float | None = None) -> None:
         processed = getattr(self, "_processed", None)
@@ -740,7 +813,7 @@ class ScenarioExplorer(widgets.VBox):
                                 column_optics(self.scenario).mean_velocity_m_s)
         if pick_m is not None or view.picked_position_m is None:
             view.pick_position(pick_m if pick_m is not None else float(rg.position_m[0]))
-        self._update_trace()
+        self._after_picture(self._update_trace)
 
     def _column_echoes(self) -> list[tuple[str, float]]:
         """Labelled interface echo times of the layered column (cached per column)."""
@@ -780,7 +853,7 @@ class ScenarioExplorer(widgets.VBox):
 
     def _on_pick(self, change: Any) -> None:
         if change["new"] is not None:
-            self._update_trace()
+            self._after_picture(self._update_trace)
             if self._check2d_at is not None and \
                     self.radargram_view.picked_position_m != self._check2d_at:
                 self.trace_view.clear_reference()  # the 2-D check holds for one position
@@ -926,6 +999,7 @@ class ScenarioExplorer(widgets.VBox):
 
     def export_bytes(self, kind: str) -> bytes:
         """The bytes of one export of what is on screen (layouts in ``widgets.exports``)."""
+        self.flush_views()
         rg, raw = self._shown, self._raw
         if rg is None or raw is None:
             raise ValueError("nothing to export yet")
@@ -953,6 +1027,7 @@ class ScenarioExplorer(widgets.VBox):
     def report(self) -> str:
         """The one-page HTML design summary of what is on screen (full tables after a page
         break; :func:`snowprobe_widgets.widgets.exports.report_html`)."""
+        self.flush_views()
         s, rg, view = self.scenario, self._shown, self.radargram_view
         if rg is None:
             raise ValueError("nothing to report yet")

@@ -348,8 +348,8 @@ class RadargramView(widgets.VBox):
         with self._t_scale.hold_sync():
             self._t_scale.min, self._t_scale.max = t_lo, t_hi
         self._update_depth_scale()
+        self._draw_picture(extent=((x_lo, x_hi), (t_hi, t_lo)))  # the picture's message first
         self._update_truth(rg)
-        self._draw_picture(extent=((x_lo, x_hi), (t_hi, t_lo)))
         if self.picked_position_m is not None:
             self.pick_position(self.picked_position_m)
 

@@ -4,6 +4,8 @@ Run by hand (not collected by pytest)::
 
     python tests/benchmarks/bench_dashboard.py [--moves 30] [--renders 3]
 
+``--renders 0`` measures the moves only (no first renders, no ``--warm`` server).
+
 Starts the real ``snowprobe`` launcher on a free loopback port and Debian's headless Chromium.
 
 * Slider to picture: a key press on the person-depth slider (dispatched inside the page, so
@@ -183,13 +185,15 @@ def main() -> int:
             context.close()
         finally:
             cold.stop()
-        warm = Launcher(args=["--warm"], workdir=workdir)
-        try:
-            warm.wait_ready()
-            wait_pool_ready(warm, kernels=2)
-            warm_render = first_renders(browser, warm, 1)[0]
-        finally:
-            warm.stop()
+        warm_render = float("nan")
+        if args.renders > 0:
+            warm = Launcher(args=["--warm"], workdir=workdir)
+            try:
+                warm.wait_ready()
+                wait_pool_ready(warm, kernels=2)
+                warm_render = first_renders(browser, warm, 1)[0]
+            finally:
+                warm.stop()
         browser.close()
 
     med, p95 = statistics.median(latencies), percentile(latencies, 95)
@@ -204,9 +208,10 @@ def main() -> int:
     print(f"  baseline, same move in Python (no browser): median {base_med:.1f} ms; "
           f"browser/baseline ratio {med / base_med:.1f}x")
     print(f"  server ready (start page answers) after {ready_s:.1f} s")
-    print(f"  first render, fresh kernel: {', '.join(f'{s:.2f}' for s in renders)} s "
-          f"(median {statistics.median(renders):.2f} s; goal < 5 s)")
-    print(f"  first render with --warm (session ready in advance): {warm_render:.2f} s")
+    if renders:
+        print(f"  first render, fresh kernel: {', '.join(f'{s:.2f}' for s in renders)} s "
+              f"(median {statistics.median(renders):.2f} s; goal < 5 s)")
+        print(f"  first render with --warm (session ready in advance): {warm_render:.2f} s")
     print(f"  design kernel resident memory after the moves: {kernel_mb:.0f} MB (goal < 300); "
           f"server {server_mb:.0f} MB")
     print(f"  console errors during the run: {len(errors)}")
