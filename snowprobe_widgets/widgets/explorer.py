@@ -40,6 +40,7 @@ from snowprobe_widgets.detection import DEFAULT_THRESHOLD_DB
 from snowprobe_widgets.fdtd import fdtd_trace, frozen_at
 from snowprobe_widgets.fdtd2d import scenario_check
 from snowprobe_widgets.fields import screen_message
+from snowprobe_widgets.heap import keep_freed_memory
 from snowprobe_widgets.processing import ProcessingChain
 from snowprobe_widgets.radargram import Radargram
 from snowprobe_widgets.scene import Scenario
@@ -100,6 +101,11 @@ LONG_UPDATE_WORK: float = 2e9
 #: later (timer restarted by every move), so the picture's message leaves the kernel and
 #: is drawn first (measured in tests/benchmarks/bench_dashboard.py).
 VIEWS_FOLLOW_S: float = 0.03
+
+#: A served kernel keeps freed memory for the next move (:mod:`snowprobe_widgets.heap`):
+#: arrays below the first size come from the heap, and up to the second of freed heap
+#: stays with the kernel (a person move of the default design peaks near 20 MB).
+HEAP_MMAP_THRESHOLD_BYTES, HEAP_TRIM_THRESHOLD_BYTES = 16 * 2**20, 64 * 2**20
 
 #: A processing chain with an enabled migration runs beside the page (progress, stop) on
 #: a served dashboard from this many samples x traces on (a chosen size, not measured).
@@ -237,6 +243,8 @@ class ScenarioExplorer(widgets.VBox):
         #: seconds after a move's picture that the other views follow (None: at once);
         #: on by default when served, and only where an event loop runs
         self.views_follow_s: float | None = VIEWS_FOLLOW_S if served() else None
+        if served():
+            keep_freed_memory(HEAP_MMAP_THRESHOLD_BYTES, HEAP_TRIM_THRESHOLD_BYTES)
         self._pending: list[Callable[[], None]] = []
         self._pending_timer: asyncio.TimerHandle | None = None
 

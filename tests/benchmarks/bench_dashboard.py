@@ -15,7 +15,8 @@ Starts the real ``snowprobe`` launcher on a free loopback port and Debian's head
   ``ScenarioExplorer`` in this process (model + PNG, no browser, no kernel messages).
 * First render: navigation start until the page shows the outputs with a drawn radargram;
   each visit starts a fresh kernel. Also with ``--warm`` (a session made ready in advance).
-* Split of a move: when the picture's websocket message (the move's largest) arrives,
+* Split of a move (medians): when the key's message leaves the page, when the kernel made
+  the picture's message (the move's largest; its header's date), when that message arrives,
   when the picture is set in the page, and the two frames until it is painted.
 * Memory: resident set of the design kernel after the moves, and of the server.
 * Load: the machine's load average before and after (timings are upper bounds under load).
@@ -47,21 +48,40 @@ from harness import (  # noqa: E402
     wait_until,
 )
 
-#: Page script recording the arrival time and size of every websocket message, so that a
-#: move's time splits into the kernel's part (until the picture's message arrives, the
-#: largest of the move) and the browser's (from there to the painted picture).
+#: Page script recording every websocket message: arrival time and size of each message in,
+#: the time each message out leaves, and for large messages (the picture) the time the
+#: kernel made it (its header's date: kernel and browser share this machine's clock). So
+#: a move splits into: key to message out, on to the kernel's picture, on to its arrival,
+#: on to the picture set in the page, on to the paint.
 WS_SPY_JS = """(() => {
   const Orig = window.WebSocket;
+  const decoder = new TextDecoder();
   window.__spArrivals = [];
+  window.__spSent = [];
+  const clock = () => performance.now();
+  const madeAt = (d) => {  // the kernel's date of a message, on the page's clock
+    try {
+      let header;
+      if (typeof d === 'string') {
+        header = JSON.parse(d).header;
+      } else {  // the binary websocket protocol: offsets, then channel, header, ...
+        const view = new DataView(d);
+        const a = Number(view.getBigUint64(16, true)), b = Number(view.getBigUint64(24, true));
+        header = JSON.parse(decoder.decode(new Uint8Array(d, a, b - a)));
+      }
+      return Date.parse(header.date) - performance.timeOrigin;
+    } catch (e) { return NaN; }
+  };
   window.WebSocket = class extends Orig {
     constructor(...args) {
       super(...args);
       this.addEventListener('message', e => {
-        const d = e.data;
+        const d = e.data, t = clock();
         const n = typeof d === 'string' ? d.length : (d.byteLength || d.size || 0);
-        window.__spArrivals.push([performance.now(), n]);
+        window.__spArrivals.push([t, n, n > 8000 ? madeAt(d) : NaN]);
       });
     }
+    send(d) { window.__spSent.push(clock()); return super.send(d); }
   };
 })();"""
 
@@ -85,7 +105,7 @@ MOVES_JS = """async (moves) => {
                                 characterData: true});
       check();
     });
-    const seen = (window.__spArrivals || []).length;
+    const seen = (window.__spArrivals || []).length, sent = (window.__spSent || []).length;
     const t0 = performance.now();
     handle.dispatchEvent(new KeyboardEvent('keydown', {
       key: i % 2 === 0 ? 'ArrowRight' : 'ArrowLeft', bubbles: true}));
@@ -94,8 +114,9 @@ MOVES_JS = """async (moves) => {
     await frame(); await frame();
     const total = performance.now() - t0;
     const msgs = (window.__spArrivals || []).slice(seen).filter(([t]) => t - t0 <= tSet);
-    const picture = msgs.length ? msgs.reduce((a, b) => (b[1] > a[1] ? b : a))[0] - t0 : NaN;
-    out.push([total, picture, tSet]);
+    const big = msgs.length ? msgs.reduce((a, b) => (b[1] > a[1] ? b : a)) : [NaN, 0, NaN];
+    const out0 = (window.__spSent || [])[sent];
+    out.push([total, big[0] - t0, tSet, (out0 === undefined ? NaN : out0 - t0), big[2] - t0]);
   }
   return out;
 }"""
@@ -202,9 +223,10 @@ def main() -> int:
           f"{load_before:.1f} before, {os.getloadavg()[0]:.1f} after ({os.cpu_count()} cores)")
     print(f"  slider to painted picture: median {med:.0f} ms, p95 {p95:.0f} ms, "
           f"max {max(latencies):.0f} ms   (goal: median < 100, p95 < 200)")
-    print(f"  of which: picture message arrives {statistics.median(m[1] for m in moves):.0f} "
-          f"ms after the key (kernel and network), picture set "
-          f"{statistics.median(m[2] for m in moves):.0f} ms, then two frames to paint")
+    split = [statistics.median(m[j] for m in moves) for j in (3, 4, 1, 2, 0)]
+    print("  split (medians, ms after the key): message to the kernel leaves {:.1f}, picture "
+          "made in the kernel {:.1f}, its message arrives {:.1f}, picture set {:.1f}, painted "
+          "(two frames) {:.1f}".format(*split))
     print(f"  baseline, same move in Python (no browser): median {base_med:.1f} ms; "
           f"browser/baseline ratio {med / base_med:.1f}x")
     print(f"  server ready (start page answers) after {ready_s:.1f} s")
