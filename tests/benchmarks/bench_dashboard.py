@@ -9,7 +9,8 @@ Run by hand (not collected by pytest)::
 Starts the real ``snowprobe`` launcher on a free loopback port and Debian's headless Chromium.
 
 * Slider to picture: a key press on the person-depth slider (dispatched inside the page, so
-  no automation round trip is counted) until the radargram's status says ``draws=N+1``, the
+  no automation round trip is counted; the depth walks 12 steps deeper and back, so each
+  move but the turns shows a new picture) until the radargram's status says ``draws=N+1``, the
   picture's image has been replaced, and two animation frames have passed (the new picture is
   painted). One move at a time. Baseline, same run: the same move made in Python on a
   ``ScenarioExplorer`` in this process (model + PNG, no browser, no kernel messages).
@@ -85,7 +86,12 @@ WS_SPY_JS = """(() => {
   };
 })();"""
 
+#: Steps the depth walks one way before it turns (12 x 5 cm from the default 0.6 m stays
+#: within the snowpack for every version of the dashboard).
+WALK = 12
+
 MOVES_JS = """async (moves) => {
+  const WALK = """ + str(WALK) + """;
   const status = document.querySelector('.sp-radargram-status');
   const figure = status.closest('.widget-vbox');
   const handle = document.querySelector('.sp-person-depth .noUi-handle');
@@ -106,9 +112,14 @@ MOVES_JS = """async (moves) => {
       check();
     });
     const seen = (window.__spArrivals || []).length, sent = (window.__spSent || []).length;
+    // WALK steps deeper, then WALK back, and again: every move but the turns shows a new
+    // depth (going back and forth would show the picture of two moves ago again, which
+    // the view's second image widget still holds, so the kernel would not send it)
+    const k = window.__spSteps = (window.__spSteps || 0) + 1;
+    const deeper = Math.floor((k - 1) / WALK) % 2 === 0;
     const t0 = performance.now();
     handle.dispatchEvent(new KeyboardEvent('keydown', {
-      key: i % 2 === 0 ? 'ArrowRight' : 'ArrowLeft', bubbles: true}));
+      key: deeper ? 'ArrowRight' : 'ArrowLeft', bubbles: true}));
     await done;
     const tSet = performance.now() - t0;
     await frame(); await frame();
