@@ -4,9 +4,9 @@ from __future__ import annotations
 
 import dataclasses
 import io
-from typing import Any
 import threading
 import time
+from typing import Any
 
 import numpy as np
 import pytest
