@@ -639,13 +639,12 @@ class ScenarioExplorer(widgets.VBox):
             try:
                 loop = asyncio.get_running_loop()
             except RuntimeError:  # a script, or a long update's worker thread
-                loop = None
+                pass
+        self._cancel_timer()  # every move restarts the wait
         if loop is None:
-            self._cancel_timer()
             self._run_pending()
-            return
-        self._cancel_timer()
-        self._pending_timer = loop.call_later(self.views_follow_s, self._views_follow)
+        else:
+            self._pending_timer = loop.call_later(self.views_follow_s, self._views_follow)
 
     def _cancel_timer(self) -> None:
         if self._pending_timer is not None:
@@ -653,25 +652,24 @@ class ScenarioExplorer(widgets.VBox):
             self._pending_timer = None
 
     def _run_pending(self) -> None:
-        while self._pending:
-            self._pending.pop(0)()
+        jobs, self._pending = self._pending, []
+        for job in jobs:
+            job()
 
     def _views_follow(self) -> None:
         """The timer's call: the views follow the picture; a fault shows a message."""
         self._pending_timer = None
+        jobs, self._pending = self._pending, []
         failed: list[Exception] = []
-
-        def run() -> None:
-            while self._pending:
-                try:
-                    self._pending.pop(0)()
-                except Exception as exc:  # the other views still follow
-                    failed.append(exc)
+        for job in jobs:
+            try:
+                job()
+            except Exception as exc:  # the other views still follow
+                failed.append(exc)
 
         def report() -> None:
             raise failed[0]
 
-        run()
         if failed:  # a plain message, as for any callback (a success clears nothing)
             guarded(self.message, report, self._restore_controls)
 
