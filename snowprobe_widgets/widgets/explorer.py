@@ -98,9 +98,12 @@ UNDO_DEPTH = 50
 LONG_UPDATE_WORK: float = 2e9
 
 #: On a served page the views other than the picture follow a move this many seconds
-#: later (timer restarted by every move), so the picture's message leaves the kernel and
-#: is drawn first (measured in tests/benchmarks/bench_dashboard.py).
-VIEWS_FOLLOW_S: float = 0.03
+#: later (timer restarted by every move): the picture's message leaves the kernel and is
+#: drawn first, and moves that come faster than this (a key held or tapped quickly) are
+#: not slowed by views the next move replaces. With 30 ms, moves made on each paint
+#: waited for the last move's views (~10 ms of CPU) and were no faster than before
+#: (tests/benchmarks/bench_dashboard.py).
+VIEWS_FOLLOW_S: float = 0.15
 
 #: A served kernel keeps freed memory for the next move (:mod:`snowprobe_widgets.heap`):
 #: arrays below the first size come from the heap, and up to the second of freed heap
