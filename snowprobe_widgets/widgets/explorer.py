@@ -223,6 +223,11 @@ class ScenarioExplorer(widgets.VBox):
     ``person``, ``snowpack``, ``debris``, ``radar`` (control panels), ``processing``,
     ``section``, ``radargram_view``, ``trace_view``, ``spectrum_view``, ``budget_view``,
     ``materials``.
+
+    A move draws the picture first. With :attr:`views_follow_s` set (served pages: 0.15 s)
+    and an event loop running, the other views follow that long after the last move;
+    :meth:`flush_views` brings them up to date at once (``budgets``, :meth:`design`, the
+    exports and the report call it).
     """
 
     def __init__(self, scenario: Scenario | None = None, **kwargs: Any) -> None:

@@ -698,4 +698,19 @@ def test_served_views_follow_the_picture_once_per_burst_of_moves() -> None:
         await asyncio.sleep(0.2)
         assert len(calls) == 2  # the flushed update does not run again
 
-    asyncio.run(moves())
+    # in a thread of its own: Playwright's sync API (browser tests in the same session)
+    # keeps an event loop running in the main thread
+    failures: list[BaseException] = []
+
+    def run() -> None:
+        try:
+            asyncio.run(moves())
+        except BaseException as exc:  # an assertion inside, reported below
+            failures.append(exc)
+
+    worker = threading.Thread(target=run)
+    worker.start()
+    worker.join(60)
+    assert not worker.is_alive()
+    if failures:
+        raise failures[0]
