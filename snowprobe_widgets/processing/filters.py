@@ -7,7 +7,7 @@ from __future__ import annotations
 import functools
 
 import numpy as np
-from scipy import ndimage, signal
+from scipy import ndimage
 
 from ..fields import Field, declare
 from ..radargram import Radargram
@@ -24,6 +24,7 @@ from ._common import (
     step_group,
     window_samples,
 )
+from .dsp import analytic_signal, butter_bandpass_sos, sos_filtfilt
 
 __all__ = ["time_zero", "dewow", "background_removal", "bandpass", "envelope",
            "pick_first_arrival_s"]
@@ -74,7 +75,7 @@ declare(
 
 
 def _envelope(data: np.ndarray) -> np.ndarray:
-    return np.abs(signal.hilbert(data, axis=0))
+    return np.abs(analytic_signal(data, axis=0))
 
 
 def pick_first_arrival_s(rg: Radargram, threshold: float = 0.5,
@@ -229,8 +230,8 @@ def background_removal(rg: Radargram, method: str = "mean",
 def _butter_bandpass(order: int, low_hz: float, high_hz: float, fs_hz: float) -> np.ndarray:
     """Second-order sections of a Butterworth band-pass (designed once per setting: a
     sweep filters thousands of sections alike)."""
-    sos = signal.butter(order, [low_hz, high_hz], btype="bandpass", fs=fs_hz, output="sos")
-    sos.setflags(write=False)  # callers filter with a copy (scipy wants a writable one)
+    sos = butter_bandpass_sos(order, low_hz, high_hz, fs_hz)
+    sos.setflags(write=False)
     return sos
 
 
@@ -252,10 +253,7 @@ def bandpass(rg: Radargram, low_hz: float, high_hz: float, order: int = 4) -> Ra
     lo = check_param("bandpass", "low_hz", low_hz, rg)
     hi = check_param("bandpass", "high_hz", high_hz, rg, low=lo)
     n = check_param("bandpass", "order", order)
-    sos = _butter_bandpass(n, lo, hi, 1.0 / dt).copy()
-    nt = rg.time_s.size
-    padlen = min(3 * (2 * len(sos) + 1), nt - 1)
-    out = signal.sosfiltfilt(sos, rg.data.T, axis=-1, padlen=padlen).T
+    out = sos_filtfilt(_butter_bandpass(n, lo, hi, 1.0 / dt), rg.data)
     return rg.with_data(out, record("bandpass", low_hz=lo, high_hz=hi, order=n))
 
 
