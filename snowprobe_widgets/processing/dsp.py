@@ -47,9 +47,11 @@ from scipy import fft as sfft
 
 __all__ = ["butter_bandpass_sos", "sos_filtfilt", "analytic_signal"]
 
-#: Samples filtered per step of the block recursion (about the fastest on 2 cores for
-#: 200 to 1000 traces, measured; any size gives the same result to rounding).
-_BLOCK = 32
+#: Samples filtered per step of the block recursion (any size gives the same result to
+#: rounding). 16 was the fastest measured for 200 to 1,000 traces; from 32 on, OpenBLAS
+#: splits the products over threads, which on a loaded 2-core machine made a 1,000 x
+#: 2,048 section 15 times slower (bench_processing.py).
+_BLOCK = 16
 #: How many filters' block matrices are kept for the next call (about 10 kB each).
 _CACHED_FILTERS = 16
 
