@@ -227,6 +227,15 @@ class Radar:
 
         accepted = pulses.pulse_parameters(self.pulse)
         unknown = [k for k, _ in self.pulse_parameters if k not in accepted]
+        for key, value in self.pulse_parameters:
+            want = _parameter_type(accepted.get(key))
+            if not unknown and want is not None and not isinstance(value, want[0]):
+                raise FieldError(
+                    f"pulse_parameters: {key} = {value!r} must be {want[1]} (its default is "
+                    f"{accepted[key]!r})", field=declaration("radar", "pulse_parameters"),
+                    value=self.pulse_parameters,
+                    screen=f"Pulse parameters: {key} takes {want[1]} (default "
+                           f"{accepted[key]!r}), not {value!r}.")
         if not unknown:
             if self.pulse_parameters:  # the values, as the pulse itself checks them
                 try:
@@ -292,6 +301,20 @@ class Radar:
 
         return pulses.make_pulse(self.pulse, self.center_frequency_hz, self.bandwidth_hz,
                                  **dict(self.pulse_parameters))
+
+
+def _parameter_type(default: Any) -> tuple[tuple[type, ...], str] | None:
+    """The type a pulse parameter's value must have, from its default (a value of a
+    parameter whose default is None is not constrained)."""
+    if isinstance(default, bool):
+        return (bool,), "true or false"
+    if isinstance(default, int):
+        return (int,), "a whole number"
+    if isinstance(default, float):
+        return (int, float), "a number"
+    if isinstance(default, str):
+        return (str,), "a word"
+    return None
 
 
 def _band_high_hz(pulse: Any) -> float:

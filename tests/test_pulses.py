@@ -217,3 +217,15 @@ def test_screen_form_of_pulse_parameters_reads_back() -> None:
     assert parse_parameters("") == ()
     with pytest.raises(FieldError, match="not name = value"):
         parse_parameters("n_steps 512")
+
+
+def test_a_pulse_parameter_must_have_its_defaults_type() -> None:
+    from snowprobe_widgets.fields import FieldError
+    from snowprobe_widgets.scene import Radar
+
+    for bad, words in (({"n_steps": "abc"}, "n_steps takes a whole number (default 256)"),
+                       ({"n_steps": 300.5}, "n_steps takes a whole number"),
+                       ({"window": 3}, "window takes a word (default 'hann')")):
+        with pytest.raises(FieldError) as err:
+            Radar(pulse="stepped_frequency", pulse_parameters=bad)
+        assert words in err.value.screen
