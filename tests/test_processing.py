@@ -812,3 +812,24 @@ def test_chain_passes_progress_into_a_migration_and_stops_inside_it(monkeypatch)
 
     with pytest.raises(_Stop):
         chain.apply(rg, stop_inside)
+
+
+def test_moving_median_background_in_bands_equals_one_go_and_stops_inside(monkeypatch):
+    from scipy import ndimage
+
+    from snowprobe_widgets.processing import filters
+
+    rg = _long_section(nx=150)
+    expected = rg.data - ndimage.median_filter(rg.data, size=(1, 21), mode="reflect")
+    monkeypatch.setattr(filters, "_MEDIAN_CHUNK_CELLS", 3_000)  # bands of 20 rows
+    seen: list[float] = []
+    out = P.background_removal(rg, "median", 21, progress=seen.append)
+    np.testing.assert_array_equal(out.data, expected)
+    assert len(seen) >= 20 and seen == sorted(seen) and seen[-1] == 1.0
+
+    def stop_at_second(fraction: float) -> None:
+        if fraction > seen[0]:
+            raise _Stop
+
+    with pytest.raises(_Stop):
+        P.background_removal(rg, "median", 21, progress=stop_at_second)
