@@ -47,5 +47,18 @@ def keep_freed_memory(mmap_threshold_bytes: int, trim_threshold_bytes: int) -> b
     return True
 
 
+def release_freed_memory() -> bool:
+    """Give the freed heap back to the system now (glibc's ``malloc_trim(0)``), for a
+    process that keeps freed memory while busy and should shrink when idle.
+
+    Returns False, doing nothing, where the C library is not glibc.
+    """
+    libc = glibc()
+    if libc is None:
+        return False
+    libc.malloc_trim(0)
+    return True
+
+
 __all__ = ["DEFAULT_MMAP_THRESHOLD_BYTES", "M_MMAP_THRESHOLD", "M_TRIM_THRESHOLD", "glibc",
-           "keep_freed_memory"]
+           "keep_freed_memory", "release_freed_memory"]

@@ -40,7 +40,7 @@ from snowprobe_widgets.detection import DEFAULT_THRESHOLD_DB
 from snowprobe_widgets.fdtd import fdtd_trace, frozen_at
 from snowprobe_widgets.fdtd2d import scenario_check
 from snowprobe_widgets.fields import screen_message
-from snowprobe_widgets.heap import keep_freed_memory
+from snowprobe_widgets.heap import keep_freed_memory, release_freed_memory
 from snowprobe_widgets.processing import ProcessingChain
 from snowprobe_widgets.radargram import Radargram
 from snowprobe_widgets.scene import Scenario
@@ -109,6 +109,11 @@ VIEWS_FOLLOW_S: float = 0.15
 #: arrays below the first size come from the heap, and up to the second of freed heap
 #: stays with the kernel (a person move of the default design peaks near 20 MB).
 HEAP_MMAP_THRESHOLD_BYTES, HEAP_TRIM_THRESHOLD_BYTES = 16 * 2**20, 64 * 2**20
+
+#: ... and gives it back after this many seconds without a move, so that an idle
+#: visitor's kernel shrinks to its live size (a class leaves most pages idle most of the
+#: time; the next move after it pays the page faults once).
+HEAP_IDLE_RELEASE_S: float = 10.0
 
 #: A processing chain with an enabled migration runs beside the page (progress, stop) on
 #: a served dashboard from this many samples x traces on (a chosen size, not measured).
@@ -255,6 +260,9 @@ class ScenarioExplorer(widgets.VBox):
             keep_freed_memory(HEAP_MMAP_THRESHOLD_BYTES, HEAP_TRIM_THRESHOLD_BYTES)
         self._pending: list[Callable[[], None]] = []
         self._pending_timer: asyncio.TimerHandle | None = None
+        #: seconds without a move after which a served kernel gives freed memory back
+        self.heap_idle_release_s: float | None = HEAP_IDLE_RELEASE_S if served() else None
+        self._release_timer: asyncio.TimerHandle | None = None
 
         # controls
         self.person = PersonPanel()
@@ -658,6 +666,25 @@ class ScenarioExplorer(widgets.VBox):
         if self._pending_timer is not None:
             self._pending_timer.cancel()
             self._pending_timer = None
+        if self._release_timer is not None:
+            self._release_timer.cancel()
+            self._release_timer = None
+
+    def _release_when_idle(self) -> None:
+        """After the views followed: give the freed heap back once no move came for
+        :attr:`heap_idle_release_s` (any move restarts the wait)."""
+        if self.heap_idle_release_s is None:
+            return
+        try:
+            loop = asyncio.get_running_loop()
+        except RuntimeError:
+            return
+
+        def release() -> None:
+            self._release_timer = None
+            release_freed_memory()
+
+        self._release_timer = loop.call_later(self.heap_idle_release_s, release)
 
     def _run_pending(self) -> None:
         jobs, self._pending = self._pending, []
@@ -680,6 +707,7 @@ class ScenarioExplorer(widgets.VBox):
 
         if failed:  # a plain message, as for any callback (a success clears nothing)
             guarded(self.message, report, self._restore_controls)
+        self._release_when_idle()
 
     def flush_views(self) -> None:
         """Bring the views that follow the picture up to date now (see the module notes)."""

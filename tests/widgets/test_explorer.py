@@ -714,3 +714,38 @@ def test_served_views_follow_the_picture_once_per_burst_of_moves() -> None:
     assert not worker.is_alive()
     if failures:
         raise failures[0]
+
+
+def test_a_served_kernel_gives_freed_memory_back_after_an_idle_wait(monkeypatch) -> None:
+    import asyncio
+
+    from snowprobe_widgets.widgets import explorer
+
+    released: list[float] = []
+    monkeypatch.setattr(explorer, "release_freed_memory", lambda: released.append(1) or True)
+    app = ScenarioExplorer()
+    app.views_follow_s, app.heap_idle_release_s = 0.02, 0.2
+
+    async def moves() -> None:
+        app.person.depth.value = 0.9
+        await asyncio.sleep(0.12)  # the views followed; the idle wait runs
+        app.person.depth.value = 1.0  # a move restarts it
+        await asyncio.sleep(0.12)
+        assert released == []
+        await asyncio.sleep(0.3)
+        assert released == [1]  # once, after the last move's idle wait
+
+    failures: list[BaseException] = []
+
+    def run() -> None:  # own thread: see the test above
+        try:
+            asyncio.run(moves())
+        except BaseException as exc:
+            failures.append(exc)
+
+    worker = threading.Thread(target=run)
+    worker.start()
+    worker.join(60)
+    assert not worker.is_alive()
+    if failures:
+        raise failures[0]
