@@ -117,6 +117,18 @@ def test_no_request_leaves_the_server(opened, server, name):
     assert record.foreign_requests(server.base_url) == []
 
 
+@pytest.mark.parametrize("name", DASHBOARDS)
+def test_no_mathjax_is_loaded(opened, name):
+    # the widget library hands every label to the page's LaTeX typesetter; the launcher's
+    # page configuration names the template's no-math.js for it, so MathJax (about 880 kB
+    # of script per visitor) is never loaded
+    page, record, _seconds = opened(name)
+    asked = [url.split("?")[0].rsplit("/", 1)[-1] for url in record.requests]
+    assert "no-math.js" in asked
+    assert page.evaluate("() => Object.keys(window.MathJax || {}).sort().join()") == \
+        "Ajax,Hub,InputJax"
+
+
 def _set_depth(page, value_m: float) -> None:
     """Type a depth into the person-depth slider's readout, as a person would."""
     readout = page.locator(".sp-person-depth .widget-readout")
