@@ -123,6 +123,14 @@ PAGE_POLICY: str = (
 #: 880 kB of script, started in every visitor's browser).
 NO_MATH_SCRIPT: str = f"voila/templates/{TEMPLATE_NAME}/static/no-math.js"
 
+#: Header of the waiting page's request for the dashboard itself. A browser's visit first
+#: gets a small complete page (template ``waiting.html``) that asks for the dashboard with
+#: this header and shows it when it has come: a document still loading kept each waiting
+#: headless browser busy (about 0.1 CPU-s per second of waiting, its loading indicator),
+#: which with a class arriving together was most of the machine. A request without the
+#: header starts no session.
+PAGE_HEADER: str = "X-Snowprobe-Page"
+
 _PACKAGE_DIR = Path(__file__).resolve().parent
 _TEMPLATE_ROOT = _PACKAGE_DIR / "voila_template"
 _LOOPBACK_NAMES = {"localhost", "localhost.localdomain", "ip6-localhost"}
@@ -795,6 +803,44 @@ def _safe_template_static_handler() -> type:
     return SafeTemplateStatic
 
 
+def _waiting_page_first(handler: type, boards: Sequence[Dashboard]) -> type:
+    """Voila's dashboard handler, answering a browser's visit with the waiting page first.
+
+    A request without :data:`PAGE_HEADER` gets ``waiting.html`` at once (no session
+    started); the page's own script then asks again with the header and gets the dashboard
+    from Voila, streamed while its session starts and runs the notebook, and shows it.
+    """
+    titles = {b.path.name: b.title for b in boards}
+
+    class WaitingPageFirst(handler):  # type: ignore[misc, valid-type]
+        async def get_generator(self, path: str | None = None) -> Any:
+            single = bool(getattr(self, "notebook_path", None))
+            if self.request.headers.get(PAGE_HEADER) == "1" or (single and path):
+                async for html in super().get_generator(path=path):
+                    yield html
+                return
+            self.set_header("Content-Type", "text/html")
+            self.set_header("Cache-Control", "no-cache, no-store, must-revalidate")
+            name = Path(self.notebook_path if single else (path or "")).name
+            yield self.render_template("waiting.html", title=titles.get(name, "snowprobe"),
+                                       page_header=PAGE_HEADER,
+                                       page_config={"snowprobe": {"caution": CAUTION_TEXT}})
+
+    return WaitingPageFirst
+
+
+def _replace_targets(router: Any, old: type, new: type) -> int:
+    """Route ``router``'s rules (and its nested routers') from handler ``old`` to ``new``."""
+    replaced = 0
+    for rule in getattr(router, "rules", []):
+        if rule.target is old:
+            rule.target = new
+            replaced += 1
+        else:
+            replaced += _replace_targets(rule.target, old, new)
+    return replaced
+
+
 def serve(options: ServeOptions) -> int:
     """Run the Voila server for ``options`` until Ctrl-C or SIGTERM; return the exit status."""
     check_port_free(options.host, options.port)
@@ -869,6 +915,12 @@ def serve(options: ServeOptions) -> int:
 
         app.settings["log_function"] = log_function
         app.transforms.append(_visitor_transform())
+        from voila.tornado.handler import TornadoVoilaHandler
+
+        if not _replace_targets(app.default_router, TornadoVoilaHandler,
+                                _waiting_page_first(TornadoVoilaHandler, boards)):
+            raise LauncherError("this Voila version routes dashboards differently; "
+                                "install the versions pinned in pyproject.toml")
 
     target = options.dashboard.path if options.dashboard else dashboards_dir()
     app = SnowprobeVoila(config=_voila_config(options, boards, token))

@@ -21,7 +21,7 @@ from harness import (
 )
 
 from snowprobe_widgets.cautions import CAUTION_TEXT
-from snowprobe_widgets.launcher import find_dashboards
+from snowprobe_widgets.launcher import PAGE_HEADER, find_dashboards
 from snowprobe_widgets.scenario_files import loads
 
 #: Time limit for a first render with one visitor (the goal is under 5 s; CI machines vary).
@@ -222,6 +222,10 @@ def test_a_page_that_arrives_without_its_dashboard_says_so_and_reloads(server, b
         served = []
 
         def strip_first(route):
+            # the waiting page comes first; the dashboard answers its request with the header
+            if route.request.headers.get(PAGE_HEADER.lower()) != "1":
+                route.continue_()
+                return
             first = not served
             served.append(route.request.url)  # counted when asked, before the long reply
             response = route.fetch(timeout=240_000)
@@ -260,8 +264,10 @@ def test_a_waiting_page_counts_seconds_and_runs_no_animation(server, browser):
             "() => { const c = document.getElementById('sp-loading-clock');"
             " return !document.getElementById('sp-loading') ||"
             " (c && /^Waiting \\d+ s\\.$/.test(c.textContent)); }", timeout=60_000)
-        page.wait_for_function("() => document.body.getAttribute('data-sp-ready') === 'true'",
-                               timeout=120_000)
+        page.wait_for_function(  # the body is briefly absent while the dashboard replaces
+            # the waiting page
+            "() => !!document.body && document.body.getAttribute('data-sp-ready') === 'true'",
+            timeout=120_000)
         assert page.evaluate(
             "() => document.getAnimations().filter(a => a.playState === 'running').length") == 0
     finally:

@@ -12,6 +12,7 @@ import time
 
 import pytest
 from harness import (
+    DASHBOARD_REQUEST,
     READY_JS,
     STATIC_PATH,
     STATUS_SELECTOR,
@@ -170,7 +171,8 @@ def test_warm_sessions_serve_drawn_pages_and_stay_until_taken(tmp_path, browser)
                                        timeout=120_000, polling=250)
             assert {kernel_id_of(p) for p in pages} == warm_ids
             assert launcher.log().count("Using pre-heated kernel") == 2
-            assert http_status(launcher.base_url, timeout_s=60.0) == 503
+            assert http_status(launcher.base_url, timeout_s=60.0,
+                               headers=DASHBOARD_REQUEST) == 503
         finally:
             context.close()
     finally:
