@@ -87,6 +87,9 @@ IOPUB_WAIT_S: int = 300
 #: the replacements start after.
 WARM_REFILL_DELAY_S: float = 20.0
 
+#: What the launcher prints, after the count, each time all its warm sessions are ready.
+WARM_READY_SAYS: str = "warm sessions ready (started and drawn)"
+
 #: ``--warm`` without a number: size the warm pools from the session cap.
 WARM_FROM_CAP: int = -1
 
@@ -442,6 +445,7 @@ def _kernel_manager_class(options: ServeOptions) -> type:
     class BoundedKernelManager(AsyncMappingKernelManager):
         _starting = 0
         _release_callback: Any = None
+        _warm_said = False
 
         def __init__(self, *args: Any, **kwargs: Any) -> None:
             super().__init__(*args, **kwargs)
@@ -453,6 +457,37 @@ def _kernel_manager_class(options: ServeOptions) -> type:
         def cwd_for_path(self, path: str, **kwargs: Any) -> str:
             return str(options.workdir)
 
+        def _pool_results(self) -> list[dict]:
+            """What Voila's pools hold for the sessions already started: one dict each
+            (its ``kernel_id`` and the ``task`` running its notebook)."""
+            found = []
+            for pool in (getattr(self, "_pools", {}) or {}).values():
+                for item in pool:
+                    done = getattr(item, "done", None)
+                    if done is None or not done() or item.cancelled() or item.exception():
+                        continue
+                    found.append(item.result())
+            return found
+
+        def warm_ready(self) -> int:
+            """Warm sessions whose notebook has run to the end: pages ready to hand out."""
+            ready = 0
+            for started in self._pool_results():
+                run = started.get("task")
+                if run is not None and run.done() and not run.cancelled() \
+                        and run.exception() is None:
+                    ready += 1
+            return ready
+
+        def _say_when_warm(self) -> None:
+            """Print one line each time every warm session has become ready (the operator
+            then knows a class can come; ``bench_crowd.py --warm`` waits for it)."""
+            wanted = options.warm * len(getattr(self, "_pools", None) or {})
+            ready = self.warm_ready()
+            if wanted and ready >= wanted and not self._warm_said:
+                print(f"snowprobe: {ready} {WARM_READY_SAYS}", flush=True)
+            self._warm_said = bool(wanted) and ready >= wanted
+
         def _pooled(self) -> set[str]:
             """Kernels Voila keeps warm for future visitors (never released here).
 
@@ -460,16 +495,11 @@ def _kernel_manager_class(options: ServeOptions) -> type:
             the pool since the last look was just handed to a visitor: its time without
             a page counts from now, not from when it was started in advance.
             """
-            pools = getattr(self, "_pools", {}) or {}
             ids: set[str] = set()
-            for pool in pools.values():
-                for item in pool:
-                    done = getattr(item, "done", None)
-                    if done is None or not done() or item.cancelled() or item.exception():
-                        continue
-                    kernel_id = item.result().get("kernel_id")
-                    if isinstance(kernel_id, str):
-                        ids.add(kernel_id)
+            for started in self._pool_results():
+                kernel_id = started.get("kernel_id")
+                if isinstance(kernel_id, str):
+                    ids.add(kernel_id)
             now = time.time()
             for kernel_id in self._was_pooled - ids:
                 if kernel_id in self._started:
@@ -557,6 +587,7 @@ def _kernel_manager_class(options: ServeOptions) -> type:
         async def _look_after(self) -> None:
             await self.release_unattended()
             self.refill_warm()
+            self._say_when_warm()
 
         def refill_warm(self) -> int:
             """Drop warm sessions that could not start (every slot was taken) and top the
