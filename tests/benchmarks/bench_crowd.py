@@ -228,9 +228,10 @@ def _report(count: int, warm: bool, started: str, results: list, memory: dict,
           + (f" = {max(seconds) / baseline:.1f} x the single visitor" if baseline and
              seconds else ""))
     cpu = memory["cpu_s"]
-    print(f"  CPU seconds during the crowd: browsers {cpu['browsers']:.0f}, kernels "
-          f"{cpu['kernels']:.0f}, server {cpu['server']:.0f} "
-          f"(per page {sum(cpu.values()) / count:.1f})")
+    print(f"  CPU seconds during the crowd: browsers {cpu['browsers']:.1f}, kernels "
+          f"{cpu['kernels']:.1f}, server {cpu['server']:.1f} "
+          f"(per page {sum(cpu.values()) / count:.1f}, of which the browser "
+          f"{cpu['browsers'] / count:.1f})")
     for why in failed:
         print(f"  not drawn: {why}")
     kernels = memory["kernels"]
