@@ -49,6 +49,8 @@ __all__ = [
     "with_value",
     "screen_message",
     "plain_number",
+    "parse_parameters",
+    "format_parameters",
 ]
 
 _INF = math.inf
@@ -116,7 +118,9 @@ class Field:
         Attribute name, with its SI unit (``"center_frequency_hz"``).
     kind : str
         ``"number"``, ``"optional number"`` (None allowed), ``"integer"``, ``"boolean"``,
-        ``"string"`` or ``"choice"``.
+        ``"string"``, ``"choice"`` or ``"parameters"`` (named settings: a mapping of names
+        to numbers, strings or booleans, held as a sorted tuple of pairs; see
+        :func:`parse_parameters`).
     label : str
         What the screen calls it ("Centre frequency").
     unit : str
@@ -142,7 +146,7 @@ class Field:
         Allowed values of a ``"choice"`` field (a callable for registries that plugins
         extend, such as the pulse shapes).
     max_length : int
-        Longest ``"string"`` accepted.
+        Longest ``"string"`` accepted; for ``"parameters"``, the longest name.
     """
 
     group: str
@@ -393,6 +397,9 @@ _DECLARED: list[Field] = [
     # ---- radar
     _f("radar", "pulse", "choice", "Pulse shape", choices=_pulse_names,
        help="Shape of the transmitted pulse; plugins can add shapes."),
+    _f("radar", "pulse_parameters", "parameters", "Pulse parameters", max_length=40,
+       help="The pulse shape's own settings as name = value pairs, separated by commas "
+            "(for example n_steps = 512 of a stepped-frequency sweep); empty: its defaults."),
     # to 6 GHz the materials hold; drone-borne ultra-wideband radars for avalanche victims
     # work at 0.7-4.5 GHz (see scene.Radar)
     _f("radar", "center_frequency_hz", "number", "Centre frequency", unit="Hz",
@@ -568,6 +575,8 @@ def check(group: str, name: str, value: Any, *, low: float | None = None,
             if not isinstance(value, str):
                 raise ValueError(f"{name} must be a name (a string), got {value!r}")
             return check_choice(name, value, f.allowed())
+        if kind == "parameters":
+            return _check_parameters(name, value, f.max_length)
         if not isinstance(value, str):
             raise ValueError(f"{name} must be a string, got {value!r}")
         if len(value) > f.max_length:
@@ -586,9 +595,103 @@ def check(group: str, name: str, value: Any, *, low: float | None = None,
                          screen=_screen_refusal(f, value, lo, hi, lo_open, hi_open)) from None
 
 
+#: Most named settings a ``"parameters"`` field holds; longest text value.
+MAX_PARAMETERS = 32
+_MAX_PARAMETER_TEXT = 200
+_NAME = re.compile(r"[A-Za-z_][A-Za-z0-9_]*")
+
+
+def _check_parameters(name: str, value: Any, max_name: int
+                      ) -> tuple[tuple[str, bool | int | float | str], ...]:
+    """Named settings as a sorted tuple of ``(name, value)`` pairs, from a mapping or
+    pairs; values are booleans, integers, finite numbers or short strings."""
+    if isinstance(value, dict):
+        items = list(value.items())
+    elif isinstance(value, (tuple, list)) and all(
+            isinstance(p, (tuple, list)) and len(p) == 2 for p in value):
+        items = [tuple(p) for p in value]
+    else:
+        raise ValueError(f"{name} must be a mapping of names to values, got {value!r}")
+    if len(items) > MAX_PARAMETERS:
+        raise ValueError(f"{name} holds {len(items)} settings; at most {MAX_PARAMETERS}")
+    out: dict[str, bool | int | float | str] = {}
+    for key, v in items:
+        if not isinstance(key, str) or not _NAME.fullmatch(key) or len(key) > max_name:
+            raise ValueError(f"{name}: {key!r} is not a parameter name (letters, digits and "
+                             f"_, not starting with a digit, at most {max_name} characters)")
+        if key in out:
+            raise ValueError(f"{name}: {key!r} is given twice")
+        if isinstance(v, (bool, np.bool_)):
+            out[key] = bool(v)
+        elif isinstance(v, (int, np.integer)):
+            if abs(int(v)) > 2**53:
+                raise ValueError(f"{name}: {key} = {v} is too large (at most 2**53)")
+            out[key] = int(v)
+        elif isinstance(v, (float, np.floating)) and math.isfinite(v):
+            out[key] = float(v)
+        elif isinstance(v, str) and len(v) <= _MAX_PARAMETER_TEXT:
+            try:
+                v.encode("utf-8")
+            except UnicodeEncodeError:
+                raise ValueError(f"{name}: {key} holds a character that is not valid "
+                                 "Unicode") from None
+            out[key] = v
+        else:
+            raise ValueError(f"{name}: {key} = {v!r} must be a finite number, true/false or "
+                             f"a text of at most {_MAX_PARAMETER_TEXT} characters")
+    return tuple(sorted(out.items()))
+
+
+def parse_parameters(text: str) -> tuple[tuple[str, bool | int | float | str], ...]:
+    """Named settings typed as ``"name = value, name = value"`` (the screen's form):
+    numbers become numbers, ``true``/``false`` booleans, anything else text.
+
+    Raises
+    ------
+    FieldError
+        For a piece that is not ``name = value`` (naming it).
+    """
+    items = []
+    for piece in (p.strip() for p in str(text).split(",")):
+        if not piece:
+            continue
+        key, eq, raw = piece.partition("=")
+        key, raw = key.strip(), raw.strip()
+        if not eq or not key or not raw:
+            raise FieldError(
+                f"pulse_parameters: {piece!r} is not name = value",
+                field=declaration("radar", "pulse_parameters"), value=text,
+                screen=f"Pulse parameters: write name = value pairs separated by commas "
+                       f"('{piece}' is not one).")
+        value: bool | int | float | str = raw
+        if raw.lower() in ("true", "false"):
+            value = raw.lower() == "true"
+        else:
+            for conv in (int, float):
+                try:
+                    value = conv(raw)
+                    break
+                except ValueError:
+                    continue
+        items.append((key, value))
+    return check("radar", "pulse_parameters", items)
+
+
+def format_parameters(pairs: Any) -> str:
+    """Named settings in the screen's form, ``"name = value, ..."`` (see
+    :func:`parse_parameters`)."""
+    def show(v: Any) -> str:
+        return ("true" if v else "false") if isinstance(v, bool) else f"{v}"
+
+    return ", ".join(f"{k} = {show(v)}" for k, v in pairs)
+
+
 def _screen_refusal(f: Field, value: Any, lo: float, hi: float, lo_open: bool,
                     hi_open: bool) -> str:
     kind = f.kind
+    if kind == "parameters":
+        return (f"{f.label}: write name = value pairs (names of letters, digits and _; "
+                "values numbers, true/false or short words).")
     if kind == "boolean":
         return f"{f.label}: choose yes or no."
     if kind == "choice":

@@ -324,7 +324,8 @@ def _deep_enough(scenario: Any, depth_m: float) -> Any:
     else:
         base = next((la for la in reversed(layers) if not la.ice_crust), None)
         layers.append(Layer(extra, base.density_kg_m3 if base else 350.0,
-                            base.lwc_percent if base else 0.0))
+                            base.lwc_percent if base else 0.0,
+                            dielectric_model=base.dielectric_model if base else "snow"))
     return dataclasses.replace(scenario, snowpack=dataclasses.replace(snow, layers=tuple(
         layers)))
 

@@ -1,9 +1,9 @@
 """Presets: typical snow conditions and survey platforms, applied to a scenario.
 
 Each preset is a pure function ``scenario -> Scenario`` that keeps everything it does not
-name (the layer thicknesses, the buried people, the line), so a search lead can switch
-from "dry powder" to "wet spring debris" and compare. The figures are typical values for
-illustration (common practice, from memory), not measurements:
+name (the layer thicknesses and dielectric models, the buried people, the line), so a
+search lead can switch from "dry powder" to "wet spring debris" and compare. The figures
+are typical values for illustration (common practice, from memory), not measurements:
 
 * snow: dry powder 100 kg/m3 dry; wind-packed 350 kg/m3; wet spring avalanche debris
   450 kg/m3 with 5 % liquid water, at 0 degC; refrozen: 350 kg/m3 dry snow under a
@@ -31,8 +31,10 @@ __all__ = ["SNOW_PRESETS", "PLATFORM_PRESETS", "apply_snow", "apply_platform"]
 def _all_layers(density: float, lwc: float, temperature_c: float | None = None
                 ) -> Callable[[Scenario], Scenario]:
     def apply(s: Scenario) -> Scenario:
-        layers = tuple(Layer(la.thickness_m, density, lwc) for la in s.snowpack.layers
-                       if not la.ice_crust)
+        # each snow layer keeps its thickness and its dielectric model; a model that
+        # cannot take the preset's snow refuses it by name (Layer's own check)
+        layers = tuple(dataclasses.replace(la, density_kg_m3=density, lwc_percent=lwc)
+                       for la in s.snowpack.layers if not la.ice_crust)
         layers = layers or (Layer(s.snowpack.depth_m, density, lwc),)
         t = s.snowpack.temperature_c if temperature_c is None else temperature_c
         if lwc > 0:

@@ -34,8 +34,8 @@ import numpy as np
 from ._validate import check_choice, check_range
 from .registry import Registry
 
-__all__ = ["Pulse", "PULSES", "SPECTRA", "make_pulse", "pulse_names", "register_spectrum",
-           "spectrum_pulse"]
+__all__ = ["Pulse", "PULSES", "SPECTRA", "make_pulse", "pulse_names", "pulse_parameters",
+           "register_spectrum", "spectrum_pulse"]
 
 PULSES = Registry("snowprobe_widgets.pulses", "pulse shape")
 #: Pulse spectra of plugins, ``spectrum(freq_hz, center_frequency_hz, bandwidth_hz,
@@ -375,6 +375,28 @@ def make_pulse(shape: str, center_frequency_hz: float, bandwidth_hz: float | Non
         raise ValueError(f"unknown pulse shape {shape!r}; known: "
                          f"{', '.join(repr(n) for n in pulse_names())}")
     return PULSES.get(shape)(center_frequency_hz, bandwidth_hz, **options)
+
+
+def pulse_parameters(shape: str) -> dict[str, Any]:
+    """The pulse shape's own parameters and their defaults (what a radar's
+    ``pulse_parameters`` may set): a factory's keyword parameters after the centre frequency
+    and bandwidth, or a spectrum function's after its first three arguments.
+
+    Raises
+    ------
+    ValueError
+        For a shape that is not registered.
+    """
+    if shape in PULSES:
+        func, skip = PULSES.get(shape), 2
+    elif shape in SPECTRA:
+        func, skip = SPECTRA.get(shape), 3
+    else:
+        raise ValueError(f"unknown pulse shape {shape!r}; known: "
+                         f"{', '.join(repr(n) for n in pulse_names())}")
+    params = list(inspect.signature(func).parameters.values())[skip:]
+    return {p.name: p.default for p in params
+            if p.default is not p.empty and p.kind not in (p.VAR_POSITIONAL, p.VAR_KEYWORD)}
 
 
 def pulse_names() -> tuple[str, ...]:

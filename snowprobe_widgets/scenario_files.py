@@ -41,7 +41,7 @@ from typing import Any
 
 from .atomic_files import write_atomically
 from .cautions import CAUTION_SHORT
-from .fields import declaration
+from .fields import MAX_PARAMETERS, declaration
 from .scene import (
     Clutter,
     Ground,
@@ -88,6 +88,7 @@ _OPT_NUM = "number or null"
 _INT = "integer"
 _BOOL = "boolean"
 _STR = "string"
+_PARAMS = "object of named settings"
 
 
 class _Spec:
@@ -167,9 +168,9 @@ _RADAR = _Spec(Radar, {
     "antenna_gain_dbi": _NUM, "dt_s": _NUM, "time_window_s": _NUM, "antenna_height_m": _NUM,
     "beamwidth_deg": _NUM, "polarization": _STR, "antenna_band_low_hz": _OPT_NUM,
     "antenna_band_high_hz": _OPT_NUM, "dynamic_range_db": _NUM, "ringing_level_db": _NUM,
-    "ringing_time_s": _OPT_NUM},
+    "ringing_time_s": _OPT_NUM, "pulse_parameters": _PARAMS},
     added=("polarization", "antenna_band_low_hz", "antenna_band_high_hz", "dynamic_range_db",
-           "ringing_level_db", "ringing_time_s"), group="radar")
+           "ringing_level_db", "ringing_time_s", "pulse_parameters"), group="radar")
 _SURVEY = _Spec(Survey, {"start_m": _NUM, "end_m": _NUM, "trace_spacing_m": _NUM},
                 group="survey")
 _CLUTTER = _Spec(Clutter, {"scatterer_density_per_m3": _NUM, "scatterer_size_m": _NUM,
@@ -203,6 +204,8 @@ def _write(obj: Any, spec: _Spec) -> dict[str, Any]:
             out[name] = int(value)
         elif kind in (_NUM, _OPT_NUM):
             out[name] = None if value is None else float(value)
+        elif kind == _PARAMS:
+            out[name] = dict(value)
         else:
             out[name] = value
     return out
@@ -340,6 +343,11 @@ def _read_value(value: Any, kind: Any, path: str) -> Any:
         return tuple(_read_tagged(v, kind.specs, f"{path}[{i}]") for i, v in enumerate(value))
     if kind == _OPT_NUM and value is None:
         return None
+    if kind == _PARAMS:
+        if not isinstance(value, dict):
+            raise ScenarioFileError(f"{path}: expected an object of named settings, got "
+                                    f"{_show(value)}")
+        return tuple(value.items())  # checked by the value object's constructor
     if kind in (_NUM, _OPT_NUM):
         if isinstance(value, bool) or not isinstance(value, (int, float)):
             raise ScenarioFileError(f"{path}: expected a {kind}, got {_show(value)}")
@@ -562,6 +570,11 @@ def _field_schema(group: str, name: str, kind: Any) -> dict[str, Any]:
             out["exclusiveMaximum" if f.high_open else "maximum"] = f.high
     elif f.kind == "boolean":
         out["type"] = "boolean"
+    elif f.kind == "parameters":
+        out.update({"type": "object", "maxProperties": MAX_PARAMETERS,
+                    "propertyNames": {"pattern": "^[A-Za-z_][A-Za-z0-9_]*$",
+                                      "maxLength": f.max_length},
+                    "additionalProperties": {"type": ["number", "string", "boolean"]}})
     elif f.kind == "choice":
         out["type"] = "string"
         if not callable(f.choices):  # registries that plugins extend are checked on load

@@ -148,6 +148,12 @@ class Radar:
     ringing_time_s : float or None
         How long the ringing lasts after transmission, s, in [0, 1 us]; ``None``: three
         periods of the centre frequency (an assumed figure, as above).
+    pulse_parameters : mapping or tuple of (name, value) pairs
+        The pulse shape's own settings
+        (:func:`snowprobe_widgets.pulses.pulse_parameters` lists them with their defaults;
+        e.g. ``{"n_steps": 512}`` for "stepped_frequency", or a plugin spectrum function's
+        keyword parameters). Held as a sorted tuple of pairs; empty: the defaults. A name
+        the pulse does not take is refused.
     """
 
     pulse: str = "ricker"
@@ -167,10 +173,12 @@ class Radar:
     dynamic_range_db: float = 96.0
     ringing_level_db: float = -60.0
     ringing_time_s: float | None = None
+    pulse_parameters: tuple[tuple[str, Any], ...] = ()
 
     def __post_init__(self) -> None:
-        _check_fields(self, "radar", ("pulse", "center_frequency_hz", "bandwidth_hz",
-                                      "transmit_power_dbm"))
+        _check_fields(self, "radar", ("pulse", "pulse_parameters", "center_frequency_hz",
+                                      "bandwidth_hz", "transmit_power_dbm"))
+        self._check_pulse_parameters()
         _set(self, "noise_floor_dbm", _check(
             "radar", "noise_floor_dbm", self.noise_floor_dbm,
             high=min(0.0, self.transmit_power_dbm), high_open=self.transmit_power_dbm <= 0.0))
@@ -214,6 +222,41 @@ class Radar:
                        f"{plain_number(math.floor(limit / 1e-12 * 10) / 10)} ps or less, or "
                        "a lower centre frequency.")
 
+    def _check_pulse_parameters(self) -> None:
+        from . import pulses
+
+        accepted = pulses.pulse_parameters(self.pulse)
+        unknown = [k for k, _ in self.pulse_parameters if k not in accepted]
+        for key, value in self.pulse_parameters:
+            want = _parameter_type(accepted.get(key))
+            if not unknown and want is not None and not isinstance(value, want[0]):
+                raise FieldError(
+                    f"pulse_parameters: {key} = {value!r} must be {want[1]} (its default is "
+                    f"{accepted[key]!r})", field=declaration("radar", "pulse_parameters"),
+                    value=self.pulse_parameters,
+                    screen=f"Pulse parameters: {key} takes {want[1]} (default "
+                           f"{accepted[key]!r}), not {value!r}.")
+        if not unknown:
+            if self.pulse_parameters:  # the values, as the pulse itself checks them
+                try:
+                    self.make_pulse()
+                except (TypeError, ValueError) as exc:
+                    if isinstance(exc, FieldError):
+                        raise
+                    raise FieldError(
+                        f"pulse_parameters: {exc}", field=declaration("radar",
+                                                                      "pulse_parameters"),
+                        value=self.pulse_parameters, screen=f"Pulse parameters: {exc}.") \
+                        from None
+            return
+        names = ", ".join(f"{k} (default {v!r})" for k, v in accepted.items()) or "none"
+        f = declaration("radar", "pulse_parameters")
+        raise FieldError(
+            f"pulse_parameters: pulse {self.pulse!r} has no parameter {unknown[0]!r}; its "
+            f"parameters: {names}", field=f, value=self.pulse_parameters,
+            screen=f"Pulse parameters: the {self.pulse.replace('_', ' ')} pulse has no "
+                   f"setting {unknown[0]}; it takes: {names}.")
+
     @property
     def n_samples(self) -> int:
         """Samples per trace, ``round(time_window_s / dt_s)``."""
@@ -253,10 +296,25 @@ class Radar:
 
     def make_pulse(self) -> Any:
         """The transmitted pulse (``pulses.make_pulse(pulse, center_frequency_hz,
-        bandwidth_hz)``)."""
+        bandwidth_hz, **pulse_parameters)``)."""
         from . import pulses
 
-        return pulses.make_pulse(self.pulse, self.center_frequency_hz, self.bandwidth_hz)
+        return pulses.make_pulse(self.pulse, self.center_frequency_hz, self.bandwidth_hz,
+                                 **dict(self.pulse_parameters))
+
+
+def _parameter_type(default: Any) -> tuple[tuple[type, ...], str] | None:
+    """The type a pulse parameter's value must have, from its default (a value of a
+    parameter whose default is None is not constrained)."""
+    if isinstance(default, bool):
+        return (bool,), "true or false"
+    if isinstance(default, int):
+        return (int,), "a whole number"
+    if isinstance(default, float):
+        return (int, float), "a number"
+    if isinstance(default, str):
+        return (str,), "a word"
+    return None
 
 
 def _band_high_hz(pulse: Any) -> float:

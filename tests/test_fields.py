@@ -101,6 +101,12 @@ def test_every_declaration_agrees_with_the_schema_and_the_constructors(f) -> Non
         assert prop["type"] == "boolean"
         with pytest.raises(FieldError, match="must be True or False"):
             dataclasses.replace(owner, **{f.name: "yes"})
+    elif f.kind == "parameters":
+        assert prop["type"] == "object"
+        assert prop["propertyNames"]["maxLength"] == f.max_length
+        with pytest.raises(FieldError) as built:
+            dataclasses.replace(owner, **{f.name: {"x" * (f.max_length + 1): 1}})
+        assert built.value.field is f and built.value.screen.startswith(f.label)
     else:
         assert prop["maxLength"] == f.max_length
         with pytest.raises(FieldError, match="characters long"):

@@ -165,3 +165,67 @@ def test_a_spectrum_pulse_refuses_unknown_parameters_and_bad_spectra(spectra) ->
         pulses.make_pulse("test_wrong_shape", 400e6)
     with pytest.raises(ValueError, match="unknown pulse shape 'nope'; known: .*'ricker'"):
         pulses.make_pulse("nope", 400e6)
+
+
+# ---- a pulse's own parameters, set from a scenario (Radar.pulse_parameters)
+def test_pulse_parameters_lists_a_shapes_own_settings() -> None:
+    from snowprobe_widgets.pulses import pulse_parameters
+
+    assert pulse_parameters("stepped_frequency") == {"n_steps": 256, "window": "hann"}
+    assert pulse_parameters("ricker") == {}
+    with pytest.raises(ValueError, match="unknown pulse shape"):
+        pulse_parameters("no_such_pulse")
+
+
+def test_a_radar_passes_its_pulse_parameters_to_the_pulse() -> None:
+    import dataclasses
+
+    from snowprobe_widgets.scene import Radar
+
+    r = Radar(pulse="stepped_frequency", pulse_parameters={"window": "hamming", "n_steps": 64})
+    assert r.pulse_parameters == (("n_steps", 64), ("window", "hamming"))  # sorted pairs
+    p = r.make_pulse()
+    assert (p.n_steps, p.window) == (64, "hamming")
+    # a stepped sweep of N steps over B repeats after N / B (its unambiguous time)
+    assert p.unambiguous_time_s == pytest.approx(64 / p.bandwidth_hz, rel=0.05)
+    assert Radar(pulse="stepped_frequency") == dataclasses.replace(r, pulse_parameters=())
+
+
+@pytest.mark.parametrize(("params", "words"), [
+    ({"n_step": 64}, "has no setting n_step; it takes: n_steps (default 256)"),
+    ({"n_steps": 3}, "n_steps = 3 is outside the allowed range"),
+    ({"window": "kaiser"}, "window = 'kaiser' is not one of"),
+    ({"n_steps": float("nan")}, "write name = value pairs"),
+    ({"2x": 1}, "write name = value pairs"),
+])
+def test_bad_pulse_parameters_are_refused_naming_the_field(params, words) -> None:
+    from snowprobe_widgets.fields import FieldError
+    from snowprobe_widgets.scene import Radar
+
+    with pytest.raises(FieldError) as err:
+        Radar(pulse="stepped_frequency", pulse_parameters=params)
+    assert err.value.field.name == "pulse_parameters"
+    assert words in err.value.screen
+
+
+def test_screen_form_of_pulse_parameters_reads_back() -> None:
+    from snowprobe_widgets.fields import FieldError, format_parameters, parse_parameters
+
+    pairs = parse_parameters(" n_steps = 512 , window = hamming, loud = true, gain = 0.5")
+    assert pairs == (("gain", 0.5), ("loud", True), ("n_steps", 512), ("window", "hamming"))
+    assert parse_parameters(format_parameters(pairs)) == pairs
+    assert parse_parameters("") == ()
+    with pytest.raises(FieldError, match="not name = value"):
+        parse_parameters("n_steps 512")
+
+
+def test_a_pulse_parameter_must_have_its_defaults_type() -> None:
+    from snowprobe_widgets.fields import FieldError
+    from snowprobe_widgets.scene import Radar
+
+    for bad, words in (({"n_steps": "abc"}, "n_steps takes a whole number (default 256)"),
+                       ({"n_steps": 300.5}, "n_steps takes a whole number"),
+                       ({"window": 3}, "window takes a word (default 'hann')")):
+        with pytest.raises(FieldError) as err:
+            Radar(pulse="stepped_frequency", pulse_parameters=bad)
+        assert words in err.value.screen

@@ -18,7 +18,7 @@ from ipywidgets.widgets.widget_description import DescriptionStyle, DescriptionW
 from ipywidgets.widgets.widget_string import HTMLStyle
 
 from snowprobe_widgets.cautions import CAUTION_SHORT, CAUTION_TEXT
-from snowprobe_widgets.fields import Field, screen_message
+from snowprobe_widgets.fields import Field, format_parameters, screen_message
 
 #: CSS class of every "this combination was refused" message line.
 MESSAGE_CLASS: str = "sp-message"
@@ -182,8 +182,9 @@ def field_control(field: Field, value: Any = None) -> widgets.Widget:
 
     Numbers get a slider (logarithmic where declared) over the hard bounds, or the soft
     bounds when those are fixed; call :func:`set_limits` to follow a scenario. Integers
-    with a huge range get a number box, choices a dropdown, booleans a checkbox. The
-    control's ``value`` is in display units.
+    with a huge range get a number box, choices a dropdown, booleans a checkbox, named
+    settings a text box (``name = value, ...``). The control's ``value`` is in display
+    units.
     """
     lo, hi = field.soft_bounds()
     if field.soft is not None and not callable(field.soft):
@@ -199,6 +200,11 @@ def field_control(field: Field, value: Any = None) -> widgets.Widget:
         w = widgets.Checkbox(value=bool(value), indent=False, description=field.label,
                              tooltip=field.help, layout=_control_layout())
         return w
+    if field.kind == "parameters":
+        return widgets.Text(value=format_parameters(value or ()), description=field.title,
+                            tooltip=field.help, placeholder="name = value, ...",
+                            continuous_update=False, layout=_control_layout(),
+                            style={"description_width": _DESCRIPTION_WIDTH})
     d_lo, d_hi = field.to_display(lo), field.to_display(hi)
     shown = field.to_display(value) if value is not None else d_lo
     if field.kind == "integer":

@@ -26,7 +26,7 @@ from typing import Any
 import ipywidgets as widgets
 import numpy as np
 
-from snowprobe_widgets.fields import Field, declaration
+from snowprobe_widgets.fields import Field, declaration, format_parameters, parse_parameters
 from snowprobe_widgets.scene import (
     Boulder,
     Branch,
@@ -575,6 +575,8 @@ class RadarPanel(Panel):
 
     def __init__(self) -> None:
         self.pulse = self._control("pulse", "radar", "pulse", "ricker")
+        self.pulse_parameters = self._control("pulse_parameters", "radar", "pulse_parameters",
+                                              ())
         self.frequency = self._control("frequency", "radar", "center_frequency_hz", 800e6)
         self.own_bandwidth = widgets.Checkbox(value=True, indent=False,
                                               description="pulse's own bandwidth")
@@ -594,22 +596,52 @@ class RadarPanel(Panel):
         self.start = self._control("start", "survey", "start_m", 0.0)
         self.end = self._control("end", "survey", "end_m", 10.0)
         super().__init__([
-            section_title("Pulse"), self.pulse, self.frequency, self.own_bandwidth,
+            section_title("Pulse"), self.pulse, self.pulse_parameters, self.frequency,
+            self.own_bandwidth,
             self.bandwidth, section_title("Power and noise"), self.power, self.noise,
             self.stacking, section_title("Antenna"), self.height, self.gain, self.beamwidth,
             self.polarization, section_title("Recording and survey line"), self.dt,
             self.window, self.spacing, self.start, self.end])
-        self._watch(self.pulse, self.frequency, self.own_bandwidth, self.bandwidth, self.height,
+        # before the panel fires: settings the new pulse does not take are dropped
+        self.pulse.observe(lambda c: self._pulse_switched(), names="value")
+        self._watch(self.pulse, self.pulse_parameters, self.frequency, self.own_bandwidth,
+                    self.bandwidth, self.height,
                     self.power, self.noise, self.stacking, self.gain, self.beamwidth,
                     self.polarization, self.dt,
                     self.window, self.spacing, self.start, self.end)
         self.own_bandwidth.observe(
             lambda c: setattr(self.bandwidth, "disabled", bool(c["new"])), names="value")
         self.bandwidth.disabled = True
+        self._show_parameters("ricker", ())
+
+    def _show_parameters(self, pulse: str, pairs: Any) -> None:
+        """Show ``pairs`` in the pulse-parameter box, visible only for a pulse that has
+        settings of its own (its tooltip lists them with their defaults)."""
+        from snowprobe_widgets.pulses import pulse_parameters
+
+        own = pulse_parameters(pulse)
+        self._set(self.pulse_parameters, format_parameters(pairs))
+        f = self._field("pulse_parameters")
+        self.pulse_parameters.tooltip = f.help + (
+            f" This pulse takes: {format_parameters(own.items())}." if own else "")
+        set_visible(self.pulse_parameters, bool(own))
+
+    def _pulse_switched(self) -> None:
+        from snowprobe_widgets.pulses import pulse_parameters
+
+        if self._quiet:
+            return
+        own = pulse_parameters(self.pulse.value)
+        try:
+            pairs = parse_parameters(self.pulse_parameters.value)
+        except ValueError:
+            pairs = ()
+        self._show_parameters(self.pulse.value, tuple(p for p in pairs if p[0] in own))
 
     def show(self, scenario: Scenario, keep_selection: bool = False) -> None:
         r, s = scenario.radar, scenario.survey
         self._set(self.pulse, r.pulse)
+        self._show_parameters(r.pulse, r.pulse_parameters)
         self._put("frequency", r.center_frequency_hz,
                   self._field("frequency").soft_bounds(scenario))
         self._set(self.own_bandwidth, r.bandwidth_hz is None)
@@ -646,7 +678,9 @@ class RadarPanel(Panel):
     def parts(self) -> dict[str, Any]:
         # fields this panel does not show (antenna band, dynamic range, ringing) are kept
         radar = dataclasses.replace(
-            self._radar, pulse=self.pulse.value, center_frequency_hz=self._si("frequency"),
+            self._radar, pulse=self.pulse.value,
+            pulse_parameters=parse_parameters(self.pulse_parameters.value),
+            center_frequency_hz=self._si("frequency"),
             bandwidth_hz=None if self.own_bandwidth.value else self._si("bandwidth"),
             transmit_power_dbm=self._si("power"), noise_floor_dbm=self._si("noise"),
             stacking=int(self.stacking.value), antenna_gain_dbi=self._si("gain"),

@@ -14,7 +14,7 @@ from snowprobe_widgets.widgets import ScenarioExplorer
 #: Controls of the panels that pick or switch rather than hold a scenario field.
 _NOT_FIELDS = {"layer_choice", "choice", "own_bandwidth"}
 _VALUE_CONTROLS = (widgets.FloatSlider, widgets.FloatLogSlider, widgets.IntSlider,
-                   widgets.BoundedIntText, widgets.Dropdown, widgets.Checkbox)
+                   widgets.BoundedIntText, widgets.Dropdown, widgets.Checkbox, widgets.Text)
 
 
 @pytest.fixture(scope="module")

@@ -162,3 +162,17 @@ def test_pin_a_change_b_and_compare(app: ScenarioExplorer, tmp_path) -> None:
     assert "Caution." in text and text.count("data:image/png;base64,") == 3  # A, B, scale
     assert "B - A" in text
     app.lower.selected_index = 0
+
+
+def test_a_preset_the_layers_model_refuses_is_explained_and_changes_nothing(
+        app: ScenarioExplorer) -> None:
+    import dataclasses
+
+    s = app.scenario
+    ice = tuple(dataclasses.replace(la, dielectric_model="ice") for la in s.snowpack.layers)
+    app.scenario = dataclasses.replace(s, snowpack=dataclasses.replace(s.snowpack, layers=ice))
+    before = app.scenario
+    app.snow_preset.value = "Wet spring debris"
+    assert app.scenario == before
+    assert "Dielectric model ice" in app.message.value
+    assert app.snow_preset.value == "(choose)"

@@ -166,8 +166,11 @@ def test_served_mode_has_upload_and_no_path_box(served_app):
     assert files.served
     assert not hasattr(files, "path")
     assert UPLOAD_CLASS in files.upload._dom_classes
-    assert not [w for w in _all_widgets(served_app)
-                if isinstance(w, (widgets.Text, widgets.Textarea, widgets.Combobox))]
+    # the only text box is the pulse's own settings, passed to the pulse function alone
+    # (never a path: DEVELOPERS.md, "Adding a pulse")
+    assert [w for w in _all_widgets(served_app)
+            if isinstance(w, (widgets.Text, widgets.Textarea, widgets.Combobox))] == [
+        served_app.radar.pulse_parameters]
     assert not files.open_file("/etc/passwd")
     assert "cannot open or write files on the server" in files.message.value
     assert files.save_file("/tmp/x.json") is None and files.export("csv") is None

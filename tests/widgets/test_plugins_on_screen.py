@@ -14,6 +14,8 @@ import subprocess
 import sys
 import textwrap
 
+import pytest
+
 PLUGIN = textwrap.dedent('''
     """A test plugin: clip the section at a fraction of its peak."""
     import numpy as np
@@ -119,6 +121,15 @@ KIT_SCRIPT = textwrap.dedent('''
     out["file"] = [doc["scenario"]["radar"]["pulse"],
                    doc["scenario"]["snowpack"]["layers"][0]["dielectric_model"]]
     out["round_trip"] = scenario_files.loads(json.dumps(doc)) == s
+    # the plugin pulse's own parameter, set from a scenario and carried by its file
+    narrow = dataclasses.replace(s, radar=dataclasses.replace(
+        s.radar, pulse_parameters={"width": 0.2}))
+    doc = json.loads(scenario_files.dumps(narrow))
+    jsonschema.Draft202012Validator(scenario_files.json_schema()).validate(doc)
+    out["parameters_file"] = doc["scenario"]["radar"]["pulse_parameters"]
+    out["parameters_round_trip"] = scenario_files.loads(json.dumps(doc)) == narrow
+    out["bandwidths"] = [s.radar.make_pulse().bandwidth_hz,
+                         narrow.radar.make_pulse().bandwidth_hz]
 
     app = ScenarioExplorer(base)
     out["pulse_options"] = [v for _l, v in app.radar.pulse.options]
@@ -129,6 +140,10 @@ KIT_SCRIPT = textwrap.dedent('''
     out["on_screen"] = [app.scenario.radar.pulse,
                         app.scenario.snowpack.layers[0].dielectric_model]
     out["redrawn"] = app.radargram_view.draws > draws
+    box = app.radar.pulse_parameters
+    out["box"] = [box.layout.display, box.tooltip]
+    box.value = "width = 0.2"
+    out["box_scenario"] = [list(p) for p in app.scenario.radar.pulse_parameters]
     out["message"] = app.message.value
     print(json.dumps(out))
 ''')
@@ -154,3 +169,11 @@ def test_a_plugin_pulse_and_layer_model_reach_synthesis_files_and_screen(tmp_pat
     assert "lab_chirp" in out["pulse_options"] and "lab_firn" in out["model_options"]
     assert out["on_screen"] == ["lab_chirp", "lab_firn"] and out["redrawn"]
     assert out["message"] == "", out["message"]  # no refusal on the message line
+    assert out["parameters_file"] == {"width": 0.2} and out["parameters_round_trip"]
+    # a Gaussian band of 1/e half-width w fc has its -6 dB width 2 w fc sqrt(ln 2):
+    # halving w halves the measured bandwidth (to the 1/20000 grid of the measurement)
+    wide, narrow = out["bandwidths"]
+    assert narrow / wide == pytest.approx(0.5, rel=2e-3)
+    display, tooltip = out["box"]
+    assert display != "none" and "width = 0.4" in tooltip
+    assert out["box_scenario"] == [["width", 0.2]]
