@@ -156,7 +156,7 @@ who can reach the page:
 serving more people:
   each session costs the server about 4 CPU-seconds to start and draw (kernel
   and server) and about 140 MB (proportional memory; 190 MB resident); each
-  visitor's browser needs about 5 CPU-seconds more. Visitors arriving together
+  visitor's browser needs about 4 CPU-seconds more. Visitors arriving together
   wait about (visitors x those costs / cores). --warm starts sessions before
   people arrive. For more, use more cores, several servers behind a proxy, or
   JupyterHub (see the README).
