@@ -257,6 +257,12 @@ def test_a_waiting_page_counts_seconds_and_runs_no_animation(server, browser):
         page = context.new_page()
         page.goto(dashboard_url(server.base_url, "plan"), wait_until="commit")
         page.wait_for_selector("#sp-loading", state="attached", timeout=60_000)
+        # the page that waits is a finished document (a document still loading keeps a
+        # browser busy for as long as it waits): the dashboard comes by a fetch
+        page.wait_for_function(
+            "() => document.readyState === 'complete' && !!document.body"
+            " && !!document.querySelector('[data-sp-waiting]')"
+            " && document.body.getAttribute('data-sp-ready') !== 'true'", timeout=30_000)
         running = page.evaluate(
             "() => document.getAnimations().filter(a => a.playState === 'running').length")
         assert running == 0
