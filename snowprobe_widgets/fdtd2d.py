@@ -745,6 +745,6 @@ def scenario_check(scenario: object, position_m: float, *,
 
 
 def _envelope(x: np.ndarray) -> np.ndarray:
-    from scipy.signal import hilbert
+    from .processing.dsp import analytic_signal
 
-    return np.abs(hilbert(x))
+    return np.abs(analytic_signal(x))

@@ -25,7 +25,6 @@ the inverse-cube law and 0.63 for random search):
 from __future__ import annotations
 
 import numpy as np
-from scipy.integrate import trapezoid
 
 from ._validate import check_range
 
@@ -92,7 +91,7 @@ def sweep_width_m(offset_m: object, probability: object) -> float:
         On a malformed curve (see :func:`lateral_curve_arrays`).
     """
     x, p = lateral_curve_arrays(offset_m, probability)
-    w = float(trapezoid(p, x))
+    w = 0.5 * float(np.sum(np.diff(x) * (p[1:] + p[:-1])))  # trapezoids
     return 2.0 * w if x[0] >= 0.0 else w
 
 

@@ -739,3 +739,97 @@ def test_median_trace_equals_numpys_median(shape):
     data = np.round(rng.standard_normal(shape), 1)  # with ties
     np.testing.assert_array_equal(median_trace(data),
                                   np.median(data, axis=1, keepdims=True))
+
+
+# ------------------------------------------------------------------ long steps in parts
+class _Stop(Exception):
+    pass
+
+
+def _long_section(nx: int = 400) -> Radargram:
+    """Three diffractors and noise on a line longer than the Stolt map's band of columns."""
+    d = sum(hyperbola(x0, t0, nx=nx) for x0, t0 in ((2.0, 15e-9), (6.0, 25e-9),
+                                                      (10.0, 35e-9)))
+    d = d + 0.01 * np.random.default_rng(5).standard_normal(d.shape)
+    return rg_of(d)
+
+
+@pytest.mark.parametrize("kwargs", [dict(method="fk"), dict(method="kirchhoff"),
+                                    dict(method="fk", antenna_height_m=2.0)])
+def test_migration_in_parts_equals_migration_in_one_go(monkeypatch, kwargs):
+    from snowprobe_widgets.processing import migration
+
+    rg = _long_section()
+    monkeypatch.setattr(migration, "_CACHED_MAP_SAMPLES", 10**12)
+    whole = P.migrate(rg, V_M_S, **kwargs).data  # the Stolt map in one piece
+    monkeypatch.setattr(migration, "_CACHED_MAP_SAMPLES", 0)
+    monkeypatch.setattr(migration, "_MAP_CHUNK_CELLS", 20_000)  # bands of ~39 columns
+    seen: list[float] = []
+    parts = P.migrate(rg, V_M_S, progress=seen.append, **kwargs).data
+    np.testing.assert_array_equal(parts, whole)
+    assert len(seen) >= 10 and seen == sorted(seen) and seen[-1] == pytest.approx(1.0)
+    assert 0.0 < seen[0] < 0.5
+
+
+@pytest.mark.parametrize("method", ["fk", "kirchhoff"])
+def test_a_stop_raised_inside_a_migration_ends_it_there(monkeypatch, method):
+    from snowprobe_widgets.processing import migration
+
+    monkeypatch.setattr(migration, "_CACHED_MAP_SAMPLES", 0)
+    monkeypatch.setattr(migration, "_MAP_CHUNK_CELLS", 20_000)
+    calls: list[float] = []
+
+    def stop_at_third(fraction: float) -> None:
+        calls.append(fraction)
+        if len(calls) == 3:
+            raise _Stop
+
+    with pytest.raises(_Stop):
+        P.migrate(_long_section(), V_M_S, method=method, progress=stop_at_third)
+    assert len(calls) == 3 and calls[-1] < 0.5  # ended well before the end
+
+
+def test_chain_passes_progress_into_a_migration_and_stops_inside_it(monkeypatch):
+    from snowprobe_widgets.processing import migration
+
+    monkeypatch.setattr(migration, "_CACHED_MAP_SAMPLES", 0)
+    monkeypatch.setattr(migration, "_MAP_CHUNK_CELLS", 20_000)
+    rg = _long_section()
+    chain = P.ProcessingChain((P.ProcessingStep("background_removal"),
+                               P.ProcessingStep("migrate", (("velocity_m_s", V_M_S),))))
+    seen: list[float] = []
+    out = chain.apply(rg, seen.append)
+    assert out.data.tobytes() == chain.apply(rg).data.tobytes()
+    inside = [f for f in seen if 0.5 < f < 1.0]  # the migration's own reports
+    assert len(inside) >= 5 and seen == sorted(seen) and seen[-1] == 1.0
+    assert "progress" not in P.step_defaults("migrate")  # no parameter of a chain file
+    with pytest.raises(ValueError, match="no parameter 'progress'"):
+        P.ProcessingStep("migrate", (("velocity_m_s", V_M_S), ("progress", None)))
+
+    def stop_inside(fraction: float) -> None:
+        if 0.5 < fraction < 1.0:
+            raise _Stop
+
+    with pytest.raises(_Stop):
+        chain.apply(rg, stop_inside)
+
+
+def test_moving_median_background_in_bands_equals_one_go_and_stops_inside(monkeypatch):
+    from scipy import ndimage
+
+    from snowprobe_widgets.processing import filters
+
+    rg = _long_section(nx=150)
+    expected = rg.data - ndimage.median_filter(rg.data, size=(1, 21), mode="reflect")
+    monkeypatch.setattr(filters, "_MEDIAN_CHUNK_CELLS", 3_000)  # bands of 20 rows
+    seen: list[float] = []
+    out = P.background_removal(rg, "median", 21, progress=seen.append)
+    np.testing.assert_array_equal(out.data, expected)
+    assert len(seen) >= 20 and seen == sorted(seen) and seen[-1] == 1.0
+
+    def stop_at_second(fraction: float) -> None:
+        if fraction > seen[0]:
+            raise _Stop
+
+    with pytest.raises(_Stop):
+        P.background_removal(rg, "median", 21, progress=stop_at_second)

@@ -23,6 +23,10 @@ CHAIN_VERSION = 1
 
 _JSON_SCALARS = (str, int, float, bool, type(None))
 
+#: A step that can report its progress takes a keyword argument of this name (a callable
+#: given the fraction done); it is no parameter of the step's record or of a chain file.
+PROGRESS_ARGUMENT = "progress"
+
 
 def _step_parameters(name: str) -> tuple[tuple[str, ...], bool, dict[str, Any]]:
     """Keyword names a registered step accepts, whether it takes ``**kwargs``, and the
@@ -32,11 +36,19 @@ def _step_parameters(name: str) -> tuple[tuple[str, ...], bool, dict[str, Any]]:
         sig = inspect.signature(func)
     except (TypeError, ValueError):
         return (), True, {}
-    params = list(sig.parameters.values())[1:]  # the first one is the radargram
+    params = [p for p in list(sig.parameters.values())[1:]  # the first is the radargram
+              if p.name != PROGRESS_ARGUMENT]
     names = tuple(p.name for p in params
                   if p.kind in (p.POSITIONAL_OR_KEYWORD, p.KEYWORD_ONLY))
     defaults = {p.name: p.default for p in params if p.default is not p.empty}
     return names, any(p.kind is p.VAR_KEYWORD for p in params), defaults
+
+
+def _reports_progress(func: Callable[..., Any]) -> bool:
+    try:
+        return PROGRESS_ARGUMENT in inspect.signature(func).parameters
+    except (TypeError, ValueError):
+        return False
 
 
 def step_defaults(name: str) -> dict[str, Any]:
@@ -102,9 +114,19 @@ class ProcessingStep:
         if not isinstance(self.enabled, bool):
             raise ValueError(f"enabled must be true or false, got {self.enabled!r}")
 
-    def apply(self, rg: Radargram) -> Radargram:
-        """Run this step on ``rg`` (regardless of ``enabled``)."""
-        return STEPS.get(self.name)(rg, **dict(self.params))
+    def apply(self, rg: Radargram,
+              progress: Callable[[float], None] | None = None) -> Radargram:
+        """Run this step on ``rg`` (regardless of ``enabled``).
+
+        ``progress`` is passed on to a step that reports its own progress (one taking a
+        ``progress`` keyword, such as :func:`~snowprobe_widgets.processing.migrate`); an
+        exception it raises stops the step there.
+        """
+        func = STEPS.get(self.name)
+        kwargs = dict(self.params)
+        if progress is not None and _reports_progress(func):
+            kwargs[PROGRESS_ARGUMENT] = progress
+        return func(rg, **kwargs)
 
     def to_dict(self) -> dict[str, Any]:
         """``{"name": ..., "params": {...}, "enabled": ...}``."""
@@ -176,17 +198,21 @@ class ProcessingChain:
               progress: Callable[[float], None] | None = None) -> Radargram:
         """Run the enabled steps in order; each appends its record to the history.
 
-        ``progress``, when given, is called with the fraction of enabled steps done after
-        each one (a long chain, such as a migration of a long line, can show it; an
-        exception it raises stops the chain).
+        ``progress``, when given, is called with the fraction of the chain done: after each
+        enabled step, and inside a step that reports its own progress (a migration of a
+        long line, in bands), each step taking an equal share. An exception it raises
+        stops the chain there, inside such a step too.
         """
         if not isinstance(rg, Radargram):
             raise ValueError(f"radargram must be a Radargram, got {type(rg).__name__}")
         enabled = [step for step in self.steps if step.enabled]
-        for done, step in enumerate(enabled, start=1):
-            rg = step.apply(rg)
+        n = len(enabled)
+        for done, step in enumerate(enabled):
+            inside = None if progress is None else (
+                lambda f, done=done: progress((done + min(max(f, 0.0), 1.0)) / n))
+            rg = step.apply(rg, inside)
             if progress is not None:
-                progress(done / len(enabled))
+                progress((done + 1) / n)
         return rg
 
     # ---------------------------------------------------------------- building

@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import functools
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -88,6 +89,15 @@ _REF_STEP = 1.02
 #: Largest section (samples x traces) whose Stolt map is kept for the next call of the
 #: same geometry (the map takes about 200 bytes per sample).
 _CACHED_MAP_SAMPLES = 100_000
+#: Spectrum cells (frequencies x wavenumbers) of the Stolt map built and applied at a
+#: time on a larger section: bounds its memory (~200 bytes a cell) and sets how often a
+#: long migration reports progress (and can be stopped).
+_MAP_CHUNK_CELLS = 250_000
+#: How many progress reports a diffraction summation makes at most (one per group of
+#: trace lags).
+_KIRCHHOFF_REPORTS = 50
+
+Progress = Callable[[float], None] | None
 
 
 def rms_velocity_m_s(time_from_antenna_s: np.ndarray, velocity_m_s: float,
@@ -110,29 +120,32 @@ class _StoltMap:
     """Where and with which weights Stolt's mapping reads the input spectrum (it depends
     on the section's shape, sampling and velocity only, not on its data)."""
 
-    ntf: int
-    nxf: int
-    shift: np.ndarray  # (nf,) exp(j w t_mid): the spectrum referred to the record middle
-    read: np.ndarray  # (nf, nxf) bool: output bins read below Nyquist
+    read: np.ndarray  # (nf, n_columns) bool: output bins read below Nyquist
     first: np.ndarray  # (n_read,) flat index of the first tap in the extended spectrum
     weight: np.ndarray  # (2 _SINC_HALF, n_read) tap weights, normalised to sum 1
     factor: np.ndarray  # (n_read,) Jacobian times the time-origin phase
 
 
+def _padded_sizes(nt: int, nx: int) -> tuple[int, int]:
+    """Transform lengths in time and position: at least twice the section (no wrap)."""
+    return sfft.next_fast_len(2 * nt, real=True), sfft.next_fast_len(2 * nx)
+
+
 def _build_stolt_map(nt: int, nx: int, dt: float, dx: float, v_half: float,
-                     t_first_s: float) -> _StoltMap:
-    ntf = sfft.next_fast_len(2 * nt, real=True)
-    nxf = sfft.next_fast_len(2 * nx)
+                     t_first_s: float, col_start: int = 0, col_stop: int | None = None
+                     ) -> _StoltMap:
+    """The map of the wavenumber columns ``col_start:col_stop`` (default: all)."""
+    ntf, nxf = _padded_sizes(nt, nx)
     w = 2.0 * np.pi * sfft.rfftfreq(ntf, dt)
     nf = w.size
     dw = w[1]
-    kx = 2.0 * np.pi * sfft.fftfreq(nxf, dx)
+    kx = 2.0 * np.pi * sfft.fftfreq(nxf, dx)[col_start:col_stop]
     t_mid = 0.5 * (nt - 1) * dt  # record middle, from the first sample
     half = _SINC_HALF
     w_in = np.sqrt(w[:, None] ** 2 + (v_half * kx[None, :]) ** 2)
     read = w_in < (nf - 1) * dw  # read below Nyquist only
     w_out = np.broadcast_to(w[:, None], read.shape)[read]
-    cols = np.broadcast_to(np.arange(nxf), read.shape)[read]
+    cols = np.broadcast_to(np.arange(col_start, col_start + kx.size), read.shape)[read]
     w_read = w_in[read]
     idx = w_read / dw
     i0 = np.floor(idx).astype(np.intp)
@@ -157,8 +170,8 @@ def _build_stolt_map(nt: int, nx: int, dt: float, dx: float, v_half: float,
     phase = np.exp(1j * (w_out * t_first_s - w_read * (t_first_s + t_mid)))
     # extended spectrum rows: H-1 mirrored negative frequencies first (see _stolt)
     first = i0 * nxf + cols
-    out = _StoltMap(ntf, nxf, np.exp(1j * w * t_mid), read, first, weight, jac * phase)
-    for arr in (out.shift, out.read, out.first, out.weight, out.factor):
+    out = _StoltMap(read, first, weight, jac * phase)
+    for arr in (out.read, out.first, out.weight, out.factor):
         arr.setflags(write=False)
     return out
 
@@ -176,7 +189,7 @@ def _stolt_map(nt: int, nx: int, dt: float, dx: float, v_half: float,
 
 
 def _stolt(data: np.ndarray, t_first_s: float, dt: float, dx: float,
-           v_half: float) -> np.ndarray:
+           v_half: float, progress: Progress = None) -> np.ndarray:
     """Stolt (1978) f-k migration, constant velocity, exploding reflector velocity v_half.
 
     The section is zero-padded to at least twice its size in time and position to keep
@@ -184,29 +197,42 @@ def _stolt(data: np.ndarray, t_first_s: float, dt: float, dx: float,
     input spectrum at ``w = sqrt(w_tau**2 + (v_half kx)**2)`` and scaled by the Jacobian
     ``w_tau / w``. The input spectrum is referred to the middle of the record (so that it
     oscillates slowly along ``w``) and read with an 8-tap Hann-windowed sinc; the phase of
-    the true time origin is put back exactly afterwards.
+    the true time origin is put back exactly afterwards. ``progress`` (if given) is told
+    the fraction of wavenumber columns mapped after each band of them.
     """
     nt, nx = data.shape
-    m = _stolt_map(nt, nx, float(dt), float(dx), float(v_half), float(t_first_s))
-    nxf = m.nxf
-    spec = sfft.fft(sfft.rfft(data, n=m.ntf, axis=0), n=nxf, axis=1)
-    spec *= m.shift[:, None]
+    args = (nt, nx, float(dt), float(dx), float(v_half), float(t_first_s))
+    ntf, nxf = _padded_sizes(nt, nx)
+    w = 2.0 * np.pi * sfft.rfftfreq(ntf, dt)
+    spec = sfft.fft(sfft.rfft(data, n=ntf, axis=0), n=nxf, axis=1)
+    spec *= np.exp(1j * w * (0.5 * (nt - 1) * dt))[:, None]  # referred to the middle
     # rows -H+1..-1 (negative frequencies: conj at -kx) and H rows of zeros above Nyquist
     half = _SINC_HALF
     neg_kx = (-np.arange(nxf)) % nxf
     below = np.conj(spec[half - 1:0:-1][:, neg_kx])
     flat = np.concatenate([below, spec, np.zeros((half, nxf), dtype=spec.dtype)]).ravel()
-    acc = np.zeros(m.first.size, dtype=complex)
-    for n in range(2 * half):
-        acc += m.weight[n] * flat.take(m.first + n * nxf)
-    out = np.zeros(m.read.shape, dtype=complex)
-    out[m.read] = acc * m.factor
-    out = sfft.irfft(sfft.ifft(out, axis=1)[:, :nx], n=m.ntf, axis=0)[:nt]
+    del spec, below
+    out = np.zeros((w.size, nxf), dtype=complex)
+    # a small section's map is kept whole; a large one is built and used a band of
+    # wavenumber columns at a time (each column reads its own, so the result is the same)
+    step = nxf if nt * nx <= _CACHED_MAP_SAMPLES else max(1, _MAP_CHUNK_CELLS // w.size)
+    for start in range(0, nxf, step):
+        stop = min(start + step, nxf)
+        m = (_stolt_map(*args) if step == nxf
+             else _build_stolt_map(*args, col_start=start, col_stop=stop))
+        acc = np.zeros(m.first.size, dtype=complex)
+        for n in range(2 * half):
+            acc += m.weight[n] * flat.take(m.first + n * nxf)
+        band = out[:, start:stop]
+        band[m.read] = acc * m.factor
+        if progress is not None:
+            progress(stop / nxf)
+    out = sfft.irfft(sfft.ifft(out, axis=1)[:, :nx], n=ntf, axis=0)[:nt]
     return np.ascontiguousarray(out)
 
 
 def _kirchhoff(data: np.ndarray, time_s: np.ndarray, dt: float, dx: float, v_half: float,
-               aperture_m: float) -> np.ndarray:
+               aperture_m: float, progress: Progress = None) -> np.ndarray:
     """Diffraction summation along zero-offset hyperbolas (Yilmaz 2001, section 4.1).
 
     Input traces are first given the 2-D wavelet-shaping ("rho") filter, a half time
@@ -216,6 +242,7 @@ def _kirchhoff(data: np.ndarray, time_s: np.ndarray, dt: float, dx: float, v_hal
     on synthetic sections a 30 degree plane reflector keeps its amplitude within 2 % and a
     point diffractor focuses to within 2 % of Stolt's peak.
     No anti-alias filter is applied: keep the trace spacing below a quarter wavelength.
+    ``progress`` (if given) is told the fraction of trace lags summed, after each group.
     """
     nt, nx = data.shape
     ntf = sfft.next_fast_len(2 * nt, real=True)
@@ -229,7 +256,11 @@ def _kirchhoff(data: np.ndarray, time_s: np.ndarray, dt: float, dx: float, v_hal
     out = np.zeros_like(filt)
     max_lag = min(nx - 1, int(np.floor(aperture_m / dx + 1e-9)))
     scale = dx / np.sqrt(2.0 * np.pi)
-    for lag in range(-max_lag, max_lag + 1):
+    n_lags = 2 * max_lag + 1
+    report_every = max(1, n_lags // _KIRCHHOFF_REPORTS)
+    for done, lag in enumerate(range(-max_lag, max_lag + 1)):
+        if progress is not None and done and done % report_every == 0:
+            progress(done / n_lags)
         h = lag * dx
         t = np.sqrt(tau_pos**2 + (h / v_half) ** 2)
         idx = (t - t_first) / dt
@@ -248,12 +279,15 @@ def _kirchhoff(data: np.ndarray, time_s: np.ndarray, dt: float, dx: float, v_hal
             src = filt[:, : nx + lag]
             dst = out[:n_ok, -lag:]
         dst += (src[i0] * (1.0 - frac) + src[i0 + 1] * frac) * wgt
+    if progress is not None:
+        progress(1.0)
     return out
 
 
 def _stolt_air_gap(data: np.ndarray, t_ant: np.ndarray, dt: float, dx: float,
-                   v: float, h: float) -> np.ndarray:
-    """Stolt migrations at reference RMS velocities, interpolated per output time."""
+                   v: float, h: float, progress: Progress = None) -> np.ndarray:
+    """Stolt migrations at reference RMS velocities, interpolated per output time
+    (``progress``, if given, follows them)."""
     v_t = np.clip(rms_velocity_m_s(t_ant, v, h), v, VELOCITY_MAX_M_S)
     lo, hi = float(v_t.min()), float(v_t.max())
     n_ref = max(2, int(math.ceil(math.log(hi / lo) / math.log(_REF_STEP))) + 1)
@@ -262,11 +296,11 @@ def _stolt_air_gap(data: np.ndarray, t_ant: np.ndarray, dt: float, dx: float,
     i0 = np.minimum(np.floor(pos).astype(np.intp), refs.size - 2)
     w1 = (pos - i0)[:, None]
     out = np.zeros_like(data)
-    for k, v_ref in enumerate(refs):
-        rows = (i0 == k) | (i0 + 1 == k)
-        if not rows.any():
-            continue
-        img = _stolt(data, float(t_ant[0]), dt, dx, 0.5 * float(v_ref))
+    used = [k for k in range(refs.size) if np.any((i0 == k) | (i0 + 1 == k))]
+    for done, k in enumerate(used):
+        part = None if progress is None else (
+            lambda f, done=done: progress((done + f) / len(used)))
+        img = _stolt(data, float(t_ant[0]), dt, dx, 0.5 * float(refs[k]), part)
         weight = np.where((i0 == k)[:, None], 1.0 - w1, 0.0) + np.where(
             (i0 + 1 == k)[:, None], w1, 0.0)
         out += weight * img
@@ -276,7 +310,8 @@ def _stolt_air_gap(data: np.ndarray, t_ant: np.ndarray, dt: float, dx: float,
 @STEPS.register("migrate")
 def migrate(rg: Radargram, velocity_m_s: float, method: str = "fk",
             aperture_m: float | None = None, antenna_height_m: float = 0.0,
-            surface_time_s: float | None = None) -> Radargram:
+            surface_time_s: float | None = None, *,
+            progress: Callable[[float], None] | None = None) -> Radargram:
     """Collapse diffraction hyperbolas onto their apex.
 
     Parameters
@@ -301,6 +336,11 @@ def migrate(rg: Radargram, velocity_m_s: float, method: str = "fk",
         Time of the snow-surface echo on this record, s, in [0, 1 us]. ``None``: the
         record's time is measured from transmission, so the surface lies at 2 h / c0.
         Give it when time-zero moved the surface echo (its ``target_time_s``).
+    progress : callable or None
+        Called with the fraction done (0 to 1) many times during a long migration
+        (after each band of wavenumbers, each group of trace lags); an exception it
+        raises stops the migration there and propagates (a stop button's way to end
+        it). The result does not depend on it.
 
     Returns
     -------
@@ -321,16 +361,16 @@ def migrate(rg: Radargram, velocity_m_s: float, method: str = "fk",
         if aperture_m is not None:
             raise ValueError("aperture_m applies to method = 'kirchhoff' only")
         if h > 0.0:
-            out = _stolt_air_gap(rg.data, t_ant, dt, dx, v, h)
+            out = _stolt_air_gap(rg.data, t_ant, dt, dx, v, h, progress)
         else:
-            out = _stolt(rg.data, float(t_ant[0]), dt, dx, 0.5 * v)
+            out = _stolt(rg.data, float(t_ant[0]), dt, dx, 0.5 * v, progress)
     else:
         length = float(rg.position_m[-1] - rg.position_m[0])
         if aperture_m is None:
             aperture_m = length
         aperture_m = check_param("migrate", "aperture_m", aperture_m, rg)
         v_half = 0.5 * (rms_velocity_m_s(t_ant, v, h) if h > 0.0 else v)
-        out = _kirchhoff(rg.data, t_ant, dt, dx, v_half, aperture_m)
+        out = _kirchhoff(rg.data, t_ant, dt, dx, v_half, aperture_m, progress)
     rec = record("migrate", velocity_m_s=v, method=method, aperture_m=aperture_m,
                  antenna_height_m=h, surface_time_s=surface_time_s)
     return rg.with_data(out, rec)

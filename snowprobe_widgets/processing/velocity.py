@@ -5,11 +5,11 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import signal
 
 from .._validate import check_range
 from ..radargram import Radargram
 from ._common import VELOCITY_MAX_M_S, VELOCITY_MIN_M_S, check_velocity, sample_interval_s
+from .dsp import analytic_signal
 
 __all__ = ["VelocityEstimate", "velocity_analysis", "semblance"]
 
@@ -66,7 +66,7 @@ def semblance(gathered: np.ndarray, valid: np.ndarray) -> np.ndarray:
 
 def _refine_apex_s(trace: np.ndarray, t: np.ndarray, t0: float, search: float) -> float:
     """Time of the envelope peak of ``trace`` within ``t0 +- search`` (parabolic refinement)."""
-    env = np.abs(signal.hilbert(trace))
+    env = np.abs(analytic_signal(trace))
     win = np.flatnonzero(np.abs(t - t0) <= search + 1e-15)
     if win.size == 0 or not np.any(env[win] > 0.0):
         return t0

@@ -30,7 +30,6 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-from scipy.optimize import linear_sum_assignment
 
 from .._validate import check_range
 from ..constants import C0_M_S
@@ -289,6 +288,8 @@ def score(exercise: Exercise, marks: Sequence[tuple[float, float]] | Answer) -> 
                 if t.reaches(x, z):
                     cost[i, j] = math.hypot((x - t.position_m) / t.lateral_m,
                                             (z - t.depth_m) / t.vertical_m)
+        from scipy.optimize import linear_sum_assignment  # 27 MB: only when scoring
+
         rows, cols = linear_sum_assignment(cost)
         found = {int(i): int(j) for i, j in zip(rows, cols, strict=True)
                  if cost[i, j] < _OUT_OF_REACH}

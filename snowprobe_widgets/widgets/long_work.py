@@ -15,6 +15,9 @@ from typing import Any
 
 import ipywidgets as widgets
 
+#: Smallest advance of the fraction done that the progress bar is sent.
+_BAR_STEP = 0.01
+
 
 class WorkStopped(ValueError):
     """The visitor stopped the calculation (shown as a plain message, like a refusal)."""
@@ -64,17 +67,24 @@ class LongWork:
     def progress(self, show: Callable[[float], None] | None = None
                  ) -> Callable[[float], None]:
         """A progress callback that shows the fraction done (on ``show``, else on
-        :attr:`bar`), or stops the work by raising :class:`WorkStopped`."""
+        :attr:`bar`, in steps of at least a hundredth), or stops the work by raising
+        :class:`WorkStopped` (at every report, shown or not)."""
         def on_bar(fraction: float) -> None:
             self.bar.value = fraction
 
         shown = on_bar if show is None else show
+        last = [-1.0]
 
         def report(fraction: float) -> None:
             if self._stop.is_set():
                 raise WorkStopped("Stopped: the calculation was cancelled; the page keeps "
                                   "what it showed before.")
-            shown(float(min(max(fraction, 0.0), 1.0)))
+            fraction = float(min(max(fraction, 0.0), 1.0))
+            # a step of a hundredth or more: a long step reports far more often than
+            # the bar can show, and every change is a message to the page
+            if fraction - last[0] >= _BAR_STEP or fraction in (0.0, 1.0):
+                last[0] = fraction
+                shown(fraction)
 
         return report
 

@@ -57,8 +57,8 @@ IMPORT_STEPS = [
     ("python + psutil", ""),
     ("ipykernel + ipywidgets (every kernel)", "import ipykernel.ipkernel, ipywidgets"),
     ("numpy", "import numpy"),
-    ("scipy.fft + scipy.special", "import scipy.fft, scipy.special"),
-    ("scipy.signal (pulls scipy.stats, optimize, interpolate)", "import scipy.signal"),
+    ("scipy.fft + scipy.special + scipy.ndimage", "import scipy.fft, scipy.special, "
+                                                  "scipy.ndimage"),
     ("pandas (imported by bqplot)", "import pandas"),
     ("bqplot", "import bqplot"),
     ("snowprobe_widgets model layer", "import snowprobe_widgets.synthesis, "
@@ -207,6 +207,12 @@ def _import_costs() -> list[tuple[str, float]]:
         code.append(statement or "pass")
         code.append("now = p.memory_info().rss; "
                     f"print({label!r} + '\\t' + str((now - last) / 2**20)); last = now")
+    # scipy.signal pulled stats, optimize, interpolate, sparse, linalg and spatial in
+    # (about 48 MB); processing.dsp replaces it: say if any of them still comes in
+    code.append("heavy = [m for m in ('scipy.signal', 'scipy.stats', 'scipy.optimize', "
+                "'scipy.interpolate', 'scipy.integrate') if m in sys.modules]; "
+                "print('heavy scipy modules loaded: ' + (', '.join(heavy) or 'none') "
+                "+ '\t0')")
     done = subprocess.run([sys.executable, "-c", "\n".join(code)], capture_output=True,
                           text=True, check=True, env=dict(os.environ, MALLOC_ARENA_MAX="2"))
     rows = [line.split("\t") for line in done.stdout.splitlines() if "\t" in line]

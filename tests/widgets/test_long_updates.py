@@ -123,3 +123,45 @@ def _stopping(work: LongWork):
         return wrapped
 
     return progress
+
+
+def test_stop_during_a_long_migration_ends_it_inside_the_step(app, monkeypatch):
+    """The stop is heard inside the migration (at its next band of wavenumbers), not
+    only after it: the work ends at the first report after the stop."""
+    from snowprobe_widgets.processing import migration
+
+    monkeypatch.setattr(migration, "_CACHED_MAP_SAMPLES", 0)
+    monkeypatch.setattr(migration, "_MAP_CHUNK_CELLS", 10_000)  # many small bands
+    app.long_migration_cells = 0
+    # through a 3 m air gap: a set of Stolt migrations, the longest step by far
+    chain = app.processing.chain().with_step("migrate", velocity_m_s=2.2e8,
+                                             antenna_height_m=3.0)
+    n_steps = len([s for s in chain.steps if s.enabled])
+    processed = app.radargram
+    real = app.update_work.progress
+    reports: list[float] = []
+    stopped_at: list[tuple[float, int]] = []
+
+    def stop_inside_the_migration(show=None):
+        report = real(show)
+
+        def wrapped(fraction: float) -> None:
+            reports.append(fraction)
+            if not stopped_at and (n_steps - 1) / n_steps < fraction < 1.0:
+                stopped_at.append((time.perf_counter(), len(reports)))
+                app.update_work.stop_button.click()  # the visitor presses stop
+            report(fraction)
+
+        return wrapped
+
+    app.update_work.progress = stop_inside_the_migration
+    app.processing.show(chain)
+    app._on_processing()
+    app.update_work.thread.join(120)
+    ended = time.perf_counter()
+    assert stopped_at, "the migration reported no progress of its own"
+    when, count = stopped_at[0]
+    assert len(reports) == count  # the report at which stop was pressed ended the work
+    assert reports[-1] < 1.0  # the chain never finished
+    assert ended - when < 10.0  # bounded (upper bound under load; it is milliseconds)
+    assert app.radargram is processed and "Stopped" in app.message_text
