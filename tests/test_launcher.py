@@ -402,3 +402,51 @@ def test_warm_sessions_come_from_the_session_cap_or_are_refused_beyond_it():
     with pytest.raises(launcher.LauncherError, match=r"--warm 4 .* 20 sessions .* "
                                                      r"--max-sessions 15"):
         launcher.warm_sessions(4, 15, 5)
+
+
+def test_warm_sessions_are_counted_ready_when_their_notebook_has_run(capsys):
+    import asyncio
+
+    options = launcher.ServeOptions(dashboard=None, host="127.0.0.1", port=0, idle_s=600.0,
+                                    max_sessions=4, warm=2, open_browser=False,
+                                    workdir=Path("."), verbose=False)
+
+    async def check() -> None:
+        loop = asyncio.get_running_loop()
+
+        def done(value=None, error=None):
+            future = loop.create_future()
+            if error is None:
+                future.set_result(value)
+            else:
+                future.set_exception(error)
+            return future
+
+        manager = launcher._kernel_manager_class(options)()
+        running = loop.create_future()  # a notebook still running
+        broken = done(error=RuntimeError("notebook stopped"))
+        broken.exception()  # retrieved: no warning at exit
+        starting = loop.create_future()  # a kernel still starting (no result yet)
+        manager._pools = {"design.ipynb": [
+            done({"kernel_id": "a", "task": done(("rendered", None))}),
+            done({"kernel_id": "b", "task": running}),
+            done({"kernel_id": "c", "task": broken}),
+            starting]}
+        assert manager.warm_ready() == 1
+        manager._say_when_warm()
+        assert capsys.readouterr().out == ""  # 1 of 2 is not all
+        running.set_result(("rendered", None))
+        assert manager.warm_ready() == 2
+        manager._say_when_warm()
+        manager._say_when_warm()  # said once, not at every look
+        said = capsys.readouterr().out
+        assert said == f"snowprobe: 2 {launcher.WARM_READY_SAYS}\n"
+        manager._pools["design.ipynb"].pop(0)  # a visitor took one: said again when refilled
+        manager._say_when_warm()
+        manager._pools["design.ipynb"].insert(0, done({"kernel_id": "d",
+                                                       "task": done(("rendered", None))}))
+        manager._say_when_warm()
+        assert capsys.readouterr().out == said
+        starting.cancel()
+
+    asyncio.run(check())
