@@ -13,6 +13,7 @@ Coordinates: ``x`` along the survey line (``position_m``), ``y`` across it
 
 from __future__ import annotations
 
+import functools
 import math
 import os
 from dataclasses import dataclass, field
@@ -488,7 +489,12 @@ class Clutter:
         density change ``+-thin_layer_contrast`` times the local layer density (random
         sign), clipped to keep the density within [30, 917] kg/m3. Scatterers and layers
         draw from independent streams of the seed, so changing one leaves the other alone.
+        The last two draws are kept (the field is read-only), so the several readers of
+        one update, and moves that change none of the three, draw nothing again.
         """
+        return _realised(self, snowpack, survey)
+
+    def _draw(self, snowpack: Snowpack, survey: Survey) -> ClutterField:
         depth = snowpack.depth_m
         seq_scat, seq_layers = np.random.SeedSequence(self.seed).spawn(2)
         rng = np.random.default_rng(seq_scat)
@@ -507,6 +513,11 @@ class Clutter:
         local = np.array([snowpack.layer_at(d).density_kg_m3 for d in top])
         new = np.clip(local * (1.0 + sign * self.thin_layer_contrast), 30.0, 917.0)
         return ClutterField(x, y, z, size, top, thick, new - local)
+
+
+@functools.lru_cache(maxsize=2)  # a big field holds megabytes: the current and the last
+def _realised(clutter: Clutter, snowpack: Snowpack, survey: Survey) -> ClutterField:
+    return clutter._draw(snowpack, survey)
 
 
 # --------------------------------------------------------------------------- scenario

@@ -29,7 +29,6 @@ from __future__ import annotations
 
 import concurrent.futures as cf
 import contextlib
-import ctypes
 import functools
 import itertools
 import json
@@ -49,6 +48,13 @@ from . import __version__
 from ._validate import check_range
 from .cautions import CAUTION_SHORT
 from .detection import DEFAULT_THRESHOLD_DB
+from .heap import (
+    DEFAULT_MMAP_THRESHOLD_BYTES,
+    M_MMAP_THRESHOLD,
+    M_TRIM_THRESHOLD,
+    glibc,
+    keep_freed_memory,
+)
 from .scene import Scenario
 from .sweep_paths import (
     Choice,
@@ -318,19 +324,6 @@ def _check_plan(plan: _Plan) -> None:
 # --------------------------------------------------------------------------- workers
 
 
-#: glibc's mallopt parameters (malloc.h).
-_M_TRIM_THRESHOLD, _M_MMAP_THRESHOLD = -1, -3
-
-
-@functools.lru_cache(maxsize=1)
-def _glibc() -> Any:
-    try:
-        libc = ctypes.CDLL("libc.so.6")
-    except OSError:
-        return None
-    return libc if hasattr(libc, "mallopt") and hasattr(libc, "malloc_trim") else None
-
-
 @contextlib.contextmanager
 def _roomy_malloc() -> Iterator[None]:
     """Let glibc keep freed memory for the next realization while a chunk runs.
@@ -347,17 +340,15 @@ def _roomy_malloc() -> Iterator[None]:
         trim = int(os.environ.get("MALLOC_TRIM_THRESHOLD_", ""))
     except ValueError:
         trim = None
-    libc = _glibc() if trim is not None else None
-    if libc is None:
+    if trim is None or not keep_freed_memory(16 * 2**20, 256 * 2**20):
         yield
         return
-    libc.mallopt(_M_MMAP_THRESHOLD, 16 * 2**20)
-    libc.mallopt(_M_TRIM_THRESHOLD, 256 * 2**20)
     try:
         yield
     finally:
-        libc.mallopt(_M_TRIM_THRESHOLD, trim)
-        libc.mallopt(_M_MMAP_THRESHOLD, 128 * 2**10)  # glibc's fixed default
+        libc = glibc()
+        libc.mallopt(M_TRIM_THRESHOLD, trim)
+        libc.mallopt(M_MMAP_THRESHOLD, DEFAULT_MMAP_THRESHOLD_BYTES)
         libc.malloc_trim(0)
 
 

@@ -18,7 +18,7 @@ import xarray as xr
 from scipy.stats import binomtest
 
 import snowprobe_widgets
-from snowprobe_widgets import sweeps
+from snowprobe_widgets import heap, sweeps
 from snowprobe_widgets.launcher import main as snowprobe_main
 from snowprobe_widgets.scene import Scenario
 from snowprobe_widgets.sweep_spec import spec_to_json
@@ -301,7 +301,7 @@ def test_dask_workers_malloc_setting_is_lifted_while_a_chunk_runs():
     import subprocess
     import sys
 
-    if sweeps._glibc() is None:
+    if heap.glibc() is None:
         pytest.skip("glibc only")
     code = (
         "import resource, numpy as np\n"

@@ -11,13 +11,19 @@ change:
   simulation to rounding (tests/widgets/test_explorer.py checks it);
 * a processing change re-runs the chain on the cached raw section, never the simulation;
 * colour changes stay inside the radargram view (no reprocessing);
-* the link budget and the materials lab recompute only when their tab is shown.
+* the link budget and the materials lab recompute only when their tab is shown;
+* the picture goes first: a move sends the new radargram before any other view changes.
+  On a served page (:attr:`ScenarioExplorer.views_follow_s`) the other views (scene,
+  trace, spectrum, detections, verdict cards, status) follow from the kernel's event loop
+  once the picture's message has left, one update for a burst of moves; anything that
+  reads them (``budgets``, ``design``, exports) brings them up to date first.
 
 Heavy sliders send their value when released, so the last position always wins.
 """
 
 from __future__ import annotations
 
+import asyncio
 import html
 import logging
 import math
@@ -34,6 +40,7 @@ from snowprobe_widgets.detection import DEFAULT_THRESHOLD_DB
 from snowprobe_widgets.fdtd import fdtd_trace, frozen_at
 from snowprobe_widgets.fdtd2d import scenario_check
 from snowprobe_widgets.fields import screen_message
+from snowprobe_widgets.heap import keep_freed_memory
 from snowprobe_widgets.processing import ProcessingChain
 from snowprobe_widgets.radargram import Radargram
 from snowprobe_widgets.scene import Scenario
@@ -89,6 +96,19 @@ UNDO_DEPTH = 50
 #: An update of more work than this (samples x traces x clutter scatterers, about 1 ns
 #: each: some 2 s) runs beside the page on a served dashboard, with progress and a stop.
 LONG_UPDATE_WORK: float = 2e9
+
+#: On a served page the views other than the picture follow a move this many seconds
+#: later (timer restarted by every move): the picture's message leaves the kernel and is
+#: drawn first, and moves that come faster than this (a key held or tapped quickly) are
+#: not slowed by views the next move replaces. With 30 ms, moves made on each paint
+#: waited for the last move's views (~10 ms of CPU) and were no faster than before
+#: (tests/benchmarks/bench_dashboard.py).
+VIEWS_FOLLOW_S: float = 0.15
+
+#: A served kernel keeps freed memory for the next move (:mod:`snowprobe_widgets.heap`):
+#: arrays below the first size come from the heap, and up to the second of freed heap
+#: stays with the kernel (a person move of the default design peaks near 20 MB).
+HEAP_MMAP_THRESHOLD_BYTES, HEAP_TRIM_THRESHOLD_BYTES = 16 * 2**20, 64 * 2**20
 
 #: A processing chain with an enabled migration runs beside the page (progress, stop) on
 #: a served dashboard from this many samples x traces on (a chosen size, not measured).
@@ -203,6 +223,11 @@ class ScenarioExplorer(widgets.VBox):
     ``person``, ``snowpack``, ``debris``, ``radar`` (control panels), ``processing``,
     ``section``, ``radargram_view``, ``trace_view``, ``spectrum_view``, ``budget_view``,
     ``materials``.
+
+    A move draws the picture first. With :attr:`views_follow_s` set (served pages: 0.15 s)
+    and an event loop running, the other views follow that long after the last move;
+    :meth:`flush_views` brings them up to date at once (``budgets``, :meth:`design`, the
+    exports and the report call it).
     """
 
     def __init__(self, scenario: Scenario | None = None, **kwargs: Any) -> None:
@@ -223,6 +248,13 @@ class ScenarioExplorer(widgets.VBox):
         #: a big survey or a long migration: progress bar and stop button (hidden idle)
         self.update_work = LongWork("stop this update")
         self._precomputed: tuple[Radargram, ProcessingChain, Radargram] | None = None
+        #: seconds after a move's picture that the other views follow (None: at once);
+        #: on by default when served, and only where an event loop runs
+        self.views_follow_s: float | None = VIEWS_FOLLOW_S if served() else None
+        if served():
+            keep_freed_memory(HEAP_MMAP_THRESHOLD_BYTES, HEAP_TRIM_THRESHOLD_BYTES)
+        self._pending: list[Callable[[], None]] = []
+        self._pending_timer: asyncio.TimerHandle | None = None
 
         # controls
         self.person = PersonPanel()
@@ -408,6 +440,7 @@ class ScenarioExplorer(widgets.VBox):
     def budgets(self) -> tuple[Any, ...]:
         """The link budget of each buried person on screen, in order (None where refused),
         at the detection level set on screen."""
+        self.flush_views()
         return tuple(self._current_budgets)
 
     @property
@@ -581,24 +614,77 @@ class ScenarioExplorer(widgets.VBox):
                 self._check2d_at is not None and old != scenario):
             self.trace_view.clear_reference()
             self._check2d_at = None
-        self.section.update(scenario)
         if pick_m is not None:
             self.radargram_view.picked_position_m = None
         self.processing.follow_antenna_height(scenario.radar.antenna_height_m)
         if old is None or old.radar != scenario.radar or old.survey != scenario.survey:
             self.processing.follow(scenario)
-        self._process(pick_m)
         self._stale = {"budget": True, "materials": True, "compare": True}
-        self._update_verdicts()
-        self._sync_demo()
-        self._refresh_lazy()
         self.updates += 1
+        self._process(pick_m)  # the picture first
+        self._after_picture(self._update_scene, self._update_verdicts, self._sync_demo,
+                            self._refresh_lazy, self._update_status)
+
+    def _update_scene(self) -> None:
+        self.section.update(self.scenario)
+
+    def _update_status(self) -> None:
         runs = self.simulation.runs
         self.status.value = (f"<small>updates={self.updates} | simulated: column "
                              f"{runs['column']}x, objects {runs['objects']}x, noise "
                              f"{runs['noise']}x</small>")
         self.validity.value = "".join(f"<small>&#9888; {html.escape(w)}</small><br>"
-                                      for w in scenario_warnings(scenario))
+                                      for w in scenario_warnings(self.scenario))
+
+    def _after_picture(self, *jobs: Callable[[], None]) -> None:
+        """Run ``jobs`` (view updates) now, or :attr:`views_follow_s` after the last
+        picture when an event loop runs (each job once, in the order first asked)."""
+        for job in jobs:
+            if job not in self._pending:
+                self._pending.append(job)
+        loop = None
+        if self.views_follow_s is not None:
+            try:
+                loop = asyncio.get_running_loop()
+            except RuntimeError:  # a script, or a long update's worker thread
+                pass
+        self._cancel_timer()  # every move restarts the wait
+        if loop is None:
+            self._run_pending()
+        else:
+            self._pending_timer = loop.call_later(self.views_follow_s, self._views_follow)
+
+    def _cancel_timer(self) -> None:
+        if self._pending_timer is not None:
+            self._pending_timer.cancel()
+            self._pending_timer = None
+
+    def _run_pending(self) -> None:
+        jobs, self._pending = self._pending, []
+        for job in jobs:
+            job()
+
+    def _views_follow(self) -> None:
+        """The timer's call: the views follow the picture; a fault shows a message."""
+        self._pending_timer = None
+        jobs, self._pending = self._pending, []
+        failed: list[Exception] = []
+        for job in jobs:
+            try:
+                job()
+            except Exception as exc:  # the other views still follow
+                failed.append(exc)
+
+        def report() -> None:
+            raise failed[0]
+
+        if failed:  # a plain message, as for any callback (a success clears nothing)
+            guarded(self.message, report, self._restore_controls)
+
+    def flush_views(self) -> None:
+        """Bring the views that follow the picture up to date now (see the module notes)."""
+        self._cancel_timer()
+        self._run_pending()
 
     def _update_verdicts(self) -> None:
         """One verdict card per buried person, from the model's budgets (cached per person
@@ -624,6 +710,7 @@ class ScenarioExplorer(widgets.VBox):
 
     def design(self) -> Design:
         """The design on screen: scenario, section on screen and budgets."""
+        self.flush_views()
         return Design(self.scenario, self._shown, tuple(self._current_budgets),
                       tuple(self._problems))
 
@@ -723,7 +810,7 @@ class ScenarioExplorer(widgets.VBox):
         self._chain = chain[0]
         self._processed = done[0]
         self._show_section(pick_m)
-        self._update_detections()
+        self._after_picture(self._update_detections)
 
     def _show_section(self, pick_m: float | None = None) -> None:
         processed = getattr(self, "_processed", None)
@@ -740,7 +827,7 @@ class ScenarioExplorer(widgets.VBox):
                                 column_optics(self.scenario).mean_velocity_m_s)
         if pick_m is not None or view.picked_position_m is None:
             view.pick_position(pick_m if pick_m is not None else float(rg.position_m[0]))
-        self._update_trace()
+        self._after_picture(self._update_trace)
 
     def _column_echoes(self) -> list[tuple[str, float]]:
         """Labelled interface echo times of the layered column (cached per column)."""
@@ -780,7 +867,7 @@ class ScenarioExplorer(widgets.VBox):
 
     def _on_pick(self, change: Any) -> None:
         if change["new"] is not None:
-            self._update_trace()
+            self._after_picture(self._update_trace)
             if self._check2d_at is not None and \
                     self.radargram_view.picked_position_m != self._check2d_at:
                 self.trace_view.clear_reference()  # the 2-D check holds for one position
@@ -926,6 +1013,7 @@ class ScenarioExplorer(widgets.VBox):
 
     def export_bytes(self, kind: str) -> bytes:
         """The bytes of one export of what is on screen (layouts in ``widgets.exports``)."""
+        self.flush_views()
         rg, raw = self._shown, self._raw
         if rg is None or raw is None:
             raise ValueError("nothing to export yet")
@@ -953,6 +1041,7 @@ class ScenarioExplorer(widgets.VBox):
     def report(self) -> str:
         """The one-page HTML design summary of what is on screen (full tables after a page
         break; :func:`snowprobe_widgets.widgets.exports.report_html`)."""
+        self.flush_views()
         s, rg, view = self.scenario, self._shown, self.radargram_view
         if rg is None:
             raise ValueError("nothing to report yet")

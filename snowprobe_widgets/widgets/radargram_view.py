@@ -1,9 +1,11 @@
 """A radargram on screen: palette-PNG picture on bqplot axes, markers, and a trace picker.
 
 The picture is a bqplot ``Image`` mark fed an 8-bit palette PNG. That mark redraws only
-when its ``image`` trait receives a *new* ``ipywidgets.Image``, so every update builds one,
-hands it to the mark and closes the previous one; all of them share one ``Layout`` so no
-layout models pile up either. The figure, scales and axes are built once.
+when its ``image`` trait receives *another* ``ipywidgets.Image``, so the view keeps two and
+alternates: an update writes the new PNG into the one not shown, then hands it to the mark
+(two messages; no widget is made or closed per update, which costs the browser a model's
+creation and removal each time). Both share one ``Layout``. The figure, scales and axes
+are built once.
 
 Display units only live here: positions in m, two-way time in ns (increasing downward),
 depth in m on an optional right-hand axis.
@@ -162,6 +164,8 @@ class RadargramView(widgets.VBox):
         self._depth_params: tuple[float, float] | None = None
         self._range: tuple[float, float] = (-1.0, 1.0)
         self._image_layout = widgets.Layout()
+        #: the two pictures the mark alternates between (see the module notes)
+        self._images = (self._blank_image(colour_map_name), self._blank_image(colour_map_name))
 
         self._x_scale = bqplot.LinearScale(min=0.0, max=1.0)
         self._t_scale = bqplot.LinearScale(min=0.0, max=1.0, reverse=True)
@@ -169,7 +173,7 @@ class RadargramView(widgets.VBox):
         scales = {"x": self._x_scale, "y": self._t_scale}
 
         self._image_mark = bqplot.Image(
-            image=self._blank_image(colour_map_name), scales=scales, x=[0.0, 1.0], y=[1.0, 0.0])
+            image=self._images[0], scales=scales, x=[0.0, 1.0], y=[1.0, 0.0])
         self._image_mark.on_element_click(self._on_image_click)
         self._truth_mark = bqplot.Scatter(
             x=np.zeros(0), y=np.zeros(0), names=[], display_names=True, scales=scales,
@@ -348,8 +352,8 @@ class RadargramView(widgets.VBox):
         with self._t_scale.hold_sync():
             self._t_scale.min, self._t_scale.max = t_lo, t_hi
         self._update_depth_scale()
+        self._draw_picture(extent=((x_lo, x_hi), (t_hi, t_lo)))  # the picture's message first
         self._update_truth(rg)
-        self._draw_picture(extent=((x_lo, x_hi), (t_hi, t_lo)))
         if self.picked_position_m is not None:
             self.pick_position(self.picked_position_m)
 
@@ -362,14 +366,13 @@ class RadargramView(widgets.VBox):
         self._range = colour_range(rg.data, self.clip_slider.value, COLOUR_MAP_KINDS[name])
         png = encode_palette_png(scale_to_index(rg.data, *self._range), colour_map(name),
                                  compress_level=self._png_level)
-        new_image = widgets.Image(value=png, format="png", layout=self._image_layout)
-        old_image = self._image_mark.image
+        spare = self._images[1] if self._image_mark.image is self._images[0] \
+            else self._images[0]
+        spare.value = png  # not on screen: the browser only stores it
         with self._image_mark.hold_sync():
-            self._image_mark.image = new_image
+            self._image_mark.image = spare
             if extent is not None:
                 self._image_mark.x, self._image_mark.y = extent
-        if old_image is not None:
-            old_image.close()
         self._draws += 1
         self.status.value = self._status_text()
 

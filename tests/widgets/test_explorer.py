@@ -6,6 +6,7 @@ import dataclasses
 import io
 import threading
 import time
+from typing import Any
 
 import numpy as np
 import pytest
@@ -640,3 +641,76 @@ def test_the_full_wave_check_runs_beside_the_page_and_can_be_stopped(app: Scenar
     assert tv.progress.value < 1.0  # stopped before the end
     app.long_work.progress = real
     assert app.run_fdtd() is not None  # a later check runs to the end
+
+
+
+# --------------------------------------------------------------------------- picture first
+def _watch(app: ScenarioExplorer) -> tuple[list[str], Any]:
+    """Record, in order, which of the app's views change; returns (order, stop)."""
+    order: list[str] = []
+    watched = [(app.radargram_view.image_mark, "image", "picture"),
+               (app.verdicts, "value", "verdicts"), (app.status, "value", "status"),
+               (app.trace_view.line, "y", "trace")]
+    handlers = []
+    for widget, trait, name in watched:
+        handler = (lambda n: lambda change: order.append(n))(name)
+        widget.observe(handler, names=trait)
+        handlers.append((widget, trait, handler))
+
+    def stop() -> None:
+        for widget, trait, handler in handlers:
+            widget.unobserve(handler, names=trait)
+
+    return order, stop
+
+
+def test_a_move_draws_the_picture_before_any_other_view(app: ScenarioExplorer) -> None:
+    order, stop = _watch(app)
+    try:
+        app.person.depth.value = 1.3
+    finally:
+        stop()
+    assert order[0] == "picture"
+    # no event loop here: the other views follow within the same call
+    assert {"verdicts", "status", "trace"} <= set(order)
+    assert "1.3 m down" in app.verdicts.value
+
+
+def test_served_views_follow_the_picture_once_per_burst_of_moves() -> None:
+    import asyncio
+
+    app = ScenarioExplorer()
+    app.views_follow_s = 0.05
+    calls = []
+    app.verdicts.observe(lambda change: calls.append(change["new"]), names="value")
+
+    async def moves() -> None:
+        draws = app.radargram_view.draws
+        for depth in (0.9, 1.0, 1.1):  # three moves faster than views_follow_s
+            app.person.depth.value = depth
+        assert app.radargram_view.draws == draws + 3  # every move drew its picture
+        assert calls == [] and "1.1 m down" not in app.verdicts.value  # cards not yet
+        await asyncio.sleep(0.3)
+        assert len(calls) == 1 and "1.1 m down" in calls[0]  # once, for the last move
+        app.person.depth.value = 1.2
+        assert app.budgets[0].target_depth_m == pytest.approx(1.2)  # reading flushes them
+        assert "1.2 m down" in app.verdicts.value
+        await asyncio.sleep(0.2)
+        assert len(calls) == 2  # the flushed update does not run again
+
+    # in a thread of its own: Playwright's sync API (browser tests in the same session)
+    # keeps an event loop running in the main thread
+    failures: list[BaseException] = []
+
+    def run() -> None:
+        try:
+            asyncio.run(moves())
+        except BaseException as exc:  # an assertion inside, reported below
+            failures.append(exc)
+
+    worker = threading.Thread(target=run)
+    worker.start()
+    worker.join(60)
+    assert not worker.is_alive()
+    if failures:
+        raise failures[0]
