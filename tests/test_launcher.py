@@ -406,6 +406,7 @@ def test_warm_sessions_come_from_the_session_cap_or_are_refused_beyond_it():
 
 def test_warm_sessions_are_counted_ready_when_their_notebook_has_run(capsys):
     import asyncio
+    import threading
 
     options = launcher.ServeOptions(dashboard=None, host="127.0.0.1", port=0, idle_s=600.0,
                                     max_sessions=4, warm=2, open_browser=False,
@@ -449,4 +450,18 @@ def test_warm_sessions_are_counted_ready_when_their_notebook_has_run(capsys):
         assert capsys.readouterr().out == said
         starting.cancel()
 
-    asyncio.run(check())
+    # in a thread of its own: during the browser tests Playwright's sync API keeps an event
+    # loop running in the main thread, where asyncio.run refuses to start
+    failed: list[BaseException] = []
+
+    def run() -> None:
+        try:
+            asyncio.run(check())
+        except BaseException as exc:  # handed to the test's thread
+            failed.append(exc)
+
+    worker = threading.Thread(target=run)
+    worker.start()
+    worker.join()
+    if failed:
+        raise failed[0]
