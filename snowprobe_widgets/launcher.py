@@ -87,6 +87,9 @@ IOPUB_WAIT_S: int = 300
 #: the replacements start after.
 WARM_REFILL_DELAY_S: float = 20.0
 
+#: What the launcher prints, after the count, each time all its warm sessions are ready.
+WARM_READY_SAYS: str = "warm sessions ready (started and drawn)"
+
 #: ``--warm`` without a number: size the warm pools from the session cap.
 WARM_FROM_CAP: int = -1
 
@@ -117,6 +120,20 @@ PAGE_POLICY: str = (
     "connect-src 'self'; frame-ancestors 'self'; form-action 'self'; base-uri 'self'"
 )
 
+#: The page's LaTeX typesetter (under the server's base address): a script of the template
+#: that typesets nothing. The dashboards show no mathematics, yet the widget library hands
+#: every control label to the typesetter, and the stock one loaded all of MathJax (about
+#: 880 kB of script, started in every visitor's browser).
+NO_MATH_SCRIPT: str = f"voila/templates/{TEMPLATE_NAME}/static/no-math.js"
+
+#: Header of the waiting page's request for the dashboard itself. A browser's visit first
+#: gets a small complete page (template ``waiting.html``) that asks for the dashboard with
+#: this header and shows it when it has come: a document still loading kept each waiting
+#: headless browser busy (about 0.1 CPU-s per second of waiting, its loading indicator),
+#: which with a class arriving together was most of the machine. A request without the
+#: header starts no session.
+PAGE_HEADER: str = "X-Snowprobe-Page"
+
 _PACKAGE_DIR = Path(__file__).resolve().parent
 _TEMPLATE_ROOT = _PACKAGE_DIR / "voila_template"
 _LOOPBACK_NAMES = {"localhost", "localhost.localdomain", "ip6-localhost"}
@@ -139,7 +156,7 @@ who can reach the page:
 serving more people:
   each session costs the server about 4 CPU-seconds to start and draw (kernel
   and server) and about 140 MB (proportional memory; 190 MB resident); each
-  visitor's browser needs about 5 CPU-seconds more. Visitors arriving together
+  visitor's browser needs about 4 CPU-seconds more. Visitors arriving together
   wait about (visitors x those costs / cores). --warm starts sessions before
   people arrive. For more, use more cores, several servers behind a proxy, or
   JupyterHub (see the README).
@@ -342,7 +359,10 @@ def _page_config_hook(boards: Sequence[Dashboard]) -> Callable[..., dict]:
         for b in boards
     ]
 
-    def hook(page_config: dict, **_ignored: Any) -> dict:
+    def hook(page_config: dict, base_url: str = "/", **_ignored: Any) -> dict:
+        # a typesetter that typesets nothing instead of MathJax (see NO_MATH_SCRIPT)
+        page_config["fullMathjaxUrl"] = f"{base_url.rstrip('/')}/{NO_MATH_SCRIPT}"
+        page_config["mathjaxConfig"] = "none"
         page_config["snowprobe"] = {
             "caution": CAUTION_TEXT,
             "version": __version__,
@@ -425,6 +445,7 @@ def _kernel_manager_class(options: ServeOptions) -> type:
     class BoundedKernelManager(AsyncMappingKernelManager):
         _starting = 0
         _release_callback: Any = None
+        _warm_said = False
 
         def __init__(self, *args: Any, **kwargs: Any) -> None:
             super().__init__(*args, **kwargs)
@@ -436,6 +457,37 @@ def _kernel_manager_class(options: ServeOptions) -> type:
         def cwd_for_path(self, path: str, **kwargs: Any) -> str:
             return str(options.workdir)
 
+        def _pool_results(self) -> list[dict]:
+            """What Voila's pools hold for the sessions already started: one dict each
+            (its ``kernel_id`` and the ``task`` running its notebook)."""
+            found = []
+            for pool in (getattr(self, "_pools", {}) or {}).values():
+                for item in pool:
+                    done = getattr(item, "done", None)
+                    if done is None or not done() or item.cancelled() or item.exception():
+                        continue
+                    found.append(item.result())
+            return found
+
+        def warm_ready(self) -> int:
+            """Warm sessions whose notebook has run to the end: pages ready to hand out."""
+            ready = 0
+            for started in self._pool_results():
+                run = started.get("task")
+                if run is not None and run.done() and not run.cancelled() \
+                        and run.exception() is None:
+                    ready += 1
+            return ready
+
+        def _say_when_warm(self) -> None:
+            """Print one line each time every warm session has become ready (the operator
+            then knows a class can come; ``bench_crowd.py --warm`` waits for it)."""
+            wanted = options.warm * len(getattr(self, "_pools", None) or {})
+            ready = self.warm_ready()
+            if wanted and ready >= wanted and not self._warm_said:
+                print(f"snowprobe: {ready} {WARM_READY_SAYS}", flush=True)
+            self._warm_said = bool(wanted) and ready >= wanted
+
         def _pooled(self) -> set[str]:
             """Kernels Voila keeps warm for future visitors (never released here).
 
@@ -443,16 +495,11 @@ def _kernel_manager_class(options: ServeOptions) -> type:
             the pool since the last look was just handed to a visitor: its time without
             a page counts from now, not from when it was started in advance.
             """
-            pools = getattr(self, "_pools", {}) or {}
             ids: set[str] = set()
-            for pool in pools.values():
-                for item in pool:
-                    done = getattr(item, "done", None)
-                    if done is None or not done() or item.cancelled() or item.exception():
-                        continue
-                    kernel_id = item.result().get("kernel_id")
-                    if isinstance(kernel_id, str):
-                        ids.add(kernel_id)
+            for started in self._pool_results():
+                kernel_id = started.get("kernel_id")
+                if isinstance(kernel_id, str):
+                    ids.add(kernel_id)
             now = time.time()
             for kernel_id in self._was_pooled - ids:
                 if kernel_id in self._started:
@@ -540,6 +587,7 @@ def _kernel_manager_class(options: ServeOptions) -> type:
         async def _look_after(self) -> None:
             await self.release_unattended()
             self.refill_warm()
+            self._say_when_warm()
 
         def refill_warm(self) -> int:
             """Drop warm sessions that could not start (every slot was taken) and top the
@@ -786,6 +834,44 @@ def _safe_template_static_handler() -> type:
     return SafeTemplateStatic
 
 
+def _waiting_page_first(handler: type, boards: Sequence[Dashboard]) -> type:
+    """Voila's dashboard handler, answering a browser's visit with the waiting page first.
+
+    A request without :data:`PAGE_HEADER` gets ``waiting.html`` at once (no session
+    started); the page's own script then asks again with the header and gets the dashboard
+    from Voila, streamed while its session starts and runs the notebook, and shows it.
+    """
+    titles = {b.path.name: b.title for b in boards}
+
+    class WaitingPageFirst(handler):  # type: ignore[misc, valid-type]
+        async def get_generator(self, path: str | None = None) -> Any:
+            single = bool(getattr(self, "notebook_path", None))
+            if self.request.headers.get(PAGE_HEADER) == "1" or (single and path):
+                async for html in super().get_generator(path=path):
+                    yield html
+                return
+            self.set_header("Content-Type", "text/html")
+            self.set_header("Cache-Control", "no-cache, no-store, must-revalidate")
+            name = Path(self.notebook_path if single else (path or "")).name
+            yield self.render_template("waiting.html", title=titles.get(name, "snowprobe"),
+                                       page_header=PAGE_HEADER,
+                                       page_config={"snowprobe": {"caution": CAUTION_TEXT}})
+
+    return WaitingPageFirst
+
+
+def _replace_targets(router: Any, old: type, new: type) -> int:
+    """Route ``router``'s rules (and its nested routers') from handler ``old`` to ``new``."""
+    replaced = 0
+    for rule in getattr(router, "rules", []):
+        if rule.target is old:
+            rule.target = new
+            replaced += 1
+        else:
+            replaced += _replace_targets(rule.target, old, new)
+    return replaced
+
+
 def serve(options: ServeOptions) -> int:
     """Run the Voila server for ``options`` until Ctrl-C or SIGTERM; return the exit status."""
     check_port_free(options.host, options.port)
@@ -860,6 +946,12 @@ def serve(options: ServeOptions) -> int:
 
         app.settings["log_function"] = log_function
         app.transforms.append(_visitor_transform())
+        from voila.tornado.handler import TornadoVoilaHandler
+
+        if not _replace_targets(app.default_router, TornadoVoilaHandler,
+                                _waiting_page_first(TornadoVoilaHandler, boards)):
+            raise LauncherError("this Voila version routes dashboards differently; "
+                                "install the versions pinned in pyproject.toml")
 
     target = options.dashboard.path if options.dashboard else dashboards_dir()
     app = SnowprobeVoila(config=_voila_config(options, boards, token))

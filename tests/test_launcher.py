@@ -9,6 +9,7 @@ import re
 import socket
 import subprocess
 import sys
+import time
 import urllib.error
 import urllib.request
 from pathlib import Path
@@ -22,7 +23,13 @@ from snowprobe_widgets.cautions import CAUTION_TEXT
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT / "tests" / "browser"))
 
-from harness import Launcher, http_status, launcher_command, wait_until  # noqa: E402
+from harness import (  # noqa: E402
+    DASHBOARD_REQUEST,
+    Launcher,
+    http_status,
+    launcher_command,
+    wait_until,
+)
 
 
 def run(*args: str, timeout: float = 60) -> subprocess.CompletedProcess:
@@ -160,10 +167,12 @@ def test_page_config_hook_carries_the_cautions_and_the_list():
 # ------------------------------------------------------------------ serving over plain HTTP
 
 
-def _get(url: str) -> tuple[int, str]:
-    """Status and body of a GET (a dashboard GET runs the whole notebook before it ends)."""
+def _get(url: str, headers: dict[str, str] | None = None) -> tuple[int, str]:
+    """Status and body of a GET (a dashboard GET with :data:`DASHBOARD_REQUEST` runs the
+    whole notebook before it ends)."""
     try:
-        with urllib.request.urlopen(url, timeout=120) as reply:
+        request = urllib.request.Request(url, headers=headers or {})
+        with urllib.request.urlopen(request, timeout=120) as reply:
             return reply.status, reply.read().decode("utf-8", "replace")
     except urllib.error.HTTPError as exc:
         return exc.code, exc.read().decode("utf-8", "replace")
@@ -207,12 +216,28 @@ def test_remote_serving_refuses_visitors_without_the_token(remote_server):
     assert status == 200 and "data-sp-dashboard" in body
 
 
+def test_a_visit_gets_the_waiting_page_first_and_it_starts_no_session(remote_server):
+    # a browser's visit gets a small finished page at once; its script asks for the
+    # dashboard (with launcher.PAGE_HEADER), and only that request starts a session
+    token = _token(remote_server)
+    url = f"{remote_server.base_url}voila/render/materials.ipynb?token={token}"
+    before = set(remote_server.kernel_processes())
+    status, body = _get(url)
+    assert status == 200
+    assert f'data-sp-waiting="{launcher.PAGE_HEADER}"' in body
+    assert CAUTION_TEXT in body
+    assert "jupyter-config-data" not in body
+    time.sleep(2.0)  # a session started by this GET would be running by now
+    assert set(remote_server.kernel_processes()) == before
+
+
 def test_sessions_beyond_the_limit_get_a_busy_page(remote_server):
     token = _token(remote_server)
     url = f"{remote_server.base_url}voila/render/materials.ipynb?token={token}"
-    status, first = _get(url)  # starts the one allowed kernel (it stays until culled)
+    # starts the one allowed kernel (it stays until culled)
+    status, first = _get(url, DASHBOARD_REQUEST)
     assert status == 200 and "jupyter-config-data" in first
-    status, second = _get(url)
+    status, second = _get(url, DASHBOARD_REQUEST)
     assert status == 503
     assert "All dashboard sessions are in use" in second
     assert "limit" in second and "reload" in second.lower()
@@ -226,7 +251,8 @@ def test_sessions_beyond_the_limit_get_a_busy_page(remote_server):
 def test_ctrl_c_stops_the_server_and_its_kernels(tmp_path):
     server = Launcher(args=["materials"], workdir=tmp_path)
     # single-dashboard mode: the root is the dashboard, so this GET starts a kernel
-    wait_until(lambda: http_status(server.base_url) == 200, 90, "dashboard served")
+    wait_until(lambda: http_status(server.base_url, headers=DASHBOARD_REQUEST) == 200, 90,
+               "dashboard served")
     assert f"open http://127.0.0.1:{server.port}/" in server.log()
     assert "token" not in server.log()  # loopback: no token, no warning
     kernels = wait_until(server.kernel_processes, 30, "a kernel running")
@@ -340,13 +366,13 @@ def test_a_page_never_connected_is_released_and_a_reload_frees_the_old_session(
         token_server):
     import http.cookiejar
     import resource
-    import time
 
     token = _token(token_server)
     url = f"{token_server.base_url}voila/render/materials.ipynb?token={token}"
     browser = urllib.request.build_opener(
         urllib.request.HTTPCookieProcessor(http.cookiejar.CookieJar()))
-    with browser.open(url, timeout=180) as reply:  # a GET without a browser behind it
+    page = urllib.request.Request(url, headers=DASHBOARD_REQUEST)
+    with browser.open(page, timeout=180) as reply:  # a GET without a browser behind it
         first = re.search(r'"kernelId": "([0-9a-f-]{36})"', reply.read().decode()).group(1)
     assert _alive(token_server, token, first)
     # the kernel's address space is bounded: 600 MB of work + the base allowance
@@ -354,7 +380,7 @@ def test_a_page_never_connected_is_released_and_a_reload_frees_the_old_session(
     soft, hard = resource.prlimit(process.pid, resource.RLIMIT_AS)
     assert soft == hard == (600 + launcher.KERNEL_BASE_ADDRESS_SPACE_MB) * 2**20
     # the same browser loads the page again: its unconnected first session is freed
-    with browser.open(url, timeout=180) as reply:
+    with browser.open(page, timeout=180) as reply:
         second = re.search(r'"kernelId": "([0-9a-f-]{36})"', reply.read().decode()).group(1)
     assert _alive(token_server, token, second)
     assert not _alive(token_server, token, first)
@@ -376,3 +402,66 @@ def test_warm_sessions_come_from_the_session_cap_or_are_refused_beyond_it():
     with pytest.raises(launcher.LauncherError, match=r"--warm 4 .* 20 sessions .* "
                                                      r"--max-sessions 15"):
         launcher.warm_sessions(4, 15, 5)
+
+
+def test_warm_sessions_are_counted_ready_when_their_notebook_has_run(capsys):
+    import asyncio
+    import threading
+
+    options = launcher.ServeOptions(dashboard=None, host="127.0.0.1", port=0, idle_s=600.0,
+                                    max_sessions=4, warm=2, open_browser=False,
+                                    workdir=Path("."), verbose=False)
+
+    async def check() -> None:
+        loop = asyncio.get_running_loop()
+
+        def done(value=None, error=None):
+            future = loop.create_future()
+            if error is None:
+                future.set_result(value)
+            else:
+                future.set_exception(error)
+            return future
+
+        manager = launcher._kernel_manager_class(options)()
+        running = loop.create_future()  # a notebook still running
+        broken = done(error=RuntimeError("notebook stopped"))
+        broken.exception()  # retrieved: no warning at exit
+        starting = loop.create_future()  # a kernel still starting (no result yet)
+        manager._pools = {"design.ipynb": [
+            done({"kernel_id": "a", "task": done(("rendered", None))}),
+            done({"kernel_id": "b", "task": running}),
+            done({"kernel_id": "c", "task": broken}),
+            starting]}
+        assert manager.warm_ready() == 1
+        manager._say_when_warm()
+        assert capsys.readouterr().out == ""  # 1 of 2 is not all
+        running.set_result(("rendered", None))
+        assert manager.warm_ready() == 2
+        manager._say_when_warm()
+        manager._say_when_warm()  # said once, not at every look
+        said = capsys.readouterr().out
+        assert said == f"snowprobe: 2 {launcher.WARM_READY_SAYS}\n"
+        manager._pools["design.ipynb"].pop(0)  # a visitor took one: said again when refilled
+        manager._say_when_warm()
+        manager._pools["design.ipynb"].insert(0, done({"kernel_id": "d",
+                                                       "task": done(("rendered", None))}))
+        manager._say_when_warm()
+        assert capsys.readouterr().out == said
+        starting.cancel()
+
+    # in a thread of its own: during the browser tests Playwright's sync API keeps an event
+    # loop running in the main thread, where asyncio.run refuses to start
+    failed: list[BaseException] = []
+
+    def run() -> None:
+        try:
+            asyncio.run(check())
+        except BaseException as exc:  # handed to the test's thread
+            failed.append(exc)
+
+    worker = threading.Thread(target=run)
+    worker.start()
+    worker.join()
+    if failed:
+        raise failed[0]

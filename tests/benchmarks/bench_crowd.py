@@ -49,10 +49,9 @@ from harness import (  # noqa: E402
     dashboard_url,
 )
 
-DEADLINE_S = 180.0
+from snowprobe_widgets.launcher import WARM_READY_SAYS  # noqa: E402
 
-#: CPU seconds a design kernel has spent once it ran its notebook (about 3 measured).
-WARM_KERNEL_CPU_S = 2.0
+DEADLINE_S = 180.0
 
 IMPORT_STEPS = [
     ("python + psutil", ""),
@@ -153,29 +152,33 @@ def _memory(server: Launcher) -> dict:
 
 
 def _wait_warm(server: Launcher, count: int) -> float:
-    """Wait until ``count`` kernels run and have gone quiet (the notebooks ran); seconds."""
-    start = time.perf_counter()
-    while len(server.kernel_processes()) < count:
-        if time.perf_counter() - start > DEADLINE_S:
-            raise RuntimeError(f"{count} warm sessions not started in {DEADLINE_S:.0f} s")
-        time.sleep(1.0)
+    """Wait until the launcher says its ``count`` warm sessions are ready; seconds.
+
+    The launcher prints that line when every pooled session's notebook has run to the
+    end. (A wait on the kernels' CPU time, used before, failed when a kernel spent less
+    than its threshold: a kernel with lighter imports never looked "ready".)
+    """
     import psutil
 
-    while True:
-        kernels = list(server.kernel_processes().values())
-        try:
-            # a kernel that ran its notebook has spent seconds of CPU (imports, first
-            # picture) and then goes quiet; a starved one is quiet too, but has not spent
-            spent = min((sum(k.cpu_times()[:2]) for k in kernels), default=0.0)
-            busy = sum(k.cpu_percent(1.0) for k in kernels)
-        except psutil.NoSuchProcess:  # a session was replaced meanwhile: look again
-            continue
-        if len(kernels) >= count and spent >= WARM_KERNEL_CPU_S and busy <= 5.0 * len(kernels):
-            return time.perf_counter() - start
+    start = time.perf_counter()
+    said = f"snowprobe: {count} {WARM_READY_SAYS}"
+    while not any(line.startswith(said) for line in list(server.output)):
+        if server.process.poll() is not None:
+            raise RuntimeError(f"the launcher stopped:\n{server.log()}")
         if time.perf_counter() - start > 2 * DEADLINE_S:
-            raise RuntimeError(f"{count} warm sessions not ready after {2 * DEADLINE_S:.0f} s: "
-                               f"{len(kernels)} kernels, least CPU spent {spent:.1f} s "
-                               f"(ready at {WARM_KERNEL_CPU_S:g}), busy {busy:.0f} %")
+            kernels = list(server.kernel_processes().values())
+            spent = []
+            for kernel in kernels:
+                try:
+                    spent.append(sum(kernel.cpu_times()[:2]))
+                except psutil.Error:
+                    continue
+            raise RuntimeError(
+                f"{count} warm sessions not ready after {2 * DEADLINE_S:.0f} s: "
+                f"{len(kernels)} kernels running, CPU seconds spent "
+                f"{min(spent, default=0):.1f}-{max(spent, default=0):.1f}")
+        time.sleep(0.5)
+    return time.perf_counter() - start
 
 
 def _run(count: int, warm: bool) -> tuple[list, dict]:
@@ -231,9 +234,10 @@ def _report(count: int, warm: bool, started: str, results: list, memory: dict,
           + (f" = {max(seconds) / baseline:.1f} x the single visitor" if baseline and
              seconds else ""))
     cpu = memory["cpu_s"]
-    print(f"  CPU seconds during the crowd: browsers {cpu['browsers']:.0f}, kernels "
-          f"{cpu['kernels']:.0f}, server {cpu['server']:.0f} "
-          f"(per page {sum(cpu.values()) / count:.1f})")
+    print(f"  CPU seconds during the crowd: browsers {cpu['browsers']:.1f}, kernels "
+          f"{cpu['kernels']:.1f}, server {cpu['server']:.1f} "
+          f"(per page {sum(cpu.values()) / count:.1f}, of which the browser "
+          f"{cpu['browsers'] / count:.1f})")
     for why in failed:
         print(f"  not drawn: {why}")
     kernels = memory["kernels"]

@@ -22,6 +22,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from snowprobe_widgets.launcher import PAGE_HEADER
+
 #: Debian's Chromium; Playwright's own browser download is never used.
 CHROMIUM = Path("/usr/bin/chromium")
 
@@ -104,10 +106,16 @@ class _NoRedirect(urllib.request.HTTPRedirectHandler):
 _OPENER = urllib.request.build_opener(_NoRedirect)
 
 
-def http_status(url: str, timeout_s: float = 5.0) -> int:
+#: Headers of a GET for a dashboard itself: without them a dashboard address answers with
+#: the waiting page (``launcher.PAGE_HEADER``), which starts no session.
+DASHBOARD_REQUEST: dict[str, str] = {PAGE_HEADER: "1"}
+
+
+def http_status(url: str, timeout_s: float = 5.0, headers: dict[str, str] | None = None) -> int:
     """HTTP status of a GET, redirects not followed (0 when nothing answers)."""
     try:
-        with _OPENER.open(url, timeout=timeout_s) as reply:
+        request = urllib.request.Request(url, headers=headers or {})
+        with _OPENER.open(request, timeout=timeout_s) as reply:
             return int(reply.status)
     except urllib.error.HTTPError as exc:
         return int(exc.code)

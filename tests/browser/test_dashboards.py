@@ -21,7 +21,7 @@ from harness import (
 )
 
 from snowprobe_widgets.cautions import CAUTION_TEXT
-from snowprobe_widgets.launcher import find_dashboards
+from snowprobe_widgets.launcher import PAGE_HEADER, find_dashboards
 from snowprobe_widgets.scenario_files import loads
 
 #: Time limit for a first render with one visitor (the goal is under 5 s; CI machines vary).
@@ -117,6 +117,18 @@ def test_no_request_leaves_the_server(opened, server, name):
     assert record.foreign_requests(server.base_url) == []
 
 
+@pytest.mark.parametrize("name", DASHBOARDS)
+def test_no_mathjax_is_loaded(opened, name):
+    # the widget library hands every label to the page's LaTeX typesetter; the launcher's
+    # page configuration names the template's no-math.js for it, so MathJax (about 880 kB
+    # of script per visitor) is never loaded
+    page, record, _seconds = opened(name)
+    asked = [url.split("?")[0].rsplit("/", 1)[-1] for url in record.requests]
+    assert "no-math.js" in asked
+    assert page.evaluate("() => Object.keys(window.MathJax || {}).sort().join()") == \
+        "Ajax,Hub,InputJax"
+
+
 def _set_depth(page, value_m: float) -> None:
     """Type a depth into the person-depth slider's readout, as a person would."""
     readout = page.locator(".sp-person-depth .widget-readout")
@@ -210,6 +222,10 @@ def test_a_page_that_arrives_without_its_dashboard_says_so_and_reloads(server, b
         served = []
 
         def strip_first(route):
+            # the waiting page comes first; the dashboard answers its request with the header
+            if route.request.headers.get(PAGE_HEADER.lower()) != "1":
+                route.continue_()
+                return
             first = not served
             served.append(route.request.url)  # counted when asked, before the long reply
             response = route.fetch(timeout=240_000)
@@ -241,6 +257,12 @@ def test_a_waiting_page_counts_seconds_and_runs_no_animation(server, browser):
         page = context.new_page()
         page.goto(dashboard_url(server.base_url, "plan"), wait_until="commit")
         page.wait_for_selector("#sp-loading", state="attached", timeout=60_000)
+        # the page that waits is a finished document (a document still loading keeps a
+        # browser busy for as long as it waits): the dashboard comes by a fetch
+        page.wait_for_function(
+            "() => document.readyState === 'complete' && !!document.body"
+            " && !!document.querySelector('[data-sp-waiting]')"
+            " && document.body.getAttribute('data-sp-ready') !== 'true'", timeout=30_000)
         running = page.evaluate(
             "() => document.getAnimations().filter(a => a.playState === 'running').length")
         assert running == 0
@@ -248,8 +270,10 @@ def test_a_waiting_page_counts_seconds_and_runs_no_animation(server, browser):
             "() => { const c = document.getElementById('sp-loading-clock');"
             " return !document.getElementById('sp-loading') ||"
             " (c && /^Waiting \\d+ s\\.$/.test(c.textContent)); }", timeout=60_000)
-        page.wait_for_function("() => document.body.getAttribute('data-sp-ready') === 'true'",
-                               timeout=120_000)
+        page.wait_for_function(  # the body is briefly absent while the dashboard replaces
+            # the waiting page
+            "() => !!document.body && document.body.getAttribute('data-sp-ready') === 'true'",
+            timeout=120_000)
         assert page.evaluate(
             "() => document.getAnimations().filter(a => a.playState === 'running').length") == 0
     finally:

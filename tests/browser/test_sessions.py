@@ -12,6 +12,7 @@ import time
 
 import pytest
 from harness import (
+    DASHBOARD_REQUEST,
     READY_JS,
     STATIC_PATH,
     STATUS_SELECTOR,
@@ -23,7 +24,7 @@ from harness import (
     wait_until,
 )
 
-from snowprobe_widgets.launcher import NEVER_CONNECTED_S, RELEASE_CHECK_S
+from snowprobe_widgets.launcher import NEVER_CONNECTED_S, RELEASE_CHECK_S, WARM_READY_SAYS
 
 IDLE_MINUTES = 0.15
 #: The launcher checks for idle kernels every idle/4 seconds (at least 1 s).
@@ -154,8 +155,11 @@ def test_warm_sessions_serve_drawn_pages_and_stay_until_taken(tmp_path, browser)
                         workdir=tmp_path)
     try:
         launcher.wait_ready(path=STATIC_PATH)
-        wait_until(lambda: len(launcher.kernel_processes()) == 2, 120, "two warm sessions")
+        # the launcher says when its warm sessions have run their notebooks
+        wait_until(lambda: f"snowprobe: 2 {WARM_READY_SAYS}" in launcher.log(), 120,
+                   "two warm sessions ready")
         warm_ids = set(launcher.kernel_processes())
+        assert len(warm_ids) == 2
         time.sleep(NEVER_CONNECTED_S + 2 * RELEASE_CHECK_S)  # a grace period must pass
         assert set(launcher.kernel_processes()) == warm_ids
         context = browser.new_context(viewport={"width": 1500, "height": 1100})
@@ -170,7 +174,8 @@ def test_warm_sessions_serve_drawn_pages_and_stay_until_taken(tmp_path, browser)
                                        timeout=120_000, polling=250)
             assert {kernel_id_of(p) for p in pages} == warm_ids
             assert launcher.log().count("Using pre-heated kernel") == 2
-            assert http_status(launcher.base_url, timeout_s=60.0) == 503
+            assert http_status(launcher.base_url, timeout_s=60.0,
+                               headers=DASHBOARD_REQUEST) == 503
         finally:
             context.close()
     finally:
