@@ -855,6 +855,7 @@ def _waiting_page_first(handler: type, boards: Sequence[Dashboard]) -> type:
             name = Path(self.notebook_path if single else (path or "")).name
             yield self.render_template("waiting.html", title=titles.get(name, "snowprobe"),
                                        page_header=PAGE_HEADER,
+                                       deadline_s=f"{draw_deadline_s():g}",
                                        page_config={"snowprobe": {"caution": CAUTION_TEXT}})
 
     return WaitingPageFirst

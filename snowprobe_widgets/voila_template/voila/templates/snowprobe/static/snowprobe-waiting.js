@@ -77,8 +77,52 @@
     }, 20000);
   }
 
+  // A dashboard that has not come within the server's deadline (a session that never
+  // started or never ran its notebook while a crowd arrived) is asked for again by
+  // loading this page again, a few times at most; the count is shared with the
+  // dashboard's own first-draw watch (snowprobe-page.js), which clears it once drawn.
+  var MAX_RETRIES = 3;
+  var RETRY_KEY = "snowprobe-retries:" + window.location.pathname;
+  var deadline = Number(panel.getAttribute("data-sp-deadline")) || 120;
+
+  function late() {
+    var n;
+    try {
+      n = Number(window.sessionStorage.getItem(RETRY_KEY) || "0");
+    } catch (err) {
+      n = MAX_RETRIES;
+    }
+    var box = document.getElementById("sp-notice");
+    var text = "The dashboard has not come within " + deadline + " s (the server is busy).";
+    box.hidden = false;
+    if (n >= MAX_RETRIES) {
+      document.body.setAttribute("data-sp-draw", "failed");
+      box.querySelector(".sp-notice-text").textContent = text + " Loading it again did " +
+        "not help: wait a minute, then reload the page.";
+      return;
+    }
+    try {
+      window.sessionStorage.setItem(RETRY_KEY, String(n + 1));
+    } catch (err) {
+      return;
+    }
+    document.body.setAttribute("data-sp-draw", "retrying");
+    box.querySelector(".sp-notice-text").textContent = text + " Loading it again by " +
+      "itself (attempt " + (n + 2) + " of " + (MAX_RETRIES + 1) + ").";
+    window.setTimeout(function () {
+      window.location.reload();
+    }, 1500);
+  }
+
+  var watch = window.setTimeout(late, 1000 * deadline);
   var headers = {};
   headers[header] = "1";
   window.fetch(window.location.href, { headers: headers, credentials: "same-origin",
-    cache: "no-store" }).then(read).then(show, unreachable);
+    cache: "no-store" }).then(read).then(function (html) {
+    window.clearTimeout(watch);
+    show(html);
+  }, function () {
+    window.clearTimeout(watch);
+    unreachable();
+  });
 })();
