@@ -698,13 +698,20 @@ def test_served_views_follow_the_picture_once_per_burst_of_moves() -> None:
         await asyncio.sleep(0.2)
         assert len(calls) == 2  # the flushed update does not run again
 
-    # in a thread of its own: Playwright's sync API (browser tests in the same session)
-    # keeps an event loop running in the main thread
+    _run_in_own_loop(moves)
+
+
+def _run_in_own_loop(coroutine_function) -> None:
+    """Run ``coroutine_function()`` to its end in an event loop of its own, in a thread of
+    its own: Playwright's sync API (browser tests in the same session) keeps an event loop
+    running in the main thread. An assertion inside is raised here."""
+    import asyncio
+
     failures: list[BaseException] = []
 
     def run() -> None:
         try:
-            asyncio.run(moves())
+            asyncio.run(coroutine_function())
         except BaseException as exc:  # an assertion inside, reported below
             failures.append(exc)
 
@@ -735,17 +742,4 @@ def test_a_served_kernel_gives_freed_memory_back_after_an_idle_wait(monkeypatch)
         await asyncio.sleep(0.3)
         assert released == [1]  # once, after the last move's idle wait
 
-    failures: list[BaseException] = []
-
-    def run() -> None:  # own thread: see the test above
-        try:
-            asyncio.run(moves())
-        except BaseException as exc:
-            failures.append(exc)
-
-    worker = threading.Thread(target=run)
-    worker.start()
-    worker.join(60)
-    assert not worker.is_alive()
-    if failures:
-        raise failures[0]
+    _run_in_own_loop(moves)
