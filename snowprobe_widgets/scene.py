@@ -224,39 +224,37 @@ class Radar:
                        "a lower centre frequency.")
 
     def _check_pulse_parameters(self) -> None:
+        """Refuse a setting the pulse does not take, a value not of its default's type, or
+        one the pulse itself refuses, naming ``pulse_parameters``."""
         from . import pulses
 
+        if not self.pulse_parameters:
+            return
+        f = declaration("radar", "pulse_parameters")
         accepted = pulses.pulse_parameters(self.pulse)
         unknown = [k for k, _ in self.pulse_parameters if k not in accepted]
+        if unknown:
+            names = ", ".join(f"{k} (default {v!r})" for k, v in accepted.items()) or "none"
+            raise FieldError(
+                f"pulse_parameters: pulse {self.pulse!r} has no parameter {unknown[0]!r}; "
+                f"its parameters: {names}", field=f, value=self.pulse_parameters,
+                screen=f"Pulse parameters: the {self.pulse.replace('_', ' ')} pulse has no "
+                       f"setting {unknown[0]}; it takes: {names}.")
         for key, value in self.pulse_parameters:
-            want = _parameter_type(accepted.get(key))
-            if not unknown and want is not None and not isinstance(value, want[0]):
+            want = _parameter_type(accepted[key])
+            if want is not None and not isinstance(value, want[0]):
                 raise FieldError(
                     f"pulse_parameters: {key} = {value!r} must be {want[1]} (its default is "
-                    f"{accepted[key]!r})", field=declaration("radar", "pulse_parameters"),
-                    value=self.pulse_parameters,
+                    f"{accepted[key]!r})", field=f, value=self.pulse_parameters,
                     screen=f"Pulse parameters: {key} takes {want[1]} (default "
                            f"{accepted[key]!r}), not {value!r}.")
-        if not unknown:
-            if self.pulse_parameters:  # the values, as the pulse itself checks them
-                try:
-                    self.make_pulse()
-                except (TypeError, ValueError) as exc:
-                    if isinstance(exc, FieldError):
-                        raise
-                    raise FieldError(
-                        f"pulse_parameters: {exc}", field=declaration("radar",
-                                                                      "pulse_parameters"),
-                        value=self.pulse_parameters, screen=f"Pulse parameters: {exc}.") \
-                        from None
-            return
-        names = ", ".join(f"{k} (default {v!r})" for k, v in accepted.items()) or "none"
-        f = declaration("radar", "pulse_parameters")
-        raise FieldError(
-            f"pulse_parameters: pulse {self.pulse!r} has no parameter {unknown[0]!r}; its "
-            f"parameters: {names}", field=f, value=self.pulse_parameters,
-            screen=f"Pulse parameters: the {self.pulse.replace('_', ' ')} pulse has no "
-                   f"setting {unknown[0]}; it takes: {names}.")
+        try:  # the values, as the pulse itself checks them
+            self.make_pulse()
+        except FieldError:
+            raise
+        except (TypeError, ValueError) as exc:
+            raise FieldError(f"pulse_parameters: {exc}", field=f, value=self.pulse_parameters,
+                             screen=f"Pulse parameters: {exc}.") from None
 
     @property
     def n_samples(self) -> int:
